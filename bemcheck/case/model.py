@@ -1,0 +1,223 @@
+"""The case: one layout of bodies, sources and observers, as frozen dataclasses.
+
+Everything is in SI units (m, s, kg, Hz); angles are in degrees here because
+they come straight from the case file, and are turned into radians only where
+the physics uses them.  Positions are 3-tuples in the scene frame.
+"""
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+Vec3 = tuple[float, float, float]
+
+
+@dataclass(frozen=True)
+class Medium:
+    """The fluid the sound travels in.
+
+    Defaults are dry air at 20 °C and 101.325 kPa from the ideal-gas law
+    (R = 287.05 J/(kg K), gamma = 1.4): density 1.204 kg/m^3 and a speed of
+    sound of 343.2 m/s, rounded to the 343 m/s that handbooks quote
+    (e.g. Kinsler, Frey, Coppens & Sanders, Fundamentals of Acoustics, 4th ed.,
+    2000, appendix A10; from memory).
+    """
+
+    speed_of_sound: float = 343.0
+    density: float = 1.204
+
+
+@dataclass(frozen=True)
+class MeshSettings:
+    """How fine the BEM mesh is: elements per wavelength at each band's top frequency."""
+
+    elements_per_wavelength: float = 6.0
+    band_octaves: float = 1.0
+
+
+@dataclass(frozen=True)
+class Bell:
+    """A Bessel-horn bell of revolution, mouth at the body origin opening toward +z.
+
+    r(x) = b (x + x0)^(-flare), x measured from the mouth toward the throat,
+    fitted so r(0) = mouth_radius and r(length) = throat_radius.
+    """
+
+    mouth_radius: float
+    throat_radius: float
+    length: float
+    flare: float
+    rim_radius: float
+    cap_depth: float = 0.0
+
+
+@dataclass(frozen=True)
+class Box:
+    """A loudspeaker cabinet centred on the body origin; the driver face looks along +z.
+
+    ``size`` is (depth, width, height): depth along the body axis.
+    """
+
+    size: Vec3
+    edge_radius: float = 0.0
+
+
+@dataclass(frozen=True)
+class Sphere:
+    """A rigid sphere centred on the body origin (a listener's head, a validation body)."""
+
+    radius: float
+
+
+@dataclass(frozen=True)
+class MeshFile:
+    """A closed surface mesh brought from CAD; ``scale`` turns file units into metres."""
+
+    path: Path
+    scale: float = 1.0
+
+
+Shape = Bell | Box | Sphere | MeshFile
+
+
+@dataclass(frozen=True)
+class Body:
+    """A rigid scatterer placed in the scene: body origin at ``at``, body +z along ``axis``."""
+
+    name: str
+    kind: str
+    shape: Shape
+    at: Vec3 = (0.0, 0.0, 0.0)
+    axis: Vec3 = (0.0, 0.0, 1.0)
+
+
+@dataclass(frozen=True)
+class Spectrum:
+    """A played note: fundamental [Hz] and the SPL at 1 m of each harmonic [dB re 20 µPa]."""
+
+    fundamental: float
+    spl_at_1m: tuple[float, ...]
+
+    @property
+    def harmonics(self):
+        """Frequencies of the harmonics [Hz], (n,) tuple."""
+        return tuple(self.fundamental * (n + 1) for n in range(len(self.spl_at_1m)))
+
+
+@dataclass(frozen=True)
+class Source:
+    """A monopole (or a piston on a bell's mouth cap) of the layout.
+
+    ``strength`` is the volume-velocity amplitude [m^3/s] of a primary; control
+    strengths are computed.  ``position`` is resolved at load time from ``at``
+    or from the body named by ``on``.
+    """
+
+    name: str
+    role: str
+    position: Vec3
+    on: str | None = None
+    strength: float | None = None
+    spectrum: Spectrum | None = None
+    radiator: str = "point"
+    driver: str | None = None
+    position_tolerance: float = 0.0
+
+
+@dataclass(frozen=True)
+class FarField:
+    """Far-field directions: a circle in ``plane`` every ``step_deg``, or a Lebedev sphere of ``degree``."""
+
+    plane: str = "xy"
+    step_deg: float = 5.0
+    sphere: bool = False
+    degree: int = 0
+
+
+@dataclass(frozen=True)
+class ObserverPoint:
+    """A named field point, e.g. a listener's or a player's ear [m]."""
+
+    name: str
+    at: Vec3
+
+
+@dataclass(frozen=True)
+class Observers:
+    far_field: FarField = field(default_factory=FarField)
+    points: tuple[ObserverPoint, ...] = ()
+
+
+@dataclass(frozen=True)
+class Sector:
+    """An azimuth range [deg] in the observers' plane; wraps through 360."""
+
+    name: str
+    from_deg: float
+    to_deg: float
+
+
+@dataclass(frozen=True)
+class Control:
+    """What the control sources are optimised for.
+
+    objective "power": minimum total radiated power.
+    objective "sector": minimum mean-square far-field pressure in ``sector``,
+    with ``effort`` weighting |q_c|^2 against it.
+    objective "delay": each control source fed with -q_p/N_c delayed by
+    ``delay_distance``/c (a cardioid-like pattern with its null toward the controls).
+    """
+
+    objective: str = "power"
+    sector: Sector | None = None
+    delay_distance: float | None = None
+    effort: float = 0.0
+
+
+@dataclass(frozen=True)
+class Tolerance:
+    """How far the monopole model may depart from the scattered field and still be trusted."""
+
+    level_db: float = 1.0
+    phase_deg: float = 15.0
+    sectors: tuple[Sector, ...] = (Sector("all", 0.0, 360.0),)
+
+
+@dataclass(frozen=True)
+class Case:
+    """One layout to check, as read from a case file.
+
+    Examples
+    --------
+    >>> import bemcheck
+    >>> case = bemcheck.load_case(bemcheck.example_path("free"))  # doctest: +SKIP
+    >>> case.frequencies[:2]  # doctest: +SKIP
+    (100.0, 125.99...)
+    """
+
+    title: str
+    frequencies: tuple[float, ...]
+    sources: tuple[Source, ...]
+    medium: Medium = field(default_factory=Medium)
+    mesh: MeshSettings = field(default_factory=MeshSettings)
+    bodies: tuple[Body, ...] = ()
+    observers: Observers = field(default_factory=Observers)
+    control: Control = field(default_factory=Control)
+    tolerance: Tolerance = field(default_factory=Tolerance)
+    notes: str = ""
+    path: Path | None = None
+    text: str = ""
+
+    @property
+    def primaries(self):
+        return tuple(s for s in self.sources if s.role == "primary")
+
+    @property
+    def controls(self):
+        return tuple(s for s in self.sources if s.role == "control")
+
+    def body(self, name):
+        """The body called ``name``; KeyError if there is none."""
+        for b in self.bodies:
+            if b.name == name:
+                return b
+        raise KeyError(name)
