@@ -169,6 +169,7 @@ class Control:
 
     objective: str = "power"
     sector: Sector | None = None
+    sector_plane: str = "xy"
     delay_distance: float | None = None
     effort: float = 0.0
 

@@ -1,0 +1,355 @@
+"""Read a case file (TOML) into a validated :class:`~bemcheck.case.model.Case`."""
+
+import math
+import tomllib
+from pathlib import Path
+
+import numpy as np
+
+from bemcheck.case.model import (
+    Bell,
+    Body,
+    Box,
+    Case,
+    Control,
+    FarField,
+    MeshFile,
+    MeshSettings,
+    Medium,
+    Observers,
+    ObserverPoint,
+    Sector,
+    Source,
+    Spectrum,
+    Sphere,
+    Tolerance,
+)
+from bemcheck.case.reader import TableReader
+from bemcheck.errors import CaseError
+from bemcheck.frames import place
+from bemcheck.observers import PLANES
+
+BODY_KINDS = ("bell", "box", "sphere", "file")
+ROLES = ("primary", "control")
+OBJECTIVES = ("power", "sector", "delay")
+# A source placed with `on` sits this far in front of the face it is on [m]
+# (common practice, no source: clear of the surface by more than the
+# near-field quadrature error of the coarsest mesh we build).
+STANDOFF = 0.02
+# Sources closer than this are one source to any model [m].
+COINCIDENT = 1e-6
+
+
+def load_case(path):
+    """Read and validate a case file.
+
+    Parameters
+    ----------
+    path : str or Path
+        A TOML case file.
+
+    Returns
+    -------
+    Case
+
+    Raises
+    ------
+    CaseError
+        The file cannot be read or breaks a rule; the message names the
+        file, the key path and what was expected.
+
+    Examples
+    --------
+    >>> import bemcheck
+    >>> case = bemcheck.load_case(bemcheck.example_path("free-pair"))
+    >>> [s.name for s in case.sources]
+    ['horn', 'ctl']
+    """
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise CaseError(f"{path}: case file not found") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise CaseError(f"{path}: cannot read the case file ({exc})") from None
+    return parse_case(text, path)
+
+
+def parse_case(text, path=Path("<case>")):
+    """Validate case-file ``text``; ``path`` names it in messages and anchors relative paths."""
+    file = str(path)
+    try:
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise CaseError(f"{file}: not valid TOML: {exc}") from None
+    top = TableReader(doc, "", file)
+
+    head = top.sub("case")
+    title = head.string("title")
+    notes = head.raw("notes", "")
+    if not isinstance(notes, str):
+        head.fail("notes", "a string", notes)
+    head.done()
+
+    medium = _medium(top.sub("medium", None))
+    frequencies = _frequencies(top.sub("frequencies"))
+    mesh = _mesh(top.sub("mesh", None))
+    bodies = tuple(_body(r, path) for r in top.subs("body"))
+    _unique([b.name for b in bodies], "body", file)
+    by_name = {b.name: b for b in bodies}
+    sources = tuple(_source(r, by_name) for r in top.subs("source", min_length=1))
+    _unique([s.name for s in sources], "source", file)
+    _check_sources(sources, file)
+    observers = _observers(top.sub("observers", None))
+    control = _control(top.sub("control", None), sources, file)
+    tolerance = _tolerance(top.sub("tolerance", None))
+    top.done()
+    return Case(
+        title=title,
+        notes=notes,
+        frequencies=frequencies,
+        sources=sources,
+        medium=medium,
+        mesh=mesh,
+        bodies=bodies,
+        observers=observers,
+        control=control,
+        tolerance=tolerance,
+        path=Path(path),
+        text=text,
+    )
+
+
+def _medium(r):
+    if r is None:
+        return Medium()
+    m = Medium(
+        speed_of_sound=r.number("speed_of_sound", Medium.speed_of_sound, positive=True),
+        density=r.number("density", Medium.density, positive=True),
+    )
+    r.done()
+    return m
+
+
+def _frequencies(r):
+    if r.has("list"):
+        values = r.numbers("list", positive=True)
+        for other in ("start", "stop", "per_octave"):
+            if r.has(other):
+                r.fail(other, "either `list` or `start`/`stop`/`per_octave`, not both")
+        r.done()
+        if len(set(values)) != len(values):
+            r.fail("list", "distinct frequencies", list(values))
+        return tuple(sorted(values))
+    start = r.number("start", positive=True)
+    stop = r.number("stop", positive=True)
+    per_octave = r.number("per_octave", 3.0, positive=True)
+    r.done()
+    if stop < start:
+        r.fail("stop", f"a frequency ≥ start ({start:g} Hz)", stop)
+    n = int(math.floor(per_octave * math.log2(stop / start) + 1e-9))
+    return tuple(float(start * 2.0 ** (i / per_octave)) for i in range(n + 1))
+
+
+def _mesh(r):
+    if r is None:
+        return MeshSettings()
+    m = MeshSettings(
+        elements_per_wavelength=r.number("elements_per_wavelength", MeshSettings.elements_per_wavelength, low=4.0),
+        band_octaves=r.number("band_octaves", MeshSettings.band_octaves, positive=True),
+    )
+    r.done()
+    return m
+
+
+def _body(r, case_path):
+    name = r.string("name")
+    kind = r.string("kind", choices=BODY_KINDS)
+    at = r.vector("at", (0.0, 0.0, 0.0))
+    axis = r.vector("axis", (0.0, 0.0, 1.0), nonzero=True)
+    if kind == "bell":
+        shape = Bell(
+            mouth_radius=r.number("mouth_radius", positive=True),
+            throat_radius=r.number("throat_radius", positive=True),
+            length=r.number("length", positive=True),
+            flare=r.number("flare", positive=True),
+            rim_radius=r.number("rim_radius", positive=True),
+            cap_depth=r.number("cap_depth", 0.0, non_negative=True),
+        )
+        if shape.throat_radius >= shape.mouth_radius:
+            r.fail("throat_radius", f"less than mouth_radius ({shape.mouth_radius:g} m)", shape.throat_radius)
+        if shape.rim_radius >= shape.mouth_radius:
+            r.fail("rim_radius", f"less than mouth_radius ({shape.mouth_radius:g} m)", shape.rim_radius)
+        if shape.cap_depth >= shape.length:
+            r.fail("cap_depth", f"less than length ({shape.length:g} m)", shape.cap_depth)
+    elif kind == "box":
+        size = r.numbers("size", length=3, positive=True)
+        shape = Box(size=size, edge_radius=r.number("edge_radius", 0.0, non_negative=True))
+        if 2.0 * shape.edge_radius >= min(size):
+            r.fail("edge_radius", f"less than half the smallest side ({min(size) / 2:g} m)", shape.edge_radius)
+    elif kind == "sphere":
+        shape = Sphere(radius=r.number("radius", positive=True))
+    else:
+        file = Path(r.string("path"))
+        if not file.is_absolute():
+            file = Path(case_path).parent / file
+        shape = MeshFile(path=file, scale=r.number("scale", 1.0, positive=True))
+    r.done()
+    return Body(name=name, kind=kind, shape=shape, at=at, axis=axis)
+
+
+def _source(r, bodies):
+    name = r.string("name")
+    role = r.string("role", choices=ROLES)
+    on = r.string("on", None)
+    radiator = r.string("radiator", "point", choices=("point", "piston"))
+    if on is not None and on not in bodies:
+        r.fail("on", "the name of a body (" + ", ".join(bodies) + ")" if bodies else "a body, but the case has none", on)
+    at = r.vector("at", None)
+    if at is None and on is None:
+        r.fail("at", "a position [x, y, z] in m (or `on` naming a body)")
+    if radiator == "piston":
+        if role != "primary":
+            r.fail("radiator", "'point' for a control source (pistons are primaries)", radiator)
+        if on is None or bodies[on].kind != "bell":
+            r.fail("on", "the name of a bell (a piston sits on a bell's mouth cap)", on)
+    position = at if at is not None else _position_on(bodies[on], radiator)
+    strength = r.raw("strength", None)
+    spectrum_r = r.sub("spectrum", None)
+    if role == "control" and (strength is not None or spectrum_r is not None):
+        r.fail("strength", "no strength for a control source (control strengths are computed)")
+    spectrum = None
+    if spectrum_r is not None:
+        fundamental = spectrum_r.number("fundamental", positive=True)
+        levels = spectrum_r.numbers("spl_at_1m", min_length=1)
+        spectrum_r.done()
+        spectrum = Spectrum(fundamental, levels)
+    if strength is not None:
+        strength = r.check_number("strength", strength, positive=True)
+    if role == "primary" and strength is None and spectrum is None:
+        r.fail("strength", "a volume-velocity amplitude in m^3/s (or a [source.spectrum] table)")
+    driver = r.string("driver", None)
+    tolerance = r.number("position_tolerance", 0.0, non_negative=True)
+    r.done()
+    return Source(
+        name=name,
+        role=role,
+        position=tuple(float(v) for v in position),
+        on=on,
+        strength=strength,
+        spectrum=spectrum,
+        radiator=radiator,
+        driver=driver,
+        position_tolerance=tolerance,
+    )
+
+
+def _position_on(body, radiator):
+    """Where a source named ``on`` a body sits, in the scene frame [m]."""
+    if body.kind == "box":
+        local = (0.0, 0.0, body.shape.size[0] / 2.0 + STANDOFF)
+    elif body.kind == "bell":
+        local = (0.0, 0.0, 0.0 if radiator == "piston" else STANDOFF - body.shape.cap_depth)
+    elif body.kind == "sphere":
+        local = (0.0, 0.0, body.shape.radius + STANDOFF)
+    else:
+        raise CaseError(f"source on `{body.name}`: a file body has no known face; give `at`")
+    return place([local], body.at, body.axis)[0]
+
+
+def _check_sources(sources, file):
+    x = np.array([s.position for s in sources])
+    for i in range(len(sources)):
+        for j in range(i + 1, len(sources)):
+            if np.linalg.norm(x[i] - x[j]) < COINCIDENT:
+                raise CaseError(
+                    f"{file}: source[{j}].at: source '{sources[j].name}' coincides with "
+                    f"source '{sources[i].name}'; expected distinct positions"
+                )
+    if not any(s.role == "primary" for s in sources):
+        raise CaseError(f"{file}: source: expected at least one source with role = \"primary\"")
+
+
+def _observers(r):
+    if r is None:
+        return Observers()
+    ff = r.sub("far_field", None)
+    if ff is None:
+        far = FarField()
+    else:
+        plane = ff.string("plane", "xy", choices=PLANES)
+        if ff.has("sphere"):
+            if not ff.boolean("sphere"):
+                ff.fail("sphere", "true (or leave it out for a circle)", False)
+            far = FarField(plane=plane, sphere=True, degree=ff.integer("degree", 17, low=3))
+            if ff.has("step_deg"):
+                ff.fail("step_deg", "no step with sphere = true (the Lebedev degree sets the directions)")
+        else:
+            far = FarField(plane=plane, step_deg=ff.number("step_deg", 5.0, positive=True, high=90.0))
+        ff.done()
+        if far.sphere:
+            _check_lebedev(ff, far.degree)
+    points = []
+    for p in r.subs("points"):
+        points.append(ObserverPoint(p.string("name"), p.vector("at")))
+        p.done()
+    _unique([p.name for p in points], "observers.points", r.file)
+    r.done()
+    return Observers(far_field=far, points=tuple(points))
+
+
+def _check_lebedev(reader, degree):
+    from scipy.integrate import lebedev_rule
+
+    try:
+        lebedev_rule(degree)
+    except ValueError:
+        reader.fail("degree", "a Lebedev degree that scipy provides (3, 5, 7, ..., 131, e.g. 17 or 41)", degree)
+
+
+def _sector(r, default_name=None):
+    name = r.string("name", default_name) if default_name is not None else r.string("name")
+    lo = r.number("from_deg", low=-360.0, high=360.0)
+    hi = r.number("to_deg", low=-360.0, high=720.0)
+    if hi <= lo or hi - lo > 360.0:
+        r.fail("to_deg", f"an angle above from_deg ({lo:g}) by at most 360", hi)
+    r.done()
+    return Sector(name, lo, hi)
+
+
+def _control(r, sources, file):
+    if r is None:
+        return Control()
+    objective = r.string("objective", "power", choices=OBJECTIVES)
+    sector_r = r.sub("sector", None)
+    plane = sector_r.string("plane", "xy", choices=PLANES) if sector_r is not None else "xy"
+    sector = _sector(sector_r, "target") if sector_r is not None else None
+    if objective == "sector" and sector is None:
+        r.fail("sector", "a table { from_deg, to_deg } for objective = \"sector\"")
+    delay = r.number("delay_distance", None, positive=True)
+    if objective == "delay" and delay is None:
+        r.fail("delay_distance", "a distance in m for objective = \"delay\"")
+    effort = r.number("effort", 0.0, non_negative=True)
+    r.done()
+    if not any(s.role == "control" for s in sources):
+        raise CaseError(f"{file}: control.objective: a control objective needs at least one source with role = \"control\"")
+    return Control(objective=objective, sector=sector, sector_plane=plane, delay_distance=delay, effort=effort)
+
+
+def _tolerance(r):
+    if r is None:
+        return Tolerance()
+    level = r.number("level_db", Tolerance.level_db, positive=True)
+    phase = r.number("phase_deg", Tolerance.phase_deg, positive=True, high=180.0)
+    sectors = tuple(_sector(s) for s in r.subs("sectors")) or Tolerance().sectors
+    _unique([s.name for s in sectors], "tolerance.sectors", r.file)
+    r.done()
+    return Tolerance(level_db=level, phase_deg=phase, sectors=sectors)
+
+
+def _unique(names, what, file):
+    seen = set()
+    for i, n in enumerate(names):
+        if n in seen:
+            raise CaseError(f"{file}: {what}[{i}].name: '{n}' is used twice; expected unique names")
+        seen.add(n)

@@ -1,0 +1,1 @@
+"""Example case files shipped with bemcheck (installed as bemcheck.examples)."""
