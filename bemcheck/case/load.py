@@ -102,6 +102,11 @@ def parse_case(text, path=Path("<case>")):
     _check_sources(sources, file)
     observers = _observers(top.sub("observers", None))
     control = _control(top.sub("control", None), sources, file)
+    if control.objective == "sector" and (observers.far_field.sphere or control.sector_plane != observers.far_field.plane):
+        raise CaseError(
+            f"{file}: control.sector.plane: expected the plane of observers.far_field "
+            f"('{observers.far_field.plane}', a circle): the sector's target directions are the observers' directions"
+        )
     tolerance = _tolerance(top.sub("tolerance", None))
     top.done()
     return Case(

@@ -104,7 +104,8 @@ def impedance_matrix(frequency, medium, sources):
     z = np.empty((n, n), dtype=complex)
     off = ~np.eye(n, dtype=bool)
     if n > 1:
-        z[off] = transfer_matrix(frequency, medium, x, x)[off]
+        with np.errstate(divide="ignore", invalid="ignore"):  # the diagonal is replaced below
+            z[off] = transfer_matrix(frequency, medium, x, x)[off]
     z[np.diag_indices(n)] = radiation_resistance(frequency, medium)
     return z
 

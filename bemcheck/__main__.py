@@ -1,0 +1,5 @@
+"""`python -m bemcheck` is the `bemcheck` command."""
+
+from bemcheck.cli import main
+
+raise SystemExit(main())

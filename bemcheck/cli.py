@@ -1,0 +1,119 @@
+"""The `bemcheck` command. It holds no physics: it parses, calls the library, prints.
+
+Exit codes: 0 done, 2 bad input (a message naming the file, key and what was
+expected, no traceback), 1 internal failure (the traceback goes to a log
+file whose path is printed).
+"""
+
+import argparse
+import sys
+import tempfile
+import traceback
+import warnings
+from importlib.metadata import version
+from pathlib import Path
+
+from bemcheck.errors import BemcheckInputError, EnvironmentProblem
+
+EXIT_OK, EXIT_FAILURE, EXIT_BAD_INPUT = 0, 1, 2
+
+
+def _parser():
+    p = argparse.ArgumentParser(
+        prog="bemcheck",
+        description="Check a free-field monopole design of active control against a BEM solve with the bodies as rigid scatterers.",
+    )
+    p.add_argument("--version", action="version", version=f"bemcheck {version('bemcheck')}")
+    sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    c = sub.add_parser("check", help="validate a case file and print what it holds")
+    c.add_argument("case", type=Path, help="case file (TOML)")
+
+    r = sub.add_parser("run", help="evaluate a case in the free-field model, the BEM or both, and compare")
+    r.add_argument("case", type=Path, help="case file (TOML)")
+    r.add_argument("--out", type=Path, required=True, help="run folder for results.nc, summary.json and the report")
+    r.add_argument("--model", choices=("free", "bem", "both"), default="both", help="which model(s) to run (default both)")
+
+    sub.add_parser("examples", help="list the example case files shipped with bemcheck")
+    return p
+
+
+def _cmd_check(args, out):
+    from bemcheck.case import load_case
+    from bemcheck.observers import for_observers
+
+    case = load_case(args.case)
+    directions = for_observers(case.observers.far_field)
+    f = case.frequencies
+    print(f"{args.case}: valid case '{case.title}'", file=out)
+    print(f"  medium       c = {case.medium.speed_of_sound:g} m/s, rho = {case.medium.density:g} kg/m^3", file=out)
+    print(f"  frequencies  {len(f)} from {f[0]:g} to {f[-1]:g} Hz", file=out)
+    print(f"  mesh         {case.mesh.elements_per_wavelength:g} elements per wavelength, bands of {case.mesh.band_octaves:g} octave(s)", file=out)
+    for b in case.bodies:
+        print(f"  body         {b.name} ({b.kind}) at {list(b.at)}, axis {list(b.axis)}", file=out)
+    for s in case.sources:
+        what = f"q = {s.strength:g} m^3/s" if s.strength is not None else ("spectrum" if s.spectrum else "computed")
+        print(f"  source       {s.name} ({s.role}, {s.radiator}) at {[round(v, 4) for v in s.position]}, {what}", file=out)
+    kind = f"sphere, Lebedev degree {case.observers.far_field.degree}" if case.observers.far_field.sphere else f"circle in {case.observers.far_field.plane}"
+    print(f"  far field    {len(directions)} directions ({kind})", file=out)
+    for p in case.observers.points:
+        print(f"  point        {p.name} at {list(p.at)}", file=out)
+    print(f"  control      objective {case.control.objective}", file=out)
+    tol = case.tolerance
+    print(f"  tolerance    {tol.level_db:g} dB, {tol.phase_deg:g} deg; sectors " + ", ".join(s.name for s in tol.sectors), file=out)
+    return EXIT_OK
+
+
+def _cmd_run(args, out):
+    from bemcheck.case import load_case
+    from bemcheck.run.runner import run_case
+
+    case = load_case(args.case)
+    outcome = run_case(case, args.out, model=args.model)
+    print(f"results: {outcome.results}", file=out)
+    return EXIT_OK
+
+
+def _cmd_examples(args, out):
+    from bemcheck.examples_index import example_names, example_path
+
+    for name in example_names():
+        print(f"{name:16s} {example_path(name)}", file=out)
+    return EXIT_OK
+
+
+_COMMANDS = {"check": _cmd_check, "run": _cmd_run, "examples": _cmd_examples}
+
+
+def main(argv=None):
+    """Run the `bemcheck` command with ``argv`` (default: sys.argv[1:]); return the exit code.
+
+    Examples
+    --------
+    >>> main(["examples"])  # doctest: +ELLIPSIS
+    free-pair ...
+    0
+    """
+    parser = _parser()
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as exc:  # argparse exits on --help, --version and bad usage
+        return EXIT_BAD_INPUT if exc.code not in (0, None) else EXIT_OK
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("default")
+            return _COMMANDS[args.command](args, sys.stdout)
+    except BemcheckInputError as exc:
+        print(f"bemcheck: error: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except EnvironmentProblem as exc:
+        print(f"bemcheck: this machine lacks something: {exc}", file=sys.stderr)
+        return EXIT_FAILURE
+    except KeyboardInterrupt:
+        print("bemcheck: interrupted; run the same command again to resume", file=sys.stderr)
+        return 130
+    except Exception:  # an internal failure: keep the traceback, show its path
+        log = Path(tempfile.mkstemp(prefix="bemcheck-failure-", suffix=".log")[1])
+        log.write_text(traceback.format_exc())
+        print(f"bemcheck: internal failure; the traceback is in {log}", file=sys.stderr)
+        return EXIT_FAILURE

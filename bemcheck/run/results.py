@@ -1,0 +1,133 @@
+"""The results file: one xarray Dataset in NetCDF (h5netcdf), plus summary.json.
+
+Complex variables are stored as ``<name>_re`` / ``<name>_im`` pairs so any
+NetCDF reader opens the file; :func:`load_results` joins them again.  Every
+write goes to a temporary name in the same folder and is renamed into place,
+so a reader never sees a half-written file, and refuses NaN or inf.
+"""
+
+import json
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+import xarray as xr
+
+from bemcheck.errors import BemcheckInputError
+
+RESULTS_FILE = "results.nc"
+SUMMARY_FILE = "summary.json"
+_COMPLEX_FLAG = "bemcheck_complex_part"
+
+
+class NonFiniteResult(RuntimeError):
+    """A result held NaN or inf; nothing was written."""
+
+
+def _split_complex(ds):
+    out = xr.Dataset(coords=ds.coords, attrs=ds.attrs)
+    for name, var in ds.data_vars.items():
+        if np.iscomplexobj(var.values):
+            for part, values in (("re", var.values.real), ("im", var.values.imag)):
+                out[f"{name}_{part}"] = (var.dims, values, {**var.attrs, _COMPLEX_FLAG: part})
+        else:
+            out[name] = var
+    return out
+
+
+def _join_complex(ds):
+    out = xr.Dataset(coords=ds.coords, attrs=ds.attrs)
+    for name, var in ds.data_vars.items():
+        part = var.attrs.get(_COMPLEX_FLAG)
+        if part == "im":
+            continue
+        if part == "re":
+            base = name[: -len("_re")]
+            attrs = {k: v for k, v in var.attrs.items() if k != _COMPLEX_FLAG}
+            out[base] = (var.dims, var.values + 1j * ds[f"{base}_im"].values, attrs)
+        else:
+            out[name] = var
+    return out
+
+
+def check_finite(ds):
+    """Raise NonFiniteResult naming the first variable holding NaN or inf."""
+    for name, var in ds.data_vars.items():
+        if np.issubdtype(var.dtype, np.number) and not np.all(np.isfinite(var.values)):
+            raise NonFiniteResult(f"result variable '{name}' holds NaN or inf; nothing was written")
+
+
+def atomic_write_bytes(path, data):
+    """Write ``data`` to ``path`` through a temporary file and a rename."""
+    path = Path(path)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+
+
+def write_dataset(ds, path):
+    """Write ``ds`` to NetCDF at ``path`` atomically, complex parts split.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+    path : str or Path
+        Target file; its folder must exist.
+    """
+    check_finite(ds)
+    path = Path(path)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    os.close(fd)
+    try:
+        _split_complex(ds).to_netcdf(tmp, engine="h5netcdf")
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+
+
+def read_dataset(path):
+    """Read a file written by :func:`write_dataset`, complex variables joined."""
+    with xr.open_dataset(path, engine="h5netcdf") as ds:
+        return _join_complex(ds.load())
+
+
+def write_summary(summary, path):
+    """Write the summary dict as JSON, atomically."""
+    atomic_write_bytes(path, (json.dumps(summary, indent=2, sort_keys=False, allow_nan=False) + "\n").encode())
+
+
+def load_results(folder):
+    """Open a finished run's results.
+
+    Parameters
+    ----------
+    folder : str or Path
+        The run folder given to ``bemcheck run --out``.
+
+    Returns
+    -------
+    xarray.Dataset
+        Complex variables (``p_free``, ``p_bem``, ...) as complex arrays.
+
+    Examples
+    --------
+    >>> import bemcheck, tempfile
+    >>> out = tempfile.mkdtemp()
+    >>> _ = bemcheck.run_case(bemcheck.load_case(bemcheck.example_path("free-pair")), out, model="free")
+    >>> ds = bemcheck.load_results(out)
+    >>> ds["p_free"].dtype.kind
+    'c'
+    """
+    path = Path(folder) / RESULTS_FILE
+    if not path.is_file():
+        raise BemcheckInputError(f"{path}: no results file here; expected the folder of a finished `bemcheck run`")
+    return read_dataset(path)
