@@ -1,0 +1,32 @@
+"""An exact scattered world without BEM: monopoles above an infinite rigid plane z = 0.
+
+Method of images (Kinsler, Frey, Coppens & Sanders, Fundamentals of Acoustics,
+4th ed., 2000, sec. 7.7 (from memory); Morse & Ingard, Theoretical Acoustics,
+1968, sec. 7.4): the field of a source at (x, y, z) above a rigid plane is the
+free field of the source plus that of its mirror image at (x, y, −z), in
+z ≥ 0, and zero below the plane.
+"""
+
+import numpy as np
+
+from bemcheck.solvers import freefield
+from bemcheck.solvers.response import FieldResponse
+
+
+def mirror(x):
+    x = np.array(x, dtype=float, copy=True)
+    x[..., 2] *= -1.0
+    return x
+
+
+def image_response(frequency, medium, sources, directions, points):
+    """FieldResponse of monopoles at ``sources`` (all z > 0) above a rigid plane z = 0."""
+    x = np.atleast_2d(np.asarray(sources, dtype=float))
+    d = np.asarray(directions, dtype=float)
+    pts = np.asarray(points, dtype=float).reshape(-1, 3)
+    upper = (d[:, 2] >= 0.0)[:, None]
+    far = (freefield.far_field_matrix(frequency, medium, x, d) + freefield.far_field_matrix(frequency, medium, mirror(x), d)) * upper
+    z = freefield.impedance_matrix(frequency, medium, x) + freefield.transfer_matrix(frequency, medium, mirror(x), x)
+    p = freefield.transfer_matrix(frequency, medium, x, pts) + freefield.transfer_matrix(frequency, medium, mirror(x), pts) if len(pts) else np.zeros((0, len(x)), complex)
+    power = (z + z.conj().T) / 4.0
+    return FieldResponse(float(frequency), far, p, z, power)
