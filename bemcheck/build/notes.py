@@ -121,7 +121,7 @@ class DriverCheck:
         return min(self.rows, key=lambda r: r.margin_db, default=None)
 
 
-def check_drivers(drivers, driver_of, demands, medium=Medium()):
+def check_drivers(drivers, driver_of, demands, medium=Medium(), *, where=""):
     """Check every demand against the loudspeaker of its control source.
 
     Parameters
@@ -134,6 +134,8 @@ def check_drivers(drivers, driver_of, demands, medium=Medium()):
         In the order the rows should come out (e.g. source, note, harmonic),
         which is the order ``first_failure`` follows.
     medium : Medium
+    where : str
+        Prefix for error messages, e.g. ``"demo.toml: "``.
 
     Returns
     -------
@@ -157,10 +159,10 @@ def check_drivers(drivers, driver_of, demands, medium=Medium()):
     for demand in demands:
         name = driver_of.get(demand.source)
         if name is None:
-            raise CaseError(f"sources.{demand.source}.driver: expected the name of a driver, found none")
+            raise CaseError(f"{where}source `{demand.source}`.driver: expected the name of a driver, found none")
         if name not in drivers:
             known = ", ".join(sorted(drivers)) or "none"
-            raise CaseError(f"sources.{demand.source}.driver: no driver called {name!r} (defined: {known})")
+            raise CaseError(f"{where}source `{demand.source}`.driver: no driver called {name!r} (defined: {known})")
         d = drive_for(drivers[name], demand.frequency, demand.volume_velocity, medium)
         rows.append(
             DriveRow(

@@ -44,6 +44,8 @@ def _unit_offsets(rng, trials, n, distribution):
 
 @dataclass(frozen=True)
 class _Layout:
+    """Primaries and as-designed controls with fixed strengths; primaries first in ``q``."""
+
     impedance_at: object
     primary_positions: np.ndarray
     control_positions: np.ndarray
@@ -63,6 +65,8 @@ class _Layout:
         p = xp.shape[0]
         z = np.asarray(impedance_at(np.vstack([xp, xc])))
         w0 = float(radiated_power(z[:p, :p], qp))
+        if not w0 > 0.0:
+            raise ValueError("primary_strengths: the primaries radiate no power; nothing to attenuate")
         return cls(impedance_at, xp, xc, np.concatenate([qp, qc]), w0)
 
     def attenuation_db(self, control_positions):

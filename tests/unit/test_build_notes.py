@@ -80,7 +80,7 @@ def test_large_driver_copes():
 
 def test_missing_or_unknown_driver_names_the_source():
     need = demands()[0]
-    with pytest.raises(CaseError, match=r"sources\.c1\.driver"):
-        check_drivers({"demo": DEMO}, {}, need, AIR)
-    with pytest.raises(CaseError, match=r"sources\.c1\.driver: no driver called 'tiny' \(defined: demo\)"):
+    with pytest.raises(CaseError, match=r"^demo\.toml: source `c1`\.driver: expected"):
+        check_drivers({"demo": DEMO}, {}, need, AIR, where="demo.toml: ")
+    with pytest.raises(CaseError, match=r"source `c1`\.driver: no driver called 'tiny' \(defined: demo\)"):
         check_drivers({"demo": DEMO}, {"c1": "tiny"}, need, AIR)

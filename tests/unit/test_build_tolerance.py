@@ -109,3 +109,5 @@ def test_bad_arguments_are_refused():
         tolerance_for_loss(freefield_at, *one_control(0.1), 0.0)
     with pytest.raises(ValueError, match="strengths"):
         placement_spread(freefield_at, [[0, 0, 0]], [1.0], [[0.1, 0, 0]], [1.0, 2.0], 0.01)
+    with pytest.raises(ValueError, match="primary_strengths"):
+        placement_spread(freefield_at, [[0, 0, 0]], [0.0], [[0.1, 0, 0]], [1.0], 0.01)
