@@ -70,6 +70,8 @@ def _cmd_run(args, out):
 
     case = load_case(args.case)
     outcome = run_case(case, args.out, model=args.model)
+    for line in outcome.verdict_lines:
+        print(line, file=out)
     print(f"results: {outcome.results}", file=out)
     return EXIT_OK
 

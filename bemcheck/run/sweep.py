@@ -1,0 +1,181 @@
+"""A sweep: per-frequency tasks, run here or on a Dask cluster, stored as they finish, resumable.
+
+Each task's answer is stored atomically (:class:`~bemcheck.run.store.PartStore`)
+the moment it arrives; rerunning the same command skips stored tasks, so a
+run killed at any point loses at most the tasks in flight, and the resumed
+result is the same bit for bit (each task is a pure function of its inputs).
+"""
+
+import dataclasses
+import hashlib
+import json
+import os
+import sys
+import time
+from concurrent.futures import ProcessPoolExecutor, as_completed
+from dataclasses import dataclass
+
+# Threads each local worker may use: the workers share the cores, so BLAS
+# and numba must not each spread over all of them.
+_THREAD_VARS = ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS", "NUMBA_NUM_THREADS")
+
+
+@dataclass(frozen=True)
+class Task:
+    """One BEM solve: ``frequency`` [Hz] on the mesh of ``element_size`` [m].
+
+    ``refine`` marks the self-check solve at a band's top frequency on a finer mesh.
+    """
+
+    key: str
+    frequency: float
+    band: int
+    element_size: float
+    refine: bool = False
+
+
+def physics_fingerprint(case):
+    """Hash of what a BEM answer depends on: medium, bodies, source positions, observers.
+
+    Tolerances, control objective and strengths are left out: changing them
+    recomputes nothing.
+    """
+    parts = {
+        "medium": dataclasses.asdict(case.medium),
+        "bodies": [dataclasses.asdict(b) for b in case.bodies],
+        "sources": [(s.name, s.position, s.radiator, s.on) for s in case.sources],
+        "observers": dataclasses.asdict(case.observers),
+    }
+    h = hashlib.sha256(json.dumps(parts, sort_keys=True, default=str).encode())
+    for b in case.bodies:
+        if b.kind == "file":
+            try:
+                h.update(b.shape.path.read_bytes())
+            except OSError:
+                pass
+    return h.hexdigest()
+
+
+def plan_tasks(case, bands, refine_factor=1.5):
+    """Tasks for every frequency, plus one finer self-check solve at each band's top.
+
+    Parameters
+    ----------
+    case : Case
+    bands : sequence of Band
+        With ``index``, ``f_low``, ``f_high`` [Hz] and ``element_size`` [m].
+    refine_factor : float
+        Elements-per-wavelength factor of the self-check mesh.
+
+    Returns
+    -------
+    list of Task
+    """
+    base = physics_fingerprint(case)
+
+    def key(f, h, refine):
+        return hashlib.sha256(f"{base}|{f!r}|{h!r}|{refine}".encode()).hexdigest()[:24]
+
+    tasks = []
+    for f in case.frequencies:
+        band = next(b for b in bands if b.f_low <= f <= b.f_high)
+        tasks.append(Task(key(f, band.element_size, False), f, band.index, band.element_size))
+    for band in bands:
+        top = max(f for f in case.frequencies if band.f_low <= f <= band.f_high)
+        h = band.element_size / refine_factor
+        tasks.append(Task(key(top, h, True), top, band.index, h, refine=True))
+    return tasks
+
+
+class Progress:
+    """One line per finished task on a stream (a live line on a terminal), with an ETA."""
+
+    def __init__(self, total, stream=None, quiet=False):
+        self.total = total
+        self.done = 0
+        self.stream = stream or sys.stderr
+        self.quiet = quiet
+        self.start = time.monotonic()
+        self.live = hasattr(self.stream, "isatty") and self.stream.isatty()
+
+    def update(self, task, info=""):
+        self.done += 1
+        if self.quiet:
+            return
+        elapsed = time.monotonic() - self.start
+        eta = elapsed / self.done * (self.total - self.done)
+        what = "self-check" if task.refine else "solve"
+        line = f"[{self.done}/{self.total}] {what} {task.frequency:8.1f} Hz band {task.band} {info} ETA {eta:5.0f} s"
+        self.stream.write(("\r" + line.ljust(100)) if self.live else line + "\n")
+        if self.live and self.done == self.total:
+            self.stream.write("\n")
+        self.stream.flush()
+
+
+def _pin_threads(n):
+    for var in _THREAD_VARS:
+        os.environ[var] = str(n)
+
+
+def execute(tasks, solve, store, *, workers=1, scheduler=None, progress=None):
+    """Run the tasks not yet in ``store`` and store each answer as it arrives.
+
+    Parameters
+    ----------
+    tasks : sequence of Task
+    solve : callable
+        ``solve(task) -> (arrays: dict, meta: dict)``; must be picklable
+        (a module-level function or a functools.partial of one) for
+        ``workers > 1`` or a scheduler.
+    store : PartStore
+    workers : int
+        Local worker processes; 1 runs in this process (warm compile caches).
+    scheduler : str, optional
+        Address of a Dask distributed scheduler; the tasks run on its workers
+        and a task lost with a dying worker is run again elsewhere.
+    progress : Progress, optional
+
+    Returns
+    -------
+    int
+        Number of tasks computed (not found in the store).
+    """
+    todo = [t for t in tasks if not store.has(t.key)]
+    if progress is not None:
+        for t in tasks:
+            if store.has(t.key):
+                progress.update(t, "(stored)")
+
+    def finish(task, answer):
+        arrays, meta = answer
+        store.save(task.key, arrays, meta)
+        if progress is not None:
+            progress.update(task, meta.get("summary", ""))
+
+    if not todo:
+        return 0
+    if scheduler:
+        _execute_dask(todo, solve, scheduler, finish)
+    elif workers <= 1:
+        for t in todo:
+            finish(t, solve(t))
+    else:
+        import multiprocessing
+
+        threads = max(1, (os.cpu_count() or 1) // workers)
+        ctx = multiprocessing.get_context("spawn")
+        with ProcessPoolExecutor(workers, mp_context=ctx, initializer=_pin_threads, initargs=(threads,)) as pool:
+            futures = {pool.submit(solve, t): t for t in todo}
+            for fut in as_completed(futures):
+                finish(futures[fut], fut.result())
+    return len(todo)
+
+
+def _execute_dask(todo, solve, address, finish):
+    from dask.distributed import Client
+    from dask.distributed import as_completed as dask_completed
+
+    with Client(address, timeout="30s") as client:
+        futures = {client.submit(solve, t, key=f"bemcheck-{t.key}", pure=False, retries=3): t for t in todo}
+        for fut in dask_completed(list(futures)):
+            finish(futures[fut], fut.result())
