@@ -6,10 +6,12 @@ from pathlib import Path
 
 import numpy as np
 
+from bemcheck.build.drivers import Driver, check_driver
 from bemcheck.case.model import (
     Bell,
     Body,
     Box,
+    BuildChecks,
     Case,
     Control,
     FarField,
@@ -108,6 +110,12 @@ def parse_case(text, path=Path("<case>")):
             f"('{observers.far_field.plane}', a circle): the sector's target directions are the observers' directions"
         )
     tolerance = _tolerance(top.sub("tolerance", None))
+    drivers = tuple(_driver(r) for r in top.subs("driver"))
+    _unique([d.name for d in drivers], "driver", file)
+    _check_driver_refs(sources, drivers, file)
+    played = tuple(_note(r) for r in top.subs("note"))
+    _unique([n.name for n in played], "note", file)
+    build = _build(top.sub("build", None))
     top.done()
     return Case(
         title=title,
@@ -120,6 +128,9 @@ def parse_case(text, path=Path("<case>")):
         observers=observers,
         control=control,
         tolerance=tolerance,
+        drivers=drivers,
+        played=played,
+        build=build,
         path=Path(path),
         text=text,
     )
@@ -225,10 +236,7 @@ def _source(r, bodies):
         r.fail("strength", "no strength for a control source (control strengths are computed)")
     spectrum = None
     if spectrum_r is not None:
-        fundamental = spectrum_r.number("fundamental", positive=True)
-        levels = spectrum_r.numbers("spl_at_1m", min_length=1)
-        spectrum_r.done()
-        spectrum = Spectrum(fundamental, levels)
+        spectrum = _spectrum(spectrum_r, name)
     if strength is not None:
         strength = r.check_number("strength", strength, positive=True)
     if role == "primary" and strength is None and spectrum is None:
@@ -358,3 +366,48 @@ def _unique(names, what, file):
         if n in seen:
             raise CaseError(f"{file}: {what}[{i}].name: '{n}' is used twice; expected unique names")
         seen.add(n)
+
+
+def _spectrum(r, name):
+    fundamental = r.number("fundamental", positive=True)
+    levels = r.numbers("spl_at_1m", min_length=1)
+    for i, level in enumerate(levels):
+        if not -20.0 <= level <= 200.0:
+            r.fail(f"spl_at_1m[{i}]", "an SPL in dB re 20 µPa between -20 and 200", level)
+    r.done()
+    return Spectrum(fundamental, levels, name)
+
+
+def _note(r):
+    return _spectrum(r, r.string("name"))
+
+
+_DRIVER_KEYS = ("re", "bl", "mms", "cms", "rms", "sd", "xmax", "vb", "rated_power")
+
+
+def _driver(r):
+    name = r.string("name")
+    values = {k: r.number(k) for k in _DRIVER_KEYS}
+    values["le"] = r.number("le", 0.0)
+    r.done()
+    return check_driver(Driver(name=name, **values), f"{r.file}: {r.path}")
+
+
+def _check_driver_refs(sources, drivers, file):
+    names = {d.name for d in drivers}
+    for i, s in enumerate(sources):
+        if s.driver is not None and s.driver not in names:
+            known = ", ".join(sorted(names)) or "none defined"
+            raise CaseError(f"{file}: source[{i}].driver: expected the name of a [[driver]] ({known}), got {s.driver!r}")
+
+
+def _build(r):
+    if r is None:
+        return BuildChecks()
+    b = BuildChecks(
+        ear_limit_dba=r.number("ear_limit_dba", BuildChecks.ear_limit_dba, positive=True),
+        max_loss_db=r.number("max_loss_db", BuildChecks.max_loss_db, positive=True),
+        trials=r.integer("trials", BuildChecks.trials, low=10),
+    )
+    r.done()
+    return b

@@ -96,6 +96,7 @@ class Spectrum:
 
     fundamental: float
     spl_at_1m: tuple[float, ...]
+    name: str = ""
 
     @property
     def harmonics(self):
@@ -184,6 +185,23 @@ class Tolerance:
 
 
 @dataclass(frozen=True)
+class BuildChecks:
+    """Settings of the before-build checks.
+
+    ``ear_limit_dba`` : level at an observer point above which a caution is
+    shown [dB(A)]; the default 85 dB(A) is a common occupational action value
+    (e.g. Directive 2003/10/EC, upper exposure action value for an 8-hour day);
+    local regulation decides.
+    ``max_loss_db`` : loss of attenuation the placement tolerance may cost [dB].
+    ``trials`` : Monte Carlo draws of the placement study.
+    """
+
+    ear_limit_dba: float = 85.0
+    max_loss_db: float = 1.0
+    trials: int = 400
+
+
+@dataclass(frozen=True)
 class Case:
     """One layout to check, as read from a case file.
 
@@ -204,6 +222,9 @@ class Case:
     observers: Observers = field(default_factory=Observers)
     control: Control = field(default_factory=Control)
     tolerance: Tolerance = field(default_factory=Tolerance)
+    drivers: tuple = ()
+    played: tuple[Spectrum, ...] = ()
+    build: BuildChecks = field(default_factory=BuildChecks)
     notes: str = ""
     path: Path | None = None
     text: str = ""
@@ -215,6 +236,12 @@ class Case:
     @property
     def controls(self):
         return tuple(s for s in self.sources if s.role == "control")
+
+    @property
+    def all_notes(self):
+        """Every played note: the ``[[note]]`` entries and each primary's ``[source.spectrum]``."""
+        own = tuple(s.spectrum for s in self.primaries if s.spectrum is not None)
+        return self.played + own
 
     def body(self, name):
         """The body called ``name``; KeyError if there is none."""

@@ -82,6 +82,10 @@ BAD = [
     ("box key on a sphere", ('kind = "box"', 'kind = "sphere"\nradius = 0.1'), ["body[0].size", "unknown key"]),
     ("zero axis", ("axis = [0.0, -1.0, 0.0]", "axis = [0.0, 0.0, 0.0]"), ["body[0].axis", "non-zero"]),
     ("elements per wavelength below 4", ("[[body]]", "[mesh]\nelements_per_wavelength = 3\n[[body]]"), ["mesh.elements_per_wavelength", "≥ 4"]),
+    ("driver with impossible parameters", ("[control]", "[[driver]]\nname = \"d\"\nre = -6.0\nbl = 7.0\nmms = 0.02\ncms = 1e-3\nrms = 1.5\nsd = 0.0133\nxmax = 0.005\nvb = 0.02\nrated_power = 50.0\n[control]"), ["driver[0].re"]),
+    ("unknown driver", ('on = "cab"', 'on = "cab"\ndriver = "nope"'), ["source[1].driver", "[[driver]]"]),
+    ("note without harmonics", ("[control]", "[[note]]\nname = \"Bb3\"\nfundamental = 233.0\nspl_at_1m = []\n[control]"), ["note[0].spl_at_1m", "at least 1"]),
+    ("implausible SPL", ("[control]", "[[note]]\nname = \"Bb3\"\nfundamental = 233.0\nspl_at_1m = [95.0, 400.0]\n[control]"), ["note[0].spl_at_1m[1]", "between"]),
     ("no source", ("[[source]]\nname = \"p\"", "[[sourc]]\nname = \"p\""), ["source"]),
 ]
 
