@@ -83,9 +83,9 @@ def _numerical_error(tasks, parts):
     """Level [dB] and phase [deg] error estimates (F, D): finer mesh vs band mesh at each band's top."""
     by_band = {}
     for t in (t for t in tasks if t.refine):
-        coarse = next(c for c in tasks if not c.refine and c.frequency == t.frequency)
+        coarse = next(c for c in tasks if not c.refine and not c.harmonic and c.frequency == t.frequency)
         by_band[t.band] = _far_field_error(parts[t.key][0]["far_field"], parts[coarse.key][0]["far_field"])
-    solves = [t for t in tasks if not t.refine]
+    solves = [t for t in tasks if not t.refine and not t.harmonic]
     return np.array([by_band[t.band][0] for t in solves]), np.array([by_band[t.band][1] for t in solves])
 
 
@@ -94,15 +94,18 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, workers=1
 
     Returns
     -------
-    (list of FieldResponse, (F, D) ndarray, (F, D) ndarray, list of dict)
-        Responses per frequency, level and phase error estimates, and each
-        solve's metadata (elements, elements per wavelength, device, timings).
+    (list of FieldResponse, (F, D) ndarray, (F, D) ndarray, list of dict, dict)
+        Responses per frequency, level and phase error estimates, each
+        solve's metadata (elements, elements per wavelength, device, timings),
+        and every solved response by frequency (harmonics included).
     """
     if bands is None:
         from bemcheck.mesh import plan_bands
 
         bands = plan_bands(case)
-    plan = plan_tasks(case, bands)
+    from bemcheck.build.check import harmonic_plan
+
+    plan = plan_tasks(case, bands, harmonics=[f for _, _, f in harmonic_plan(case)])
     if solve is None:
         from bemcheck.run import tasks as bem_tasks
 
@@ -111,13 +114,14 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, workers=1
     progress = Progress(len(plan), stream=progress_stream, quiet=quiet)
     execute(plan, solve, store, workers=workers, scheduler=scheduler, progress=progress)
     parts = {t.key: store.load(t.key) for t in plan}
-    responses, metas = [], []
+    by_frequency, metas = {}, []
     for t in (t for t in plan if not t.refine):
         a, meta = parts[t.key]
-        responses.append(FieldResponse(t.frequency, a["far_field"], a["points"], a["impedance"], a["power_matrix"]))
-        metas.append(meta)
+        by_frequency[t.frequency] = FieldResponse(t.frequency, a["far_field"], a["points"], a["impedance"], a["power_matrix"])
+        if not t.harmonic:
+            metas.append(meta)
     err_db, err_deg = _numerical_error(plan, parts)
-    return responses, err_db, err_deg, metas
+    return [by_frequency[f] for f in case.frequencies], err_db, err_deg, metas, by_frequency
 
 
 def run_case(case, out_dir, model="both", **options):
@@ -155,23 +159,44 @@ def run_case(case, out_dir, model="both", **options):
     with RunLock(folder):
         free = free_responses(case, directions)
         device = None
+        solved = {}
         if model == "free":
             ds, verdict = combine(case, directions, free)
             metas = []
         else:
-            bem, err_db, err_deg, metas = bem_responses(case, directions, folder, **options)
+            bem, err_db, err_deg, metas, solved = bem_responses(case, directions, folder, **options)
             device = metas[0].get("device") if metas else None
             ds, verdict = combine(case, directions, free, bem, err_db, err_deg)
             ds["elements_per_wavelength"] = ("frequency", np.array([m["elements_per_wavelength"] for m in metas]), {"long_name": "wavelength over the mesh's largest element edge"})
             ds["elements"] = ("frequency", np.array([m["elements"] for m in metas]), {"long_name": "triangles in the mesh solved"})
         ds.attrs.update(run_attributes(case, fingerprint, device))
         summary = build_summary(case, ds, fingerprint, verdict, metas)
+        build = _before_build(case, directions, solved)
+        if build is not None:
+            ds = ds.merge(build.dataset, compat="override", combine_attrs="override")
+            summary["before_build"] = build.summary
         results = folder / RESULTS_FILE
         write_dataset(ds, results)
         write_summary(summary, folder / SUMMARY_FILE)
     from bemcheck.compare import verdict_lines
 
-    return RunOutcome(folder, results, json.loads(json.dumps(summary)), tuple(verdict_lines(verdict)) if verdict else ())
+    lines = tuple(verdict_lines(verdict)) if verdict else ()
+    if build is not None:
+        lines += build.lines
+    return RunOutcome(folder, results, json.loads(json.dumps(summary)), lines)
+
+
+def _before_build(case, directions, solved):
+    """The before-build check, with scattering at every harmonic the BEM solved."""
+    from bemcheck.build.check import before_build
+
+    sources = np.array([s.position for s in case.sources])
+    points = np.array([p.at for p in case.observers.points]).reshape(-1, 3)
+    return before_build(
+        case,
+        lambda f: free_response(f, case.medium, sources, directions.unit, points),
+        (lambda f: solved.get(f)) if solved else None,
+    )
 
 
 def _stats(values):

@@ -24,7 +24,9 @@ _THREAD_VARS = ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS", "N
 class Task:
     """One BEM solve: ``frequency`` [Hz] on the mesh of ``element_size`` [m].
 
-    ``refine`` marks the self-check solve at a band's top frequency on a finer mesh.
+    ``refine`` marks the self-check solve at a band's top frequency on a
+    finer mesh; ``harmonic`` a solve at a played note's harmonic for the
+    before-build check.
     """
 
     key: str
@@ -32,6 +34,7 @@ class Task:
     band: int
     element_size: float
     refine: bool = False
+    harmonic: bool = False
 
 
 def physics_fingerprint(case):
@@ -56,8 +59,8 @@ def physics_fingerprint(case):
     return h.hexdigest()
 
 
-def plan_tasks(case, bands, refine_factor=1.5):
-    """Tasks for every frequency, plus one finer self-check solve at each band's top.
+def plan_tasks(case, bands, refine_factor=1.5, harmonics=()):
+    """Tasks for every frequency, one finer self-check solve at each band's top, and the harmonics.
 
     Parameters
     ----------
@@ -66,6 +69,9 @@ def plan_tasks(case, bands, refine_factor=1.5):
         With ``index``, ``f_low``, ``f_high`` [Hz] and ``element_size`` [m].
     refine_factor : float
         Elements-per-wavelength factor of the self-check mesh.
+    harmonics : sequence of float
+        Frequencies of played notes' harmonics [Hz]; those inside a band are
+        solved on that band's mesh, the others left to the free-field model.
 
     Returns
     -------
@@ -84,6 +90,11 @@ def plan_tasks(case, bands, refine_factor=1.5):
         top = max(f for f in case.frequencies if band.f_low <= f <= band.f_high)
         h = band.element_size / refine_factor
         tasks.append(Task(key(top, h, True), top, band.index, h, refine=True))
+    solved = set(case.frequencies)
+    for f in sorted(set(harmonics) - solved):
+        band = next((b for b in bands if b.f_low <= f <= b.f_high), None)
+        if band is not None:
+            tasks.append(Task(key(f, band.element_size, False), f, band.index, band.element_size, harmonic=True))
     return tasks
 
 

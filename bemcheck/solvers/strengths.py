@@ -33,7 +33,7 @@ def source_indices(case):
     return [i for i, r in enumerate(roles) if r == "primary"], [i for i, r in enumerate(roles) if r == "control"]
 
 
-def control_strengths(case, response, directions):
+def control_strengths(case, response, directions, q_primary=None):
     """Control strengths that the case's objective asks for, in the model of ``response``.
 
     Parameters
@@ -51,7 +51,7 @@ def control_strengths(case, response, directions):
         [m^3/s].
     """
     primary, controls = source_indices(case)
-    q_p = primary_strengths(case)
+    q_p = primary_strengths(case) if q_primary is None else np.asarray(q_primary, dtype=complex)
     if not controls:
         return np.zeros(0, dtype=complex)
     objective = case.control.objective
