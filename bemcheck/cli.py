@@ -6,6 +6,7 @@ file whose path is printed).
 """
 
 import argparse
+import errno
 import sys
 import tempfile
 import traceback
@@ -16,6 +17,8 @@ from pathlib import Path
 from bemcheck.errors import BemcheckInputError, EnvironmentProblem
 
 EXIT_OK, EXIT_FAILURE, EXIT_BAD_INPUT = 0, 1, 2
+# Storage problems are the user's to fix (space, permissions), not internal failures.
+_STORAGE_ERRORS = {errno.ENOSPC, errno.EDQUOT, errno.EACCES, errno.EROFS, errno.EPERM}
 
 
 def _parser():
@@ -31,8 +34,17 @@ def _parser():
 
     r = sub.add_parser("run", help="evaluate a case in the free-field model, the BEM or both, and compare")
     r.add_argument("case", type=Path, help="case file (TOML)")
-    r.add_argument("--out", type=Path, required=True, help="run folder for results.nc, summary.json and the report")
-    r.add_argument("--model", choices=("free", "bem", "both"), default="both", help="which model(s) to run (default both)")
+    r.add_argument("--out", type=Path, required=True, help="run folder for results.nc, summary.json and the report; rerunning into it resumes")
+    r.add_argument("--model", choices=("free", "bem", "both"), default="both", help="which model(s) to run (default both; bem also runs the free-field model to compare)")
+    r.add_argument("--frequencies", metavar="LIST|LO:HI", help="run a subset of the case's frequencies: '200,400' or '200:800' [Hz]")
+    r.add_argument("--workers", type=int, default=1, metavar="N", help="local worker processes for the BEM sweep (default 1)")
+    r.add_argument("--scheduler", metavar="ADDRESS", help="run the BEM sweep on a Dask distributed scheduler, e.g. tcp://10.0.0.5:8786")
+    r.add_argument("--device", choices=("auto", "numba", "opencl"), default="auto", help="bempp-cl device (default auto: OpenCL when a CPU runtime works, else numba)")
+    r.add_argument("--mesh-cache", type=Path, metavar="DIR", help="folder of cached meshes (default ~/.cache/bemcheck/meshes)")
+    r.add_argument("--no-report", action="store_true", help="skip the HTML report")
+    talk = r.add_mutually_exclusive_group()
+    talk.add_argument("--quiet", action="store_true", help="no progress lines")
+    talk.add_argument("--verbose", action="store_true", help="also print each solve's timings")
 
     sub.add_parser("examples", help="list the example case files shipped with bemcheck")
     return p
@@ -64,12 +76,43 @@ def _cmd_check(args, out):
     return EXIT_OK
 
 
+def _subset(case, spec, file):
+    """The case with only the frequencies ``spec`` names ('200,400' or '200:800')."""
+    from dataclasses import replace
+
+    from bemcheck.errors import CaseError
+
+    f = case.frequencies
+    try:
+        if ":" in spec:
+            lo, hi = (float(v) for v in spec.split(":"))
+            keep = tuple(v for v in f if lo * (1 - 1e-9) <= v <= hi * (1 + 1e-9))
+        else:
+            wanted = [float(v) for v in spec.split(",")]
+            keep = tuple(v for v in f if any(abs(v - w) <= 1e-6 * w for w in wanted))
+            missing = [w for w in wanted if not any(abs(v - w) <= 1e-6 * w for v in f)]
+            if missing:
+                raise CaseError(f"--frequencies: {missing[0]:g} Hz is not a frequency of {file} (it has {', '.join(f'{v:.6g}' for v in f)})")
+    except ValueError:
+        raise CaseError(f"--frequencies: expected '200,400' or '200:800' in Hz, got {spec!r}") from None
+    if not keep:
+        raise CaseError(f"--frequencies: {spec!r} selects none of the frequencies of {file}")
+    return replace(case, frequencies=keep)
+
+
 def _cmd_run(args, out):
     from bemcheck.case import load_case
     from bemcheck.run.runner import run_case
 
     case = load_case(args.case)
-    outcome = run_case(case, args.out, model=args.model)
+    if args.frequencies:
+        case = _subset(case, args.frequencies, args.case)
+    if args.workers < 1:
+        raise BemcheckInputError(f"--workers: expected a whole number ≥ 1, got {args.workers}")
+    options = {}
+    if args.model != "free":
+        options = {"workers": args.workers, "scheduler": args.scheduler, "device": args.device, "cache_dir": args.mesh_cache, "quiet": args.quiet}
+    outcome = run_case(case, args.out, model=args.model, **options)
     for line in outcome.verdict_lines:
         print(line, file=out)
     print(f"results: {outcome.results}", file=out)
@@ -112,10 +155,21 @@ def main(argv=None):
         print(f"bemcheck: this machine lacks something: {exc}", file=sys.stderr)
         return EXIT_FAILURE
     except KeyboardInterrupt:
-        print("bemcheck: interrupted; run the same command again to resume", file=sys.stderr)
+        print("bemcheck: interrupted; finished frequencies are kept: run the same command again to resume", file=sys.stderr)
         return 130
-    except Exception:  # an internal failure: keep the traceback, show its path
-        log = Path(tempfile.mkstemp(prefix="bemcheck-failure-", suffix=".log")[1])
-        log.write_text(traceback.format_exc())
-        print(f"bemcheck: internal failure; the traceback is in {log}", file=sys.stderr)
-        return EXIT_FAILURE
+    except OSError as exc:
+        if exc.errno in _STORAGE_ERRORS:
+            where = exc.filename or "the output folder"
+            print(f"bemcheck: error: {where}: {exc.strerror}; nothing half-written was kept: free space or fix the folder, then run the same command to resume", file=sys.stderr)
+            return EXIT_BAD_INPUT
+        return _internal_failure()
+    except Exception:
+        return _internal_failure()
+
+
+def _internal_failure():
+    """Keep the traceback in a log file and say where it is."""
+    log = Path(tempfile.mkstemp(prefix="bemcheck-failure-", suffix=".log")[1])
+    log.write_text(traceback.format_exc())
+    print(f"bemcheck: internal failure; the traceback is in {log}", file=sys.stderr)
+    return EXIT_FAILURE
