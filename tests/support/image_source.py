@@ -50,3 +50,11 @@ def image_task(case, task, calls=None):
     arrays = {"far_field": r.far_field * scale, "points": r.points * scale, "impedance": r.impedance, "power_matrix": r.power_matrix}
     lam = case.medium.speed_of_sound / task.frequency
     return arrays, {"elements": 100, "elements_per_wavelength": lam / task.element_size, "device": "image-source", "seconds": 0.0}
+
+
+def slow_image_task(case, task, delay=0.3):
+    """:func:`image_task` that takes ``delay`` seconds, so a worker can be killed mid-sweep."""
+    import time
+
+    time.sleep(delay)
+    return image_task(case, task)
