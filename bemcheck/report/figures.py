@@ -1,0 +1,375 @@
+"""The figures of one run, drawn from its results Dataset.
+
+Each ``*_figure`` function returns a :class:`matplotlib.figure.Figure` (or
+None when the run holds nothing to draw); :func:`make_figures` draws them
+all and writes PNG and SVG files.
+"""
+
+from pathlib import Path
+
+import numpy as np
+from matplotlib.lines import Line2D
+from matplotlib.patches import Patch, Rectangle
+from matplotlib.ticker import FixedLocator, FormatStrFormatter, NullFormatter, NullLocator
+
+from bemcheck.case.model import Tolerance
+from bemcheck.compare import CONTROLLED
+from bemcheck.compare.trust import NOT_RESOLVED
+from bemcheck.observers import in_sector
+from bemcheck.report import style
+from bemcheck.report.layout import layout_figure
+from bemcheck.report.signals import (
+    case_of,
+    default_signal,
+    has_bem,
+    has_controls,
+    plane_directions,
+    polar_frequencies,
+    primary_q_of,
+    signal_fields,
+    trust_limit_hz,
+)
+
+# The departure map's colour scale never reaches beyond this [dB] unless the
+# tolerance itself is that wide (common practice, no source).
+MAP_CEILING_DB = 20.0
+# Polar plots span this many dB below the free-field maximum (common practice, no source).
+POLAR_RANGE_DB = 40.0
+SECTOR_TICKS_DB = (0.0, 0.5, 1.0, 2.0, 5.0, 10.0, 20.0, 60.0)
+_CURVE_STYLE = {
+    "free field": {"color": style.FREE, "lw": 1.8},
+    "scattered": {"color": style.SCATTERED, "lw": 1.6},
+    "scattered, as designed": {"color": style.SCATTERED, "lw": 1.6},
+    "scattered, re-optimised": {"color": style.REOPTIMISED, "lw": 1.3, "ls": (0, (5, 2))},
+    "primaries alone": {"color": style.MUTED, "lw": 1.2, "ls": (0, (2, 2))},
+}
+
+
+def _frequency_axis(ax, f):
+    """Log frequency axis with plain-number ticks on a 1-2-5 series."""
+    ax.set_xscale("log")
+    decades = 10.0 ** np.arange(np.floor(np.log10(f.min())) - 1, np.ceil(np.log10(f.max())) + 1)
+    ticks = np.outer(decades, [1.0, 2.0, 5.0]).ravel()
+    ax.xaxis.set_major_locator(FixedLocator(ticks))
+    ax.xaxis.set_major_formatter(FormatStrFormatter("%g"))
+    ax.xaxis.set_minor_formatter(NullFormatter())
+    ax.set_xlabel("frequency [Hz]")
+
+
+def signal_label(signal):
+    """How a signal is named in titles."""
+    return "controlled system (free-field design)" if signal == CONTROLLED else f"source '{signal}' alone"
+
+
+def _log_edges(f):
+    """Cell edges between increasing frequencies, geometric midpoints; a sixth octave around a single one."""
+    f = np.asarray(f, dtype=float)
+    if f.size == 1:
+        return f[0] * 2.0 ** np.array([-1 / 12, 1 / 12])
+    mid = np.sqrt(f[1:] * f[:-1])
+    return np.concatenate([[f[0] ** 2 / mid[0]], mid, [f[-1] ** 2 / mid[-1]]])
+
+
+def _circular_edges(az):
+    """Cell edges [deg] around increasing azimuths on a full circle; one cell spans 360."""
+    if az.size == 1:
+        return np.array([az[0] - 180.0, az[0] + 180.0])
+    ext = np.concatenate([[az[-1] - 360.0], az, [az[0] + 360.0]])
+    return 0.5 * (ext[1:] + ext[:-1])
+
+
+def departure_map_figure(ds, signal=CONTROLLED, tolerance_db=None, sectors=()):
+    """Level departure over frequency and azimuth, with the tolerance contour and the masks.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Results of a run holding both models.
+    signal : str
+        A source name or ``"controlled"``.
+    tolerance_db : float, optional
+        Level tolerance [dB]; default that of :class:`~bemcheck.case.model.Tolerance`.
+    sectors : sequence of Sector, optional
+        The case's tolerance sectors; each one's trust limit is marked
+        across its azimuths.
+
+    Returns
+    -------
+    matplotlib.figure.Figure or None
+        None for a free-field run or when no direction lies near the plane.
+    """
+    idx = plane_directions(ds)
+    if not has_bem(ds) or idx.size == 0:
+        return None
+    tol = Tolerance().level_db if tolerance_db is None else float(tolerance_db)
+    f = ds["frequency"].values
+    az = ds["azimuth_deg"].values[idx] % 360.0
+    level = ds["level_departure_db"].sel(signal=signal).values[:, idx]
+    judged = ds["significant"].sel(signal=signal).values[:, idx]
+    unresolved = (ds["status"].sel(signal=signal).values[:, idx] == NOT_RESOLVED) & judged
+    shown = np.ma.masked_where(~judged, level)
+    # The colour range follows the bulk of the departures but stays within a
+    # few tolerances, so that departures near the tolerance keep their shades.
+    span = float(np.percentile(np.abs(level[judged]), 90)) if judged.any() else tol
+    vmax = float(np.ceil(np.clip(span, 3.0 * tol, max(3.0 * tol, MAP_CEILING_DB))))
+
+    fig = style.new_figure(9.0, 5.0)
+    ax = fig.add_subplot()
+    x_edges, y_edges = _log_edges(f), _circular_edges(az)
+    mesh = ax.pcolormesh(x_edges, y_edges, shown.T, cmap=style.DEPARTURE_CMAP, vmin=-vmax, vmax=vmax, shading="flat")
+    for i, j0, j1 in _runs(unresolved):
+        ax.add_patch(Rectangle((x_edges[i], y_edges[j0]), x_edges[i + 1] - x_edges[i], y_edges[j1] - y_edges[j0],
+                               fill=False, hatch="////", edgecolor=style.INK, linewidth=0.0))
+    # Contours on the cell centres, with the circle closed on both sides.
+    yy = np.concatenate([[az[-1] - 360.0], az, [az[0] + 360.0]])
+    zz = np.ma.concatenate([shown[:, -1:], shown, shown[:, :1]], axis=1)
+    if f.size > 1 and judged.any():
+        ax.contour(f, yy, zz.T, levels=[-tol, tol], colors=[style.INK], linewidths=1.0, linestyles=["--", "-"])
+    _trust_marks(ax, ds, signal, y_edges, sectors)
+    _frequency_axis(ax, f)
+    ax.set_xlim(x_edges[0], x_edges[-1])
+    ax.set_ylim(y_edges[0], y_edges[-1])
+    ax.set_yticks(np.arange(0.0, 361.0, 45.0))
+    ax.grid(False)
+    ax.set_ylabel("azimuth in the observers' plane [°]")
+    ax.set_title(f"Level departure, BEM vs free field: {signal_label(signal)}")
+    bar = fig.colorbar(mesh, ax=ax, extend="both", pad=0.01)
+    bar.set_label("20 log10 |p_BEM / p_free| [dB]")
+    handles = [
+        Line2D([], [], color=style.INK, lw=1.0, label=f"+{tol:g} dB (solid), −{tol:g} dB (dashed)"),
+        Patch(facecolor=style.NULL_GREY, label="null in both models (not judged)"),
+        Patch(facecolor="white", edgecolor=style.INK, hatch="////", label="mesh cannot tell (not resolved)"),
+        Line2D([], [], color=style.INK, lw=3.0, solid_capstyle="butt", label="trust limit of a sector"),
+    ]
+    fig.legend(handles=handles, loc="outside lower center", ncol=4, fontsize=7.5)
+    return fig
+
+
+def _runs(mask):
+    """(column, start, stop) of contiguous True runs along axis 1 of a 2-D mask."""
+    out = []
+    for i, row in enumerate(mask):
+        d = np.diff(np.concatenate([[0], row.astype(int), [0]]))
+        out.extend((i, int(a), int(b)) for a, b in zip(np.nonzero(d == 1)[0], np.nonzero(d == -1)[0]))
+    return out
+
+
+def _trust_marks(ax, ds, signal, y_edges, sectors):
+    """A thick vertical bar at each sector's trust limit, spanning the sector's azimuths."""
+    centres = 0.5 * (y_edges[1:] + y_edges[:-1])
+    for sector in sectors:
+        if sector.name not in ds["sector"].values:
+            continue
+        at = {"sector": sector.name, "signal": signal}
+        if not bool(ds["trust_limit_found"].sel(at)):
+            continue
+        x = float(ds["trust_limit_hz"].sel(at))
+        inside = in_sector(centres, sector.from_deg, sector.to_deg)
+        for _, j0, j1 in _runs(inside[None, :]):
+            ax.plot([x, x], [y_edges[j0], y_edges[j1]], color=style.INK, lw=3.0, solid_capstyle="butt")
+            ax.annotate(sector.name, (x, 0.5 * (y_edges[j0] + y_edges[j1])), xytext=(4, 0), textcoords="offset points",
+                        fontsize=7, color=style.INK, va="center", rotation=90)
+
+
+def polar_figure(ds, signal, frequencies, primary_q=None):
+    """Far-field level in the observers' plane, one panel per frequency, each model a curve.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+    signal : str
+        A source name or ``"controlled"``.
+    frequencies : sequence of float
+        Solved frequencies to show [Hz] (the nearest solved ones are used).
+    primary_q : (Np,) array_like, optional
+        Primary strengths [m^3/s]; needed for ``"controlled"``.
+
+    Returns
+    -------
+    matplotlib.figure.Figure or None
+        None when no direction lies near the plane.
+    """
+    idx = plane_directions(ds)
+    if idx.size < 3:
+        return None
+    fields = signal_fields(ds, signal, primary_q)
+    f_all = ds["frequency"].values
+    theta = np.radians(ds["azimuth_deg"].values[idx])
+    theta = np.append(theta, theta[0] + 2.0 * np.pi)
+    n = len(frequencies)
+    fig = style.new_figure(min(3.0 * n + 0.6, 12.5), 3.9)
+    for k, freq in enumerate(frequencies):
+        i = int(np.argmin(np.abs(f_all - freq)))
+        ax = fig.add_subplot(1, n, k + 1, projection="polar")
+        ref = max(np.abs(p[i, idx]).max() for p in fields.values()) or 1.0
+        for label, p in fields.items():
+            level = 20.0 * np.log10(np.maximum(np.abs(p[i, idx]), 1e-12 * ref) / ref)
+            ax.plot(theta, np.append(level, level[0]).clip(-POLAR_RANGE_DB), label=label, **_CURVE_STYLE[label])
+        ax.set_rlim(-POLAR_RANGE_DB, 1.0)
+        ax.set_rticks(np.arange(-POLAR_RANGE_DB + 10.0, 0.1, 10.0))
+        ax.tick_params(axis="y", labelsize=6.5, labelcolor=style.MUTED)
+        ax.tick_params(axis="x", labelsize=7)
+        ax.set_rlabel_position(100.0)
+        ax.set_title(f"{f_all[i]:.0f} Hz", loc="center", fontsize=9)
+    handles, labels = fig.axes[0].get_legend_handles_labels()
+    fig.legend(handles, labels, loc="outside lower center", ncol=len(labels))
+    fig.suptitle(f"Far-field level in the observers' plane [dB re the loudest curve]: {signal_label(signal)}",
+                 x=0.01, ha="left", fontsize=10, fontweight="bold")
+    return fig
+
+
+def attenuation_figure(ds):
+    """Power attenuation against frequency: predicted (free field), as designed and re-optimised.
+
+    Returns
+    -------
+    matplotlib.figure.Figure or None
+        None when the layout has no control sources.
+    """
+    if not has_controls(ds):
+        return None
+    f = ds["frequency"].values
+    fig = style.new_figure(9.0, 4.0)
+    ax = fig.add_subplot()
+    predicted = ds["attenuation_free_db"].values
+    ax.plot(f, predicted, color=style.FREE, lw=1.8, marker="o", ms=3, label="predicted by the free-field model")
+    if has_bem(ds):
+        designed = ds["attenuation_as_designed_db"].values
+        ax.fill_between(f, designed, predicted, where=predicted > designed, color=style.SCATTERED, alpha=0.15,
+                        lw=0, label="lost to scattering")
+        ax.plot(f, designed, color=style.SCATTERED, lw=1.6, marker="s", ms=3, label="as designed, scattering included")
+        ax.plot(f, ds["attenuation_reoptimised_db"].values, color=style.REOPTIMISED, lw=1.3, ls=(0, (5, 2)),
+                label="re-optimised with scattering")
+        limit = trust_limit_hz(ds, CONTROLLED)
+        if limit is not None:
+            ax.axvline(limit, color=style.INK, lw=0.9, ls=":")
+            ax.annotate("trust limit", (limit, 1.0), xycoords=("data", "axes fraction"), xytext=(3, -10),
+                        textcoords="offset points", fontsize=7.5)
+    ax.axhline(0.0, color=style.MUTED, lw=0.8)
+    _frequency_axis(ax, f)
+    ax.set_ylabel("attenuation of radiated power [dB]")
+    ax.set_title("Power attenuation by the control sources")
+    ax.legend(loc="best")
+    return fig
+
+
+def sector_figure(ds, tolerance_db=None):
+    """RMS and largest |level departure| against frequency, one panel per sector, one colour per signal.
+
+    Returns
+    -------
+    matplotlib.figure.Figure or None
+        None for a free-field run.
+    """
+    if not has_bem(ds):
+        return None
+    tol = Tolerance().level_db if tolerance_db is None else float(tolerance_db)
+    f = ds["frequency"].values
+    sectors = [str(s) for s in ds["sector"].values]
+    signals = [str(g) for g in ds["signal"].values]
+    fig = style.new_figure(9.0, 1.2 + 2.4 * len(sectors))
+    axes = fig.subplots(len(sectors), 1, sharex=True, squeeze=False)[:, 0]
+    for ax, sector in zip(axes, sectors):
+        ax.axhspan(0.0, tol, color=style.TOLERANCE_FILL, lw=0)
+        for g, signal in enumerate(signals):
+            emphasis = signal == CONTROLLED
+            colour = style.INK if emphasis else style.CYCLE[g % len(style.CYCLE)]
+            lw = 2.0 if emphasis else 1.1
+            rms = ds["diffraction_rms_db"].sel(sector=sector, signal=signal).values
+            top = ds["diffraction_max_db"].sel(sector=sector, signal=signal).values
+            ax.plot(f, rms, color=colour, lw=lw, label=signal)
+            ax.plot(f, top, color=colour, lw=lw * 0.7, ls=(0, (4, 2)))
+            unresolved = ds["not_resolved_fraction"].sel(sector=sector, signal=signal).values > 0
+            if emphasis and unresolved.any():
+                ax.plot(f[unresolved], np.zeros(unresolved.sum()), ls="none", marker="|", ms=9, color=style.MUTED,
+                        clip_on=False)
+        _frequency_axis(ax, f)
+        ax.set_yscale("symlog", linthresh=1.0)
+        ax.set_ylim(0.0, max(10.0, 1.2 * float(ds["diffraction_max_db"].sel(sector=sector).max())))
+        ax.yaxis.set_major_locator(FixedLocator(SECTOR_TICKS_DB))
+        ax.yaxis.set_major_formatter(FormatStrFormatter("%g"))
+        ax.yaxis.set_minor_locator(NullLocator())
+        ax.set_ylabel("|ΔL| [dB]")
+        ax.set_title(f"sector '{sector}'", fontsize=9)
+    for ax in axes[:-1]:
+        ax.set_xlabel("")
+    style_handles = [
+        Line2D([], [], color=style.MUTED, lw=1.2, label="RMS over the sector"),
+        Line2D([], [], color=style.MUTED, lw=1.0, ls=(0, (4, 2)), label="largest in the sector"),
+        Patch(facecolor=style.TOLERANCE_FILL, label=f"within the tolerance ({tol:g} dB)"),
+        Line2D([], [], color=style.MUTED, ls="none", marker="|", ms=9, label="mesh cannot tell (controlled)"),
+    ]
+    colour_handles = axes[0].get_legend_handles_labels()[0]
+    fig.legend(handles=colour_handles + style_handles, loc="outside right upper", fontsize=7.5)
+    fig.suptitle("Level departure per sector, BEM vs free field", x=0.01, ha="left", fontsize=10, fontweight="bold")
+    return fig
+
+
+def make_figures(ds, out_dir, *, case=None, mesh=None, signals=None, frequencies=None, tolerance_db=None,
+                 formats=style.FORMATS):
+    """Draw every figure a run supports and write them to ``out_dir``.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Results of a run (free-field only or both models); see
+        :mod:`bemcheck.run.dataset`.
+    out_dir : str or Path
+        Folder for the files; created if needed.
+    case : Case, optional
+        The run's case; default re-read from ``ds.attrs["case_text"]``.  Gives
+        primary strengths (controlled-field polars), sector bounds and
+        source/observer positions (layout).
+    mesh : SurfaceMesh, optional
+        Bodies to draw in the layout figure; no layout figure without it.
+    signals : sequence of str, optional
+        Signals for the departure maps; default the controlled system and
+        each primary.
+    frequencies : sequence of float, optional
+        Frequencies for the polar plots [Hz]; default a few spread over the
+        band, one near the trust limit.
+    tolerance_db : float, optional
+        Level tolerance [dB]; default the case's.
+    formats : sequence of {"png", "svg"}
+        The first one is returned.
+
+    Returns
+    -------
+    dict[str, Path]
+        Figure name -> file of the first format; the other formats sit beside
+        it with the same stem.  Names: ``departure_map_<signal>``,
+        ``polar_<signal>``, ``attenuation``, ``departure_by_sector``, ``layout``.
+
+    Examples
+    --------
+    >>> import bemcheck, tempfile
+    >>> run = bemcheck.run_case(bemcheck.load_case(bemcheck.example_path("free-pair")), tempfile.mkdtemp(), model="free")
+    >>> sorted(make_figures(bemcheck.load_results(run.folder), run.folder / "figures"))
+    ['attenuation', 'polar_controlled']
+    """
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    if case is None:
+        case, _ = case_of(ds)
+    if tolerance_db is None and case is not None:
+        tolerance_db = case.tolerance.level_db
+    primary_q = primary_q_of(case)
+    focus = default_signal(ds)
+    if focus == CONTROLLED and primary_q is None:
+        focus = str(ds["source"].values[list(ds["role"].values).index("primary")])
+    if signals is None:
+        primaries = [str(s) for s, r in zip(ds["source"].values, ds["role"].values) if r == "primary"]
+        signals = ([CONTROLLED] if has_controls(ds) else []) + primaries
+    sectors = case.tolerance.sectors if case is not None else ()
+    drawers = {f"departure_map_{g}": (lambda g=g: departure_map_figure(ds, g, tolerance_db, sectors)) for g in signals}
+    drawers[f"polar_{focus}"] = lambda: polar_figure(ds, focus, frequencies or polar_frequencies(ds, focus), primary_q)
+    drawers["attenuation"] = lambda: attenuation_figure(ds)
+    drawers["departure_by_sector"] = lambda: sector_figure(ds, tolerance_db)
+    drawers["layout"] = lambda: layout_figure(mesh, case) if mesh is not None else None
+    written = {}
+    with style.styled():
+        for name, draw in drawers.items():
+            fig = draw()
+            if fig is not None:
+                written[name] = style.save(fig, out, style.file_stem(name), formats)
+    return written

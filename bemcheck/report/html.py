@@ -1,0 +1,318 @@
+"""One self-contained HTML page per run: what ran, the verdict, tables, figures, mesh, case text, cautions.
+
+The page needs no network: figures are embedded as base64 data, the style
+and the one small script are inline, and a Content-Security-Policy forbids
+every other source.
+"""
+
+import base64
+import hashlib
+import json
+from html import escape
+from pathlib import Path
+
+from bemcheck.compare import verdict_lines
+from bemcheck.errors import BemcheckInputError
+from bemcheck.report import tables
+from bemcheck.report.figures import make_figures
+from bemcheck.report.signals import case_of, has_bem
+from bemcheck.run.results import SUMMARY_FILE, atomic_write_bytes, load_results
+
+REPORT_FILE = "report.html"
+FIGURES_DIR = "figures"
+
+CAUTIONS = (
+    ("Loud sound near the player's ears",
+     "Control sources placed around an instrument sit close to the player's head and can raise what the player "
+     "hears, even while they lower the power radiated into the room. Wear hearing protection while testing, build "
+     "up levels gradually, and keep exposure within the limits that the regulations where you work set."),
+    ("Amplifier and driver power",
+     "Optimal control strengths can ask for more volume velocity than a small loudspeaker delivers cleanly. Check "
+     "driver excursion, thermal ratings and amplifier power against the computed strengths before connecting "
+     "anything, and limit the amplifier's output during first tests."),
+    ("What this report is",
+     "bemcheck compares two acoustic models of one layout. It verifies acoustics; it does not certify safety. "
+     "For electrical installation, mounting, rigging and noise exposure, defer to local codes and licensed practice."),
+)
+
+CAPTIONS = {
+    "departure_map": "Level departure of the scattered field (BEM) from the free-field prediction over frequency and "
+                     "azimuth. Colour: 20 log10 |p_BEM/p_free|. Solid and dashed contours: the level tolerance. Grey: "
+                     "nulls of both models (not judged). Hatched: the departure is within the BEM's own error of the "
+                     "tolerance (refine the mesh to decide). Black bars: each sector's trust limit.",
+    "polar": "Far-field level in the observers' plane at a few frequencies spread over the band (one near the trust "
+             "limit), each model a curve, in dB relative to the loudest curve of the panel.",
+    "attenuation": "Attenuation of the radiated power by the control sources: as the free-field model predicts it, as "
+                   "the free-field design really gets it with the bodies scattering, and with the control strengths "
+                   "re-optimised for the scattered world.",
+    "departure_by_sector": "RMS (solid) and largest (dashed) |level departure| over each sector's directions, per "
+                           "signal; the shaded band is the tolerance. Ticks on the frequency axis: frequencies where "
+                           "the mesh cannot tell for the controlled system.",
+    "layout": "The meshed bodies with the sources and observer points, in perspective and projected across the "
+              "observers' plane.",
+}
+
+# A free-field run has no scattered curves; these captions replace the ones above.
+FREE_ONLY_CAPTIONS = {
+    "polar": "Far-field level in the observers' plane at a few frequencies spread over the band, free-field model "
+             "only: the controlled system and the primaries alone, in dB relative to the loudest curve of the panel.",
+    "attenuation": "Attenuation of the radiated power by the control sources as the free-field model predicts it "
+                   "(the BEM was not run).",
+}
+
+SCRIPT = (
+    "window.addEventListener('load',function(){var im=document.images,ok=0;"
+    "for(var i=0;i<im.length;i++){if(im[i].complete&&im[i].naturalWidth>0){ok++;}}"
+    "document.body.setAttribute('data-images',ok===im.length?'all-loaded':ok+' of '+im.length);});"
+)
+
+CSS = """
+:root{--ink:#1e2b35;--muted:#5d6872;--line:#d5dadf;--paper:#fbfaf7;--band:#f1efe8;--pass:#2f6b3a;--fail:#a3321c;}
+*{box-sizing:border-box}
+body{margin:0;background:var(--paper);color:var(--ink);font:15px/1.5 "DejaVu Sans",system-ui,sans-serif}
+header{background:var(--ink);color:#f4f2ec;padding:1.4rem 2rem 1rem}
+header h1{margin:0;font-size:1.45rem;font-weight:600}
+header p{margin:.3rem 0 0;color:#c9d0d6;font-size:.9rem}
+nav{padding:.5rem 2rem;background:var(--band);border-bottom:1px solid var(--line);font-size:.88rem}
+nav a{color:var(--ink);margin-right:1.1rem;text-decoration:none;border-bottom:1px dotted var(--muted)}
+main{max-width:1180px;margin:0 auto;padding:0 2rem 3rem}
+section{margin-top:2.2rem}
+h2{font-size:1.15rem;border-bottom:2px solid var(--ink);padding-bottom:.2rem;margin-bottom:.8rem}
+h3{font-size:1rem;margin:1.3rem 0 .4rem}
+table{border-collapse:collapse;margin:.4rem 0 1rem;font-size:.86rem;background:#fff}
+th,td{border:1px solid var(--line);padding:.25rem .6rem;text-align:left;vertical-align:top}
+th{background:var(--band);font-weight:600}
+tbody tr:nth-child(even){background:#f7f6f2}
+.scroll{max-height:26rem;overflow:auto;display:inline-block;border:1px solid var(--line)}
+.scroll table{margin:0}
+.badge{display:inline-block;padding:.15rem .8rem;border-radius:3px;color:#fff;font-weight:700;letter-spacing:.06em}
+.badge.pass{background:var(--pass)}
+.badge.fail{background:var(--fail)}
+.headline{font-size:1.05rem;margin:.3rem 0 .6rem}
+.verdict-lines{font-family:"DejaVu Sans Mono",monospace;font-size:.82rem;background:#fff;border:1px solid var(--line);padding:.6rem 1rem;list-style:none}
+.note{color:var(--muted);font-style:italic}
+figure{margin:1.2rem 0 2rem;background:#fff;border:1px solid var(--line);padding:.6rem}
+figure img{max-width:100%;height:auto;display:block}
+figcaption{font-size:.85rem;color:var(--muted);margin-top:.4rem}
+pre.case{background:#fff;border:1px solid var(--line);padding:.8rem 1rem;overflow:auto;font-size:.82rem}
+.banner{margin:1.2rem 0 0;padding:.5rem 1rem;border-left:5px solid var(--fail);background:#fff;font-size:.9rem}
+.cautions{border-left:5px solid var(--fail);background:#fff;padding:.4rem 1.2rem}
+footer{max-width:1180px;margin:0 auto;padding:1rem 2rem 2rem;color:var(--muted);font-size:.8rem}
+"""
+
+
+def _sha256(text):
+    return "sha256-" + base64.b64encode(hashlib.sha256(text.encode()).digest()).decode()
+
+
+def _text(s):
+    return escape(str(s), quote=False)
+
+
+def _table(rows, scroll=False):
+    """An HTML table from plain rows (first the header); every cell is escaped."""
+    head = "".join(f"<th>{_text(c)}</th>" for c in rows[0])
+    body = "".join("<tr>" + "".join(f"<td>{_text(c)}</td>" for c in r) + "</tr>" for r in rows[1:])
+    t = f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>"
+    return f'<div class="scroll">{t}</div>' if scroll else t
+
+
+def _section(sid, title, body):
+    return f'<section id="{sid}"><h2>{_text(title)}</h2>\n{body}\n</section>'
+
+
+def _note(text):
+    return f'<p class="note">{_text(text)}</p>'
+
+
+def _png_size(data):
+    """(width, height) from a PNG header, or None."""
+    if data[:8] != b"\x89PNG\r\n\x1a\n":
+        return None
+    return int.from_bytes(data[16:20], "big"), int.from_bytes(data[20:24], "big")
+
+
+def _figure(name, path, bem):
+    data = Path(path).read_bytes()
+    mime = "image/svg+xml" if Path(path).suffix == ".svg" else "image/png"
+    size = _png_size(data)
+    dims = f' width="{size[0]}" height="{size[1]}"' if size else ""
+    captions = CAPTIONS if bem else {**CAPTIONS, **FREE_ONLY_CAPTIONS}
+    caption = next((c for key, c in captions.items() if name.startswith(key)), "")
+    uri = f"data:{mime};base64,{base64.b64encode(data).decode()}"
+    return (f'<figure id="fig-{escape(name)}"><img src="{uri}" alt="{escape(name.replace("_", " "))}"{dims}>'
+            f"<figcaption><b>{_text(name.replace('_', ' '))}.</b> {_text(caption)} "
+            f"Files: {FIGURES_DIR}/{_text(Path(path).stem)}.png and .svg.</figcaption></figure>")
+
+
+def _verdict_body(ds, summary):
+    v = summary.get("verdict")
+    if v is None:
+        if not has_bem(ds):
+            return _note("The BEM was not run (a free-field run): the free-field results are shown below, but there "
+                         "is no comparison, no trust limit and no verdict. Run both models to get them.")
+        return _note("The summary holds no verdict for this run.")
+    lines = verdict_lines(v)
+    word = "pass" if v["passed"] else "fail"
+    parts = [
+        f'<p class="headline"><span class="badge {word}">{word.upper()}</span> {_text(lines[0])}</p>',
+        '<ul class="verdict-lines">' + "".join(f"<li>{_text(line.strip())}</li>" for line in lines[1:]) + "</ul>",
+        "<h3>Per sector</h3>", _table(tables.verdict_sector_rows(v)),
+    ]
+    att = tables.verdict_attenuation_rows(v)
+    if att:
+        parts += ["<h3>Attenuation over the band</h3>", _table(att)]
+    rules = tables.rules_rows(v)
+    if rules:
+        parts += ["<h3>Rules of thumb</h3>", _table(rules)]
+    return "\n".join(parts)
+
+
+def _extra(extra_sections):
+    out = []
+    for i, item in enumerate(extra_sections):
+        try:
+            title, rows = item
+            rows = [tuple(r) for r in rows]
+        except (TypeError, ValueError):
+            raise TypeError(f"extra_sections[{i}]: expected (title, rows) with rows a sequence of rows") from None
+        body = _table(rows, scroll=len(rows) > 15) if rows else _note("nothing to show")
+        out.append((f"extra-{i + 1}", str(title), body))
+    return out
+
+
+def render_report(ds, summary, figures, mesh=None, extra_sections=(), case_note=""):
+    """The report page as a string.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Results of the run (free-field only or both models).
+    summary : dict
+        The run's summary (``summary.json``); its ``"verdict"`` is shown when present.
+    figures : dict[str, Path]
+        From :func:`~bemcheck.report.figures.make_figures`; embedded in order.
+    mesh : SurfaceMesh, optional
+        Its statistics per body are tabulated.
+    extra_sections : sequence of (str, sequence of sequence)
+        Further sections (title, table rows with the header first); cells
+        are plain text and are escaped here.
+    case_note : str
+        Why the case could not be re-read, if it could not.
+
+    Returns
+    -------
+    str
+    """
+    a = ds.attrs
+    title = a.get("title", summary.get("title", "bemcheck run"))
+    sections = [("summary", "What was run", _table(tables.summary_rows(ds, summary)))]
+    sections.append(("verdict", "Verdict", _verdict_body(ds, summary)))
+    trust = tables.trust_rows(ds)
+    sections.append(("trust-limits", "Trust limits per sector and signal",
+                     _table(trust) + _note("The trust limit is the lowest frequency where the departure surely "
+                                           "exceeds the tolerance.") if trust else
+                     _note("Not computed: the BEM was not run.")))
+    sections.append(("attenuation", "Power and attenuation per frequency", _table(tables.attenuation_rows(ds), scroll=True)))
+    figs = "\n".join(_figure(n, p, has_bem(ds)) for n, p in figures.items()) or _note("No figure could be drawn for this run.")
+    sections.append(("figures", "Figures", figs))
+    mesh_body = _table(tables.mesh_rows(mesh)) if mesh is not None else _note("No mesh was given to the report.")
+    sections.append(("mesh", "Mesh", mesh_body))
+    err = tables.numerical_error_rows(ds)
+    sections.append(("numerical-error", "Numerical error of the BEM",
+                     _table(err, scroll=True) if err else _note("Not available: the BEM was not run.")))
+    sections += _extra(extra_sections)
+    case_body = f'<pre class="case">{_text(a.get("case_text", ""))}</pre>' + (_note(case_note) if case_note else "")
+    sections.append(("case", "Case file", case_body))
+    cautions = "".join(f"<h3>{_text(h)}</h3><p>{_text(t)}</p>" for h, t in CAUTIONS)
+    sections.append(("cautions", "Cautions", f'<div class="cautions">{cautions}</div>'))
+
+    nav = "".join(f'<a href="#{sid}">{_text(t)}</a>' for sid, t, _ in sections)
+    body = "\n".join(_section(sid, t, b) for sid, t, b in sections)
+    csp = f"default-src 'none'; img-src data:; style-src '{_sha256(CSS)}'; script-src '{_sha256(SCRIPT)}'"
+    return f"""<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta http-equiv="Content-Security-Policy" content="{csp}">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>{_text(title)} | bemcheck report</title>
+<style>{CSS}</style>
+</head>
+<body data-images="pending">
+<header><h1>{_text(title)}</h1><p>bemcheck report, case hash {_text(a.get("case_hash", summary.get("case_hash", "")))}</p></header>
+<nav>{nav}</nav>
+<main>
+<p class="banner">Before any test with loudspeakers around a player, read the <a href="#cautions">cautions</a> at the end of this report.</p>
+{body}
+</main>
+<footer>Written by bemcheck {_text(a.get("bemcheck_version", ""))}. The page needs no network; the figures are also in {FIGURES_DIR}/ as PNG and SVG.</footer>
+<script>{SCRIPT}</script>
+</body>
+</html>
+"""
+
+
+def write_report(folder, ds, summary, mesh=None, extra_sections=(), case=None):
+    """Draw the figures and write ``report.html`` into a run folder.
+
+    Parameters
+    ----------
+    folder : str or Path
+        The run folder; figures go to ``folder/figures``.
+    ds : xarray.Dataset
+        The run's results (see :mod:`bemcheck.run.dataset`).
+    summary : dict
+        The run's summary; ``summary["verdict"]`` from
+        :func:`bemcheck.compare.verdict` when both models ran.
+    mesh : SurfaceMesh, optional
+        The meshed bodies: a layout figure and mesh statistics.
+    extra_sections : sequence of (str, sequence of sequence)
+        Further tables (e.g. mesh statistics per band, driver checks): title
+        and rows, header first, cells plain text.
+    case : Case, optional
+        The run's case; default re-read from ``ds.attrs["case_text"]``.
+
+    Returns
+    -------
+    Path
+        The report file, written through a temporary file and a rename.
+
+    Examples
+    --------
+    >>> import bemcheck, tempfile
+    >>> run = bemcheck.run_case(bemcheck.load_case(bemcheck.example_path("free-pair")), tempfile.mkdtemp(), model="free")
+    >>> write_report(run.folder, bemcheck.load_results(run.folder), run.summary).name
+    'report.html'
+    """
+    folder = Path(folder)
+    note = ""
+    if case is None:
+        case, note = case_of(ds)
+    figures = make_figures(ds, folder / FIGURES_DIR, case=case, mesh=mesh)
+    page = render_report(ds, summary, figures, mesh=mesh, extra_sections=extra_sections, case_note=note)
+    path = folder / REPORT_FILE
+    atomic_write_bytes(path, page.encode("utf-8"))
+    return path
+
+
+def report_run(folder, mesh=None, extra_sections=()):
+    """Write the report of a finished run from its ``results.nc`` and ``summary.json``.
+
+    Raises
+    ------
+    BemcheckInputError
+        The folder holds no results or no readable summary.
+    """
+    folder = Path(folder)
+    ds = load_results(folder)
+    path = folder / SUMMARY_FILE
+    try:
+        summary = json.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise BemcheckInputError(f"{path}: no summary here; expected the folder of a finished `bemcheck run`") from None
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise BemcheckInputError(f"{path}: cannot read the summary ({exc}); expected the JSON a run writes") from None
+    if not isinstance(summary, dict):
+        raise BemcheckInputError(f"{path}: expected a JSON object, got {type(summary).__name__}")
+    return write_report(folder, ds, summary, mesh=mesh, extra_sections=extra_sections)

@@ -1,0 +1,124 @@
+"""A picture of the meshed layout: the bodies' triangles, the sources and the observer points."""
+
+import numpy as np
+from matplotlib.collections import PolyCollection
+from matplotlib.colors import to_rgb
+from matplotlib.lines import Line2D
+from mpl_toolkits.mplot3d.art3d import Poly3DCollection
+
+from bemcheck.report import style
+
+_AXES = {"x": 0, "y": 1, "z": 2}
+PRIMARY_MARK = {"marker": "*", "s": 90, "color": "#8f1d14"}
+CONTROL_MARK = {"marker": "o", "s": 36, "color": "#0f6a73"}
+POINT_MARK = {"marker": "^", "s": 36, "color": style.INK}
+
+
+def body_of_triangles(mesh):
+    """Body name of every triangle, from the mesh's groups (``"bell.mouth"`` belongs to ``"bell"``).
+
+    Parameters
+    ----------
+    mesh : SurfaceMesh
+
+    Returns
+    -------
+    (nt,) ndarray of str
+        Tags with no group are named ``"tag <n>"``.
+    """
+    names = {tag: name.split(".")[0] for name, tag in mesh.groups.items()}
+    return np.array([names.get(int(t), f"tag {int(t)}") for t in mesh.domains])
+
+
+def _face_colours(mesh, shade):
+    bodies = body_of_triangles(mesh)
+    order = list(dict.fromkeys(bodies))
+    base = {b: np.array(to_rgb(style.CYCLE[(i + 3) % len(style.CYCLE)])) for i, b in enumerate(order)}
+    rgb = np.array([base[b] for b in bodies])
+    # Parts of a body (a mouth, a driver face) a shade lighter than the body.
+    part = np.isin(mesh.domains, [t for name, t in mesh.groups.items() if "." in name])
+    rgb[part] = 0.55 * rgb[part] + 0.45
+    return np.clip(rgb * shade[:, None], 0.0, 1.0), base
+
+
+def _markers(case):
+    """(positions (n, 3), marker style, label) of the case's sources and observer points."""
+    out = []
+    if case is None:
+        return out
+    for s in case.sources:
+        out.append((np.array(s.position), PRIMARY_MARK if s.role == "primary" else CONTROL_MARK, s.name))
+    for p in case.observers.points:
+        out.append((np.array(p.at), POINT_MARK, p.name))
+    return out
+
+
+def layout_figure(mesh, case=None):
+    """The meshed bodies in perspective and projected on the observers' plane, with sources and observers.
+
+    Parameters
+    ----------
+    mesh : SurfaceMesh
+        Outward-oriented triangles [m]; bodies told apart by ``mesh.groups``.
+    case : Case, optional
+        Gives the sources, the observer points and the observers' plane
+        (default plane "xy").
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    plane = case.observers.far_field.plane if case is not None else "xy"
+    a, b = _AXES[plane[0]], _AXES[plane[1]]
+    normal = np.cross(np.eye(3)[a], np.eye(3)[b])
+    p = mesh.vertices[mesh.triangles]  # (nt, 3, 3)
+    n = np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0])
+    n /= np.maximum(np.linalg.norm(n, axis=1, keepdims=True), 1e-300)
+    marks = _markers(case)
+    cloud = np.vstack([mesh.vertices] + [m[0][None] for m in marks])
+    lo, hi = cloud.min(axis=0), cloud.max(axis=0)
+    pad = 0.06 * max(float((hi - lo).max()), 1e-3)
+    lo, hi = lo - pad, hi + pad
+
+    fig = style.new_figure(11.0, 5.2)
+    ax3 = fig.add_subplot(1, 2, 1, projection="3d")
+    light = np.array([0.35, -0.55, 0.75])
+    colours, base = _face_colours(mesh, 0.55 + 0.45 * np.clip(n @ (light / np.linalg.norm(light)), 0.0, 1.0))
+    ax3.add_collection3d(Poly3DCollection(p, facecolors=colours, edgecolors=(0, 0, 0, 0.18), linewidths=0.15,
+                                          rasterized=True))
+    for pos, mark, label in marks:
+        ax3.scatter(*pos, depthshade=False, **mark)
+        ax3.text(*pos, f" {label}", fontsize=7)
+    ax3.set_xlim(lo[0], hi[0])
+    ax3.set_ylim(lo[1], hi[1])
+    ax3.set_zlim(lo[2], hi[2])
+    ax3.set_box_aspect(hi - lo)
+    ax3.set_xlabel("x [m]")
+    ax3.set_ylabel("y [m]")
+    ax3.set_zlabel("z [m]")
+    ax3.set_title("Layout in perspective")
+
+    ax2 = fig.add_subplot(1, 2, 2)
+    depth = p.mean(axis=1) @ normal
+    order = np.argsort(depth)  # far first: the viewer looks along -normal
+    flat, _ = _face_colours(mesh, 0.5 + 0.5 * np.abs(n @ normal))
+    ax2.add_collection(PolyCollection(p[order][:, :, [a, b]], facecolors=flat[order], edgecolors=(0, 0, 0, 0.12),
+                                      linewidths=0.15, rasterized=True))
+    for pos, mark, label in marks:
+        ax2.scatter(pos[a], pos[b], zorder=3, **mark)
+        ax2.annotate(label, (pos[a], pos[b]), xytext=(4, 3), textcoords="offset points", fontsize=7)
+    ax2.set_xlim(lo[a], hi[a])
+    ax2.set_ylim(lo[b], hi[b])
+    ax2.set_aspect("equal")
+    ax2.set_xlabel(f"{plane[0]} [m]")
+    ax2.set_ylabel(f"{plane[1]} [m]")
+    ax2.set_title(f"Seen across the observers' plane ({plane})")
+    handles = [Line2D([], [], ls="none", marker="s", ms=8, color=c, label=name) for name, c in base.items()]
+    handles += [
+        Line2D([], [], ls="none", marker=PRIMARY_MARK["marker"], ms=10, color=PRIMARY_MARK["color"], label="primary"),
+        Line2D([], [], ls="none", marker=CONTROL_MARK["marker"], ms=6, color=CONTROL_MARK["color"], label="control"),
+        Line2D([], [], ls="none", marker=POINT_MARK["marker"], ms=6, color=POINT_MARK["color"], label="observer point"),
+    ]
+    ax2.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.02, 1.0))
+    fig.suptitle(f"Meshed layout: {mesh.n_triangles} triangles", x=0.01, ha="left", fontsize=10, fontweight="bold")
+    return fig

@@ -1,0 +1,114 @@
+"""The look of bemcheck's figures: one palette, one set of matplotlib settings, one way to save.
+
+Figures are built on :class:`matplotlib.figure.Figure` with an explicit Agg
+canvas, so no global backend is chosen and pyplot's figure registry is never
+touched (safe in worker processes and in tests).
+"""
+
+import io
+import re
+
+from matplotlib import rc_context
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.backends.backend_svg import FigureCanvasSVG
+from matplotlib.colors import LinearSegmentedColormap
+from matplotlib.figure import Figure
+
+from bemcheck.run.results import atomic_write_bytes
+
+INK = "#1e2b35"
+MUTED = "#6b7680"
+GRID = "#d9dee2"
+NULL_GREY = "#c4c7ca"
+FREE = "#2f6f8f"  # the free-field monopole model
+SCATTERED = "#b4532f"  # the BEM, scattering included, strengths as designed
+REOPTIMISED = "#5b7f3a"  # the BEM with strengths re-optimised
+TOLERANCE_FILL = "#e6efe0"
+# Qualitative colours for per-signal and per-body lines, in this order.
+CYCLE = ("#2f6f8f", "#b4532f", "#5b7f3a", "#7d5a94", "#c28f2c", "#3f8c8a", "#9c4a6b", "#5c6770")
+
+# Diverging map for level departures: deep teal (scattered quieter) through
+# warm paper (agreement) to rust (scattered louder).
+DEPARTURE_CMAP = LinearSegmentedColormap.from_list(
+    "bemcheck_departure", ["#0f4650", "#4f9aa0", "#f4f0e6", "#dc9a5e", "#7e2a18"]
+).with_extremes(bad=NULL_GREY)
+
+RC = {
+    "font.family": "DejaVu Sans",
+    "font.size": 9.0,
+    "axes.titlesize": 10.0,
+    "axes.titleweight": "bold",
+    "axes.titlelocation": "left",
+    "axes.labelcolor": INK,
+    "axes.edgecolor": MUTED,
+    "axes.linewidth": 0.8,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "axes.grid": True,
+    "grid.color": GRID,
+    "grid.linewidth": 0.6,
+    "xtick.color": MUTED,
+    "ytick.color": MUTED,
+    "xtick.labelcolor": INK,
+    "ytick.labelcolor": INK,
+    "text.color": INK,
+    "legend.frameon": False,
+    "legend.fontsize": 8.0,
+    "hatch.linewidth": 0.7,
+    "svg.fonttype": "none",
+    "figure.facecolor": "white",
+    "savefig.facecolor": "white",
+}
+DPI = 110
+FORMATS = ("png", "svg")
+_CANVAS = {"png": FigureCanvasAgg, "svg": FigureCanvasSVG}
+
+
+def new_figure(width_in, height_in, **kw):
+    """A figure in bemcheck's style, drawn with Agg; call inside :func:`styled`."""
+    fig = Figure(figsize=(width_in, height_in), dpi=DPI, layout="constrained", **kw)
+    FigureCanvasAgg(fig)
+    return fig
+
+
+def styled():
+    """Context manager applying :data:`RC` to figures made and saved inside it."""
+    return rc_context(RC)
+
+
+def file_stem(name):
+    """A file-name-safe version of ``name`` (source names come from the case file).
+
+    Examples
+    --------
+    >>> file_stem("polar controlled/L 1")
+    'polar_controlled_L_1'
+    """
+    return re.sub(r"[^A-Za-z0-9_.-]+", "_", name).strip("._") or "figure"
+
+
+def save(fig, out_dir, name, formats=FORMATS):
+    """Write ``fig`` as ``out_dir/name.<fmt>`` for each format, atomically.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+    out_dir : pathlib.Path
+        Existing folder.
+    name : str
+        File stem (already safe, see :func:`file_stem`).
+    formats : sequence of {"png", "svg"}
+
+    Returns
+    -------
+    pathlib.Path
+        The file of the first format.
+    """
+    paths = []
+    for fmt in formats:
+        buf = io.BytesIO()
+        _CANVAS[fmt](fig).print_figure(buf, format=fmt, dpi=DPI)
+        path = out_dir / f"{name}.{fmt}"
+        atomic_write_bytes(path, buf.getvalue())
+        paths.append(path)
+    return paths[0]

@@ -1,0 +1,205 @@
+"""The report's tables as plain rows (first row the header); the HTML page escapes and lays them out."""
+
+import numpy as np
+
+from bemcheck.report.layout import body_of_triangles
+from bemcheck.report.signals import has_bem, has_controls
+
+
+def hz(f):
+    """A frequency for people.
+
+    Examples
+    --------
+    >>> hz(1795.9), hz(70.71)
+    ('1796 Hz', '70.71 Hz')
+    """
+    return f"{f:.4g} Hz" if f < 1000.0 else f"{f:.0f} Hz"
+
+
+def db(x, signed=False):
+    """A level in dB to 0.1 dB.
+
+    Examples
+    --------
+    >>> db(1.234), db(-0.04, signed=True)
+    ('1.2 dB', '+0.0 dB')
+    """
+    x = round(float(x), 1) + 0.0  # no "-0.0"
+    return f"{x:+.1f} dB" if signed else f"{x:.1f} dB"
+
+
+def summary_rows(ds, summary):
+    """What was run: title, fingerprint, frequencies, models, device, software."""
+    a = ds.attrs
+    f = ds["frequency"].values
+    models = "free-field monopole model and BEM (rigid bodies)" if has_bem(ds) else "free-field monopole model only; the BEM was not run"
+    software = ", ".join(
+        f"{name} {a[key]}"
+        for name, key in (("bemcheck", "bemcheck_version"), ("bempp-cl", "bempp_cl_version"), ("gmsh", "gmsh_version"),
+                          ("numpy", "numpy_version"), ("scipy", "scipy_version"))
+        if key in a
+    )
+    rows = [
+        ("item", "value"),
+        ("title", a.get("title", summary.get("title", ""))),
+        ("case hash", a.get("case_hash", summary.get("case_hash", ""))),
+        ("case file", a.get("case_file", "")),
+        ("frequencies", f"{f.size} from {hz(f[0])} to {hz(f[-1])}"),
+        ("far-field directions", f"{ds.sizes['direction']}"),
+        ("sources", ", ".join(f"{s} ({r})" for s, r in zip(ds["source"].values, ds["role"].values))),
+        ("observer points", ", ".join(str(p) for p in ds["point"].values) or "none"),
+        ("models run", models),
+        ("BEM device", a.get("device", "none")),
+        ("software", software),
+        ("time convention", a.get("time_convention", "")),
+    ]
+    return rows
+
+
+def verdict_sector_rows(verdict):
+    """One row per tolerance sector of the verdict dict (:func:`bemcheck.compare.verdict`)."""
+    rows = [("sector", "azimuths", "trust limit", "worst departure", "where", "level margin", "result", "refine the mesh at")]
+    for s in verdict["sectors"]:
+        w = s["worst_at"]
+        limit = hz(s["trust_limit_hz"]) if s["trust_limit_hz"] is not None else "none found in the band"
+        rows.append((
+            s["sector"],
+            f"{s['from_deg']:g}° to {s['to_deg']:g}°",
+            limit,
+            db(s["worst_departure_db"]),
+            f"{hz(w['frequency_hz'])}, {w['azimuth_deg']:.0f}°, {w['signal']}",
+            db(s["level_margin_db"], signed=True),
+            "pass" if s["passed"] else "fail",
+            ", ".join(hz(f) for f in s["refine_mesh_at_hz"]) or "-",
+        ))
+    return rows
+
+
+def verdict_attenuation_rows(verdict):
+    """Attenuation over the band, as the verdict sums it up; None without control sources."""
+    a = verdict.get("attenuation")
+    if not a:
+        return None
+    rows = [("attenuation", "mean", "min", "max")]
+    for label, key in (("predicted (free field)", "predicted_free_db"), ("as designed", "as_designed_db"),
+                       ("re-optimised", "reoptimised_db")):
+        rows.append((label, db(a[key]["mean"]), db(a[key]["min"]), db(a[key]["max"])))
+    rows.append(("worst loss", f"{db(a['worst_loss_db'])} at {hz(a['worst_loss_at_hz'])}", "",
+                 "pass" if a["passed"] else "fail"))
+    return rows
+
+
+def rules_rows(verdict):
+    """The rules of thumb the verdict flags."""
+    rows = [("rule", "for", "frequency", "source")]
+    rows += [(r["rule"], r["what"], hz(r["frequency_hz"]), r["source"]) for r in verdict.get("rules_of_thumb", [])]
+    return rows if len(rows) > 1 else None
+
+
+def trust_rows(ds):
+    """Trust limit per sector (rows) and signal (columns); None for a free-field run."""
+    if not has_bem(ds):
+        return None
+    signals = [str(g) for g in ds["signal"].values]
+    top = hz(float(ds["frequency"].values[-1]))
+    rows = [("sector", *signals)]
+    for sector in ds["sector"].values:
+        cells = []
+        for g in signals:
+            at = {"sector": sector, "signal": g}
+            found = bool(ds["trust_limit_found"].sel(at))
+            cells.append(hz(float(ds["trust_limit_hz"].sel(at))) if found else f"none up to {top}")
+        rows.append((str(sector), *cells))
+    return rows
+
+
+def attenuation_rows(ds):
+    """Per frequency: radiated power and attenuation in each model that ran."""
+    f = ds["frequency"].values
+    w0 = ds["power_free_primary"].values
+    if not has_controls(ds):
+        return [("frequency", "primary power, free field")] + [(hz(x), f"{w:.3e} W") for x, w in zip(f, w0)]
+    free = ds["attenuation_free_db"].values
+    if not has_bem(ds):
+        rows = [("frequency", "primary power, free field", "attenuation, free field")]
+        return rows + [(hz(x), f"{w:.3e} W", db(a)) for x, w, a in zip(f, w0, free)]
+    rows = [("frequency", "primary power, scattered", "predicted (free field)", "as designed", "re-optimised", "loss")]
+    cols = zip(f, ds["power_bem_primary"].values, free, ds["attenuation_as_designed_db"].values,
+               ds["attenuation_reoptimised_db"].values, ds["attenuation_loss_db"].values)
+    return rows + [(hz(x), f"{w:.3e} W", db(a), db(d), db(r), db(loss, signed=True)) for x, w, a, d, r, loss in cols]
+
+
+def numerical_error_rows(ds):
+    """Per frequency: the BEM's own error estimate over directions; None for a free-field run."""
+    if "numerical_error_db" not in ds.data_vars:
+        return None
+    e_db = np.abs(ds["numerical_error_db"].values)
+    e_deg = np.abs(ds["numerical_error_deg"].values)
+    extra = [(label, name, fmt) for label, name, fmt in (("triangles", "elements", "{:.0f}"),
+                                                         ("elements per wavelength", "elements_per_wavelength", "{:.1f}"))
+             if name in ds.data_vars]
+    rows = [("frequency", "largest level error", "mean level error", "largest phase error", *(e[0] for e in extra))]
+    for i, (x, a, b) in enumerate(zip(ds["frequency"].values, e_db, e_deg)):
+        more = (fmt.format(float(ds[name].values[i])) for _, name, fmt in extra)
+        rows.append((hz(x), f"{a.max():.3f} dB", f"{a.mean():.3f} dB", f"{b.max():.2f}°", *more))
+    return rows
+
+
+def aspect_ratios(mesh):
+    """Aspect ratio of each triangle: longest edge over shortest altitude, times √3/2 (1 when equilateral).
+
+    Parameters
+    ----------
+    mesh : SurfaceMesh
+
+    Returns
+    -------
+    (nt,) ndarray
+        ``l_max² √3 / (4 A)``; inf for a degenerate triangle.
+
+    Examples
+    --------
+    >>> from bemcheck.mesh.surface import SurfaceMesh
+    >>> v = np.array([[0, 0, 0], [1, 0, 0], [0.5, 3**0.5 / 2, 0]])
+    >>> aspect_ratios(SurfaceMesh(v, np.array([[0, 1, 2]]), np.array([1]))).round(12).tolist()
+    [1.0]
+    """
+    longest = mesh.edge_lengths().max(axis=1)
+    area = mesh.areas()
+    with np.errstate(divide="ignore"):
+        return np.where(area > 0.0, longest**2 * np.sqrt(3.0) / (4.0 * np.maximum(area, 1e-300)), np.inf)
+
+
+def mesh_rows(mesh):
+    """Per body of a :class:`~bemcheck.mesh.surface.SurfaceMesh`: triangles, edges, quality, area, volume."""
+    bodies = body_of_triangles(mesh)
+    edges = mesh.edge_lengths()
+    ratio = aspect_ratios(mesh)
+    area = mesh.areas()
+    rows = [("body", "triangles", "shortest edge", "longest edge", "worst aspect ratio", "area", "enclosed volume")]
+    for b in dict.fromkeys(bodies):
+        m = bodies == b
+        rows.append((
+            b, str(int(m.sum())), f"{1e3 * edges[m].min():.1f} mm", f"{1e3 * edges[m].max():.1f} mm",
+            f"{ratio[m].max():.2f}", f"{area[m].sum():.4f} m²", f"{mesh.enclosed_volume(m):.5f} m³",
+        ))
+    return rows
+
+
+def records_rows(records):
+    """Rows from a list of dicts (e.g. mesh statistics per band), columns in first-seen key order.
+
+    Examples
+    --------
+    >>> records_rows([{"band": 1, "elements": 512}, {"band": 2, "elements": 2048, "note": "x"}])
+    [('band', 'elements', 'note'), ('1', '512', ''), ('2', '2048', 'x')]
+    """
+    keys = list(dict.fromkeys(k for r in records for k in r))
+    return [tuple(keys)] + [tuple(_cell(r.get(k, "")) for k in keys) for r in records]
+
+
+def _cell(value):
+    if isinstance(value, float):
+        return f"{value:.4g}"
+    return str(value)
