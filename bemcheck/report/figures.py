@@ -347,6 +347,9 @@ def make_figures(ds, out_dir, *, case=None, mesh=None, signals=None, frequencies
     >>> sorted(make_figures(bemcheck.load_results(run.folder), run.folder / "figures"))
     ['attenuation', 'polar_controlled']
     """
+    unknown = [f for f in formats if f not in style.FORMATS]
+    if unknown or not formats:
+        raise ValueError(f"formats: expected some of {', '.join(style.FORMATS)}, got {list(formats)}")
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     if case is None:
@@ -360,12 +363,17 @@ def make_figures(ds, out_dir, *, case=None, mesh=None, signals=None, frequencies
     if signals is None:
         primaries = [str(s) for s, r in zip(ds["source"].values, ds["role"].values) if r == "primary"]
         signals = ([CONTROLLED] if has_controls(ds) else []) + primaries
+    known = [str(g) for g in ds["signal"].values] if has_bem(ds) else []
+    if has_bem(ds) and any(g not in known for g in signals):
+        raise ValueError(f"signals: expected names among {', '.join(known)}, got {list(signals)}")
+    if frequencies is None:
+        frequencies = polar_frequencies(ds, focus)
     sectors = case.tolerance.sectors if case is not None else ()
-    drawers = {f"departure_map_{g}": (lambda g=g: departure_map_figure(ds, g, tolerance_db, sectors)) for g in signals}
-    drawers[f"polar_{focus}"] = lambda: polar_figure(ds, focus, frequencies or polar_frequencies(ds, focus), primary_q)
-    drawers["attenuation"] = lambda: attenuation_figure(ds)
+    drawers = {"layout": lambda: layout_figure(mesh, case) if mesh is not None else None}
+    drawers.update({f"departure_map_{g}": (lambda g=g: departure_map_figure(ds, g, tolerance_db, sectors)) for g in signals})
     drawers["departure_by_sector"] = lambda: sector_figure(ds, tolerance_db)
-    drawers["layout"] = lambda: layout_figure(mesh, case) if mesh is not None else None
+    drawers[f"polar_{focus}"] = lambda: polar_figure(ds, focus, frequencies, primary_q)
+    drawers["attenuation"] = lambda: attenuation_figure(ds)
     written = {}
     with style.styled():
         for name, draw in drawers.items():

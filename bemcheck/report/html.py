@@ -169,6 +169,7 @@ def _verdict_body(ds, summary):
 
 
 def _extra(extra_sections):
+    """Extra sections as (title, rows) with rows as tuples; TypeError naming the bad item."""
     out = []
     for i, item in enumerate(extra_sections):
         try:
@@ -176,8 +177,7 @@ def _extra(extra_sections):
             rows = [tuple(r) for r in rows]
         except (TypeError, ValueError):
             raise TypeError(f"extra_sections[{i}]: expected (title, rows) with rows a sequence of rows") from None
-        body = _table(rows, scroll=len(rows) > 15) if rows else _note("nothing to show")
-        out.append((f"extra-{i + 1}", str(title), body))
+        out.append((str(title), rows))
     return out
 
 
@@ -221,7 +221,8 @@ def render_report(ds, summary, figures, mesh=None, extra_sections=(), case_note=
     err = tables.numerical_error_rows(ds)
     sections.append(("numerical-error", "Numerical error of the BEM",
                      _table(err, scroll=True) if err else _note("Not available: the BEM was not run.")))
-    sections += _extra(extra_sections)
+    for i, (t, rows) in enumerate(_extra(extra_sections)):
+        sections.append((f"extra-{i + 1}", t, _table(rows, scroll=len(rows) > 15) if rows else _note("nothing to show")))
     case_body = f'<pre class="case">{_text(a.get("case_text", ""))}</pre>' + (_note(case_note) if case_note else "")
     sections.append(("case", "Case file", case_body))
     cautions = "".join(f"<h3>{_text(h)}</h3><p>{_text(t)}</p>" for h, t in CAUTIONS)
@@ -286,11 +287,13 @@ def write_report(folder, ds, summary, mesh=None, extra_sections=(), case=None):
     'report.html'
     """
     folder = Path(folder)
+    extra = _extra(extra_sections)
     note = ""
     if case is None:
         case, note = case_of(ds)
-    figures = make_figures(ds, folder / FIGURES_DIR, case=case, mesh=mesh)
-    page = render_report(ds, summary, figures, mesh=mesh, extra_sections=extra_sections, case_note=note)
+    tolerance_db = (summary.get("verdict") or {}).get("tolerance", {}).get("level_db")
+    figures = make_figures(ds, folder / FIGURES_DIR, case=case, mesh=mesh, tolerance_db=tolerance_db)
+    page = render_report(ds, summary, figures, mesh=mesh, extra_sections=extra, case_note=note)
     path = folder / REPORT_FILE
     atomic_write_bytes(path, page.encode("utf-8"))
     return path

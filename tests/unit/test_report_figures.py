@@ -252,3 +252,12 @@ def test_file_stems_are_safe():
     """Source names come from the user's case file and become file names."""
     assert file_stem("departure_map_../../etc") == "departure_map_.._.._etc"
     assert "/" not in file_stem("a/b c") and file_stem("") == "figure"
+
+
+def test_unknown_signal_or_format_is_refused_before_drawing(floor, tmp_path):
+    case, ds, _ = floor
+    with pytest.raises(ValueError, match="signals: expected names among bell, left, right, controlled"):
+        make_figures(ds, tmp_path, case=case, signals=["nobody"])
+    with pytest.raises(ValueError, match="formats"):
+        make_figures(ds, tmp_path, case=case, formats=("jpg",))
+    assert list(tmp_path.iterdir()) == []
