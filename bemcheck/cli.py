@@ -46,6 +46,14 @@ def _parser():
     talk.add_argument("--quiet", action="store_true", help="no progress lines")
     talk.add_argument("--verbose", action="store_true", help="also print each solve's timings")
 
+    m = sub.add_parser("mesh", help="mesh a case's bodies for each frequency band and print the mesh statistics")
+    m.add_argument("case", type=Path, help="case file (TOML)")
+    m.add_argument("--out", type=Path, required=True, help="folder for the band meshes (.msh and .vtu)")
+    m.add_argument("--mesh-cache", type=Path, metavar="DIR", help="folder of cached meshes (default ~/.cache/bemcheck/meshes)")
+
+    rep = sub.add_parser("report", help="rebuild the HTML report of a finished run's folder")
+    rep.add_argument("folder", type=Path, help="the run folder given to `bemcheck run --out`")
+
     sub.add_parser("examples", help="list the example case files shipped with bemcheck")
     return p
 
@@ -112,10 +120,32 @@ def _cmd_run(args, out):
     options = {}
     if args.model != "free":
         options = {"workers": args.workers, "scheduler": args.scheduler, "device": args.device, "cache_dir": args.mesh_cache, "quiet": args.quiet}
-    outcome = run_case(case, args.out, model=args.model, **options)
+    outcome = run_case(case, args.out, model=args.model, report=not args.no_report, **options)
     for line in outcome.verdict_lines:
         print(line, file=out)
     print(f"results: {outcome.results}", file=out)
+    if outcome.report is not None:
+        print(f"report:  {outcome.report}", file=out)
+    return EXIT_OK
+
+
+def _cmd_mesh(args, out):
+    from bemcheck.case import load_case
+    from bemcheck.mesh import format_band_table, write_band_meshes
+    from bemcheck.run.runner import prepare_folder
+
+    case = load_case(args.case)
+    folder = prepare_folder(args.out)
+    stats = write_band_meshes(case, folder, cache_dir=args.mesh_cache)
+    print(format_band_table(stats), file=out)
+    print(f"meshes: {folder}", file=out)
+    return EXIT_OK
+
+
+def _cmd_report(args, out):
+    from bemcheck.report import report_run
+
+    print(f"report: {report_run(args.folder)}", file=out)
     return EXIT_OK
 
 
@@ -127,7 +157,7 @@ def _cmd_examples(args, out):
     return EXIT_OK
 
 
-_COMMANDS = {"check": _cmd_check, "run": _cmd_run, "examples": _cmd_examples}
+_COMMANDS = {"check": _cmd_check, "mesh": _cmd_mesh, "run": _cmd_run, "report": _cmd_report, "examples": _cmd_examples}
 
 
 def main(argv=None):

@@ -9,12 +9,13 @@ from pathlib import Path
 
 import numpy as np
 
+from bemcheck.compare import verdict_lines
 from bemcheck.compare.trust import NULL_DEPTH_DB
 from bemcheck.errors import BemcheckInputError
 from bemcheck.observers import for_observers
 from bemcheck.run.combine import combine
 from bemcheck.run.dataset import run_attributes
-from bemcheck.run.results import RESULTS_FILE, SUMMARY_FILE, write_dataset, write_summary
+from bemcheck.run.results import RESULTS_FILE, SUMMARY_FILE, read_dataset, write_dataset, write_summary
 from bemcheck.run.store import PartStore, RunLock
 from bemcheck.run.sweep import Progress, execute, plan_tasks
 from bemcheck.solvers.response import FieldResponse, free_response
@@ -30,6 +31,7 @@ class RunOutcome:
     results: Path
     summary: dict
     verdict_lines: tuple = ()
+    report: Path | None = None
 
 
 def case_hash(case):
@@ -124,7 +126,7 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, workers=1
     return [by_frequency[f] for f in case.frequencies], err_db, err_deg, metas, by_frequency
 
 
-def run_case(case, out_dir, model="both", **options):
+def run_case(case, out_dir, model="both", report=False, **options):
     """Evaluate ``case`` and write ``results.nc`` and ``summary.json`` in ``out_dir``.
 
     Parameters
@@ -135,6 +137,8 @@ def run_case(case, out_dir, model="both", **options):
     model : {"free", "bem", "both"}
         "bem" and "both" both run the free-field model too (it costs nothing)
         and compare.
+    report : bool
+        Also write ``report.html`` with its figures.
     **options
         Passed to :func:`bem_responses`: ``workers``, ``scheduler``,
         ``device``, ``cache_dir``, ``quiet``, ``progress_stream``; tests may
@@ -178,12 +182,23 @@ def run_case(case, out_dir, model="both", **options):
         results = folder / RESULTS_FILE
         write_dataset(ds, results)
         write_summary(summary, folder / SUMMARY_FILE)
-    from bemcheck.compare import verdict_lines
-
+        report_path = _write_report(case, folder, options) if report else None
     lines = tuple(verdict_lines(verdict)) if verdict else ()
     if build is not None:
         lines += build.lines
-    return RunOutcome(folder, results, json.loads(json.dumps(summary)), lines)
+    return RunOutcome(folder, results, json.loads(json.dumps(summary)), lines, report_path)
+
+
+def _write_report(case, folder, options):
+    """The HTML report, with the finest band's mesh when the BEM ran."""
+    from bemcheck.report import report_run
+
+    mesh = None
+    if "p_bem" in read_dataset(folder / RESULTS_FILE).data_vars and case.bodies and "solve" not in options:
+        from bemcheck.mesh import mesh_scene, plan_bands
+
+        mesh = mesh_scene(case, min(b.element_size for b in plan_bands(case)), cache_dir=options.get("cache_dir"))
+    return report_run(folder, mesh=mesh)
 
 
 def _before_build(case, directions, solved):
