@@ -50,7 +50,7 @@ def rules_of_thumb(case):
         n = 1
         while n * c / (2.0 * d) <= top:
             rows.append({
-                "rule": f"kd = {n}π",
+                "rule": "kd = π" if n == 1 else f"kd = {n}π",
                 "what": s.name,
                 "frequency_hz": n * c / (2.0 * d),
                 "source": "Nelson et al. 1987, J. Sound Vib. 116(3) 397-414",

@@ -287,7 +287,7 @@ def write_report(folder, ds, summary, mesh=None, extra_sections=(), case=None):
     'report.html'
     """
     folder = Path(folder)
-    extra = _extra(extra_sections)
+    extra = _extra(tuple(extra_sections) + tuple(tables.before_build_sections(summary)))
     note = ""
     if case is None:
         case, note = case_of(ds)

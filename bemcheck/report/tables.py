@@ -203,3 +203,28 @@ def _cell(value):
     if isinstance(value, float):
         return f"{value:.4g}"
     return str(value)
+
+
+def before_build_sections(summary):
+    """Extra report sections from a run's before-build check (``summary["before_build"]``), or none.
+
+    Examples
+    --------
+    >>> before_build_sections({})
+    []
+    """
+    bb = summary.get("before_build")
+    if not bb:
+        return []
+    sections = [("Before build: go / no-go", [("check", "result")] + [(i["check"], "GO" if i["go"] else "NO-GO") for i in bb["items"]])]
+    if bb.get("drives"):
+        keep = ("source", "driver", "note", "harmonic", "frequency", "volume_velocity", "voltage", "excursion", "nominal_power", "excursion_margin_db", "power_margin_db")
+        sections.append(("Control loudspeakers per note and harmonic", records_rows([{k: r[k] for k in keep if k in r} for r in bb["drives"]])))
+    for e in bb.get("ears", []):
+        rows = [("point", "dB(A) without control", "dB(A) with control")]
+        rows += [(p, f"{a:.1f}", f"{b:.1f}") for p, a, b in zip(e["points"], e["dba_without"], e["dba_with"])]
+        rows += [(c, "", "") for c in e["cautions"]]
+        sections.append((f"Levels at the observer points, note {e['note']}", rows))
+    if bb.get("placement"):
+        sections.append(("Placement tolerance (free field)", records_rows(bb["placement"])))
+    return sections
