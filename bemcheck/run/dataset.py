@@ -5,7 +5,7 @@ import xarray as xr
 
 from importlib.metadata import version as _dist_version
 from bemcheck.solvers.control import attenuation_db
-from bemcheck.solvers.strengths import control_strengths, full_strengths, source_indices
+from bemcheck.solvers.strengths import control_strengths, full_strengths, primary_strengths, source_indices
 
 # Variable metadata: (units, meaning); also the source of the README's table.
 VARIABLES = {
@@ -26,6 +26,8 @@ def coordinates(case, directions):
         "source": ("source", [s.name for s in case.sources]),
         "at_source": ("at_source", [s.name for s in case.sources]),
         "role": ("source", [s.role for s in case.sources]),
+        "source_position": (("source", "xyz"), np.array([s.position for s in case.sources]), {"units": "m"}),
+        "xyz": ("xyz", ["x", "y", "z"]),
         "direction": ("direction", np.arange(len(directions))),
         "azimuth_deg": ("direction", directions.azimuth_deg, {"units": "degree"}),
         "elevation_deg": ("direction", directions.elevation_deg, {"units": "degree"}),
@@ -67,7 +69,11 @@ def model_dataset(case, responses, directions, model):
         f"power_{model}_controlled": (("frequency",), w_controlled),
         f"attenuation_{model}_db": (("frequency",), attenuation_db(w_primary, w_controlled)),
     }
-    ds = xr.Dataset({k: v for k, v in data.items()}, coords=coordinates(case, directions))
+    q_primary = np.zeros(len(case.sources), dtype=complex)
+    q_primary[primary] = primary_strengths(case)
+    data["q_primary"] = (("source",), q_primary)
+    ds = xr.Dataset(data, coords=coordinates(case, directions))
+    ds["q_primary"].attrs.update(units="m^3/s", long_name="primary strengths used in the sweep (zero for controls)")
     for template, (units, meaning) in VARIABLES.items():
         name = template.format(m=model)
         ds[name].attrs.update(units=units, long_name=meaning.format(m=model))
