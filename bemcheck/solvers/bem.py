@@ -1,0 +1,384 @@
+"""The field of every source of a layout with the bodies as rigid scatterers (BEM).
+
+One call per frequency: the Burton–Miller system of the bodies is assembled
+and factorised once (:mod:`bemcheck.solvers.bem_system`), every source is a
+right-hand side of one solve, and the results come back in the shapes of
+:mod:`bemcheck.solvers.freefield` (``p = M @ q``) so the two models compare
+entry by entry.
+
+Sources are monopoles (unit volume velocity each, an incident field
+-iωρ G) and prescribed normal velocities on parts of the surface: a piston on
+a physical group has v_n = 1/area there (unit volume velocity).  The
+"pressure" of a velocity source, which its impedance row holds, is
+∫ p v_n dS per unit strength: for a piston, the face-averaged pressure.  By
+reciprocity the impedance matrix is then symmetric and the power of
+strengths q is W = ½ Re(qᴴ Z q) = Re(qᴴ P q), P from the far field.
+"""
+
+import time
+from dataclasses import dataclass
+
+import numpy as np
+
+from bemcheck.errors import GeometryError
+from bemcheck.solvers import freefield
+from bemcheck.solvers.bem_integrals import far_field_moments, moments
+from bemcheck.solvers.bem_power import power_directions
+from bemcheck.solvers.bem_surface import surface_from_mesh
+from bemcheck.solvers.bem_system import assemble, mixed_mass, velocity_rhs
+
+# A monopole closer to a surface than this fraction of the nearest triangle's
+# longest edge is refused: P1 cannot follow its field there (measured in
+# tests/validation/test_bem_sphere.py, the source beside a sphere).
+MIN_SOURCE_GAP = 0.25
+
+
+@dataclass(frozen=True, eq=False)
+class BemSolution:
+    """Fields of every source at one frequency, bodies rigid.
+
+    Columns are sources: the monopoles in the order given, then the velocity
+    sources (pistons, then any extra velocity distributions).
+
+    Attributes
+    ----------
+    frequency : float
+        [Hz].
+    far_field : (D, S) ndarray of complex
+        F with p ≈ F e^{ikr}/r in each direction, per unit strength
+        [Pa·m per m^3/s], comparable with :func:`freefield.far_field_matrix`.
+    points : (P, S) ndarray of complex
+        Pressure at the observer points [Pa per m^3/s].
+    impedance : (S, S) ndarray of complex
+        Pressure at (or, for velocity sources, ∫ p v_n dS over) each source
+        per unit strength of each source [Pa per m^3/s]; the free-field
+        monopole diagonal keeps only ρck²/(4π), as in
+        :func:`freefield.impedance_matrix`.
+    power_matrix : (S, S) ndarray of complex, Hermitian
+        P = (1/2ρc) ∫ F_iᴴ F_j dΩ, power W = Re(qᴴ P q) [W per (m^3/s)^2].
+    surface_pressure : (nv, S) ndarray of complex
+        Total pressure at the mesh vertices (NaN at vertices no triangle
+        uses) [Pa per m^3/s].
+    normal_velocity : (nt, V) ndarray
+        Normal velocity of each velocity source per unit strength [m/s per m^3/s].
+    monopoles : (M, 3) ndarray
+        Monopole positions [m].
+    velocity_sources : tuple of str
+        Names of the velocity sources (piston group names, ``"velocity[i]"``).
+    element_size : float
+        Longest triangle edge [m] (0 without bodies).
+    elements_per_wavelength : float
+        Wavelength / element_size (inf without bodies).
+    device : str
+        ``"numba"``, ``"opencl"`` or ``"none"`` (no bodies, nothing assembled).
+    seconds : dict
+        Wall time [s]: ``assembly``, ``lu``, ``solve``, ``fields``.
+    """
+
+    frequency: float
+    far_field: np.ndarray
+    points: np.ndarray
+    impedance: np.ndarray
+    power_matrix: np.ndarray
+    surface_pressure: np.ndarray
+    normal_velocity: np.ndarray
+    monopoles: np.ndarray
+    velocity_sources: tuple
+    element_size: float
+    elements_per_wavelength: float
+    device: str
+    seconds: dict
+
+    def power(self, q):
+        """Radiated power Re(qᴴ P q) of strengths ``q`` [W].
+
+        Parameters
+        ----------
+        q : (S,) or (S, n) array_like
+            Strengths [m^3/s]; columns are separate cases.
+        """
+        q = np.asarray(q)
+        return np.real(np.einsum("i...,ij,j...->...", q.conj(), self.power_matrix, q))
+
+
+def _points(values, key):
+    if values is None:
+        return np.zeros((0, 3))
+    arr = np.asarray(values, dtype=float)
+    if arr.size == 0:
+        return np.zeros((0, 3))
+    arr = np.atleast_2d(arr)
+    if arr.ndim != 2 or arr.shape[1] != 3 or not np.isfinite(arr).all():
+        raise GeometryError(f"{key}: expected an (N, 3) array of finite positions [m], got shape {arr.shape}")
+    return arr
+
+
+def _directions(values):
+    d = _points(values, "directions")
+    norm = np.linalg.norm(d, axis=1)
+    if (norm == 0).any():
+        raise GeometryError(f"directions: direction {int(np.argmax(norm == 0))} is zero; expected unit vectors")
+    return d / norm[:, None]
+
+
+def _velocity_columns(surface, pistons, velocities):
+    """(nt, V) unit-strength normal velocities and their names."""
+    cols, names = [], []
+    for name in pistons:
+        mask = surface.group_mask(name)
+        cols.append(mask / surface.areas[mask].sum())
+        names.append(name)
+    if velocities is not None:
+        v = np.asarray(velocities)
+        v = v.reshape(len(v), -1) if v.ndim else v
+        if v.ndim != 2 or v.shape[0] != surface.n_triangles:
+            raise GeometryError(f"velocities: expected ({surface.n_triangles}, V) values, one row per triangle; got {v.shape}")
+        cols.extend(v.T)
+        names.extend(f"velocity[{i}]" for i in range(v.shape[1]))
+    if not cols:
+        return np.zeros((surface.n_triangles, 0)), ()
+    return np.stack(cols, axis=1), tuple(names)
+
+
+def _check_targets(mom, positions, key, gap=0.0):
+    bad = np.flatnonzero(mom.inside)
+    if bad.size:
+        i = int(bad[0])
+        raise GeometryError(f"{key}[{i}] at {positions[i].round(4).tolist()} m is inside a body; expected a point in the air")
+    close = np.flatnonzero(np.isfinite(mom.size) & (mom.distance < gap * mom.size))
+    if close.size:
+        i = int(close[0])
+        raise GeometryError(
+            f"{key}[{i}] at {positions[i].round(4).tolist()} m is {mom.distance[i]:.3g} m from a surface; "
+            f"expected at least {gap:g} element sizes ({gap * mom.size[i]:.3g} m) or a finer mesh there"
+        )
+
+
+class _Fields:
+    """Everything that turns surface solutions into fields, for one surface and frequency."""
+
+    def __init__(self, surface, frequency, medium, monopoles, v):
+        self.surface, self.frequency, self.medium = surface, frequency, medium
+        self.k = float(freefield.wavenumber(frequency, medium))
+        self.iwr = 1j * 2.0 * np.pi * frequency * medium.density
+        self.monopoles = monopoles
+        self.support = np.flatnonzero(np.any(v != 0, axis=1))
+        g = self.iwr * v[self.support]
+        self.g = np.concatenate([np.zeros((len(self.support), len(monopoles)), complex), g], axis=1)
+        self.n_vel = v.shape[1]
+
+    def moments(self, targets, single=False):
+        return moments(self.surface, targets, self.k, single=single, p0_support=self.support)
+
+    def scattered(self, mom, u):
+        """Field of the surface terms, DL(u) - SL(g), at the targets of ``mom``."""
+        field = mom.double_layer_potential() @ u
+        if self.support.size:
+            field -= mom.single_p0 @ self.g
+        return field
+
+    def pad(self, block):
+        """Append zero columns for the velocity sources (they have no incident field)."""
+        return np.concatenate([block, np.zeros((block.shape[0], self.n_vel), complex)], axis=1)
+
+    def far_field(self, directions, u):
+        dff, sff = far_field_moments(self.surface, directions, self.k, self.support)
+        f = self.pad(freefield.far_field_matrix(self.frequency, self.medium, self.monopoles, directions)) + dff @ u
+        if self.support.size:
+            f -= sff @ self.g
+        return f
+
+
+def solve_frequency(
+    mesh, frequency, medium, monopoles, directions=None, points=None, pistons=(), velocities=None, *, power=True, coupling=None
+):
+    """Solve the rigid-body scattering of every source at one frequency.
+
+    Parameters
+    ----------
+    mesh : SurfaceMesh
+        Closed, outward-oriented bodies; no triangles gives the free field.
+    frequency : float
+        [Hz], > 0.
+    medium : Medium
+        Speed of sound [m/s] and density [kg/m^3].
+    monopoles : (M, 3) array_like
+        Monopole positions [m], in the air, at least ``MIN_SOURCE_GAP``
+        element sizes off every surface.
+    directions : (D, 3) array_like, optional
+        Far-field directions (normalised here).
+    points : (P, 3) array_like, optional
+        Observer points [m]: in the air or on a surface.
+    pistons : sequence of str
+        Physical groups that move as pistons of unit volume velocity.
+    velocities : (nt, V) array_like, optional
+        Further prescribed normal velocities per triangle of ``mesh``, one
+        column per source [m/s per unit strength].
+    power : bool
+        Integrate the power matrix.  Its quadrature grows with k times the
+        extent of bodies and sources together: switch it off for a source
+        placed very far away to stand in for a plane wave (the power matrix
+        is then NaN).
+    coupling : complex, optional
+        Burton–Miller η, default i/k; 0 for the plain equation (studies only).
+
+    Returns
+    -------
+    BemSolution
+
+    Raises
+    ------
+    GeometryError
+        A bad mesh, a source or point inside a body, a monopole too near a
+        surface, an unknown piston group.
+
+    Examples
+    --------
+    >>> from bemcheck.case.model import Medium
+    >>> from bemcheck.mesh.surface import SurfaceMesh
+    >>> none = SurfaceMesh(np.zeros((0, 3)), np.zeros((0, 3), int), np.zeros(0, int))
+    >>> sol = solve_frequency(none, 100.0, Medium(), [[0, 0, 0]], [[1, 0, 0]])
+    >>> round(abs(sol.far_field[0, 0]), 1), sol.device
+    (60.2, 'none')
+    """
+    surface = surface_from_mesh(mesh)
+    x_src = _points(monopoles, "monopoles")
+    dirs = _directions(directions)
+    obs = _points(points, "points")
+    if surface.n_triangles == 0:
+        if len(pistons) or velocities is not None:
+            raise GeometryError("pistons/velocities: the mesh has no triangles to move")
+        return _free_solution(frequency, medium, x_src, dirs, obs)
+    v, names = _velocity_columns(surface, pistons, velocities)
+    flds = _Fields(surface, frequency, medium, x_src, v)
+    t0 = time.perf_counter()
+    system = assemble(surface, flds.k, coupling)
+
+    t1 = time.perf_counter()
+    at_src = flds.moments(x_src, single=True)
+    _check_targets(at_src, x_src, "monopoles", MIN_SOURCE_GAP)
+    rhs = -flds.iwr * (at_src.single + system.coupling * at_src.double).T
+    if flds.n_vel:
+        rhs = np.concatenate([rhs, velocity_rhs(system, flds.support, flds.g[:, len(x_src) :])], axis=1)
+    u = system.solve(rhs)
+
+    t2 = time.perf_counter()
+    z_mono = flds.pad(freefield.impedance_matrix(frequency, medium, x_src)) + flds.scattered(at_src, u)
+    weights = mixed_mass(surface, flds.support) @ v[flds.support]
+    impedance = np.concatenate([z_mono, weights.T @ u], axis=0)
+    field = _observer_field(flds, obs, u)
+    far = flds.far_field(dirs, u)
+    if power:
+        leb_dirs, leb_w = power_directions(flds.k, _extent(surface, x_src))
+        f_leb = flds.far_field(leb_dirs, u)
+        p_mat = (f_leb.conj().T * leb_w) @ f_leb / (2.0 * medium.density * medium.speed_of_sound)
+        p_mat = 0.5 * (p_mat + p_mat.conj().T)
+    else:
+        p_mat = np.full(impedance.shape, np.nan + 0j)
+    t3 = time.perf_counter()
+
+    pressure = np.full((len(mesh.vertices), u.shape[1]), np.nan + 0j)
+    pressure[surface.mesh_vertex] = u
+    h = surface.element_size
+    return BemSolution(
+        frequency=float(frequency),
+        far_field=far,
+        points=field,
+        impedance=impedance,
+        power_matrix=p_mat,
+        surface_pressure=pressure,
+        normal_velocity=v,
+        monopoles=x_src,
+        velocity_sources=names,
+        element_size=h,
+        elements_per_wavelength=2.0 * np.pi / flds.k / h,
+        device=system.device,
+        seconds={**system.seconds, "solve": t2 - t1, "fields": t3 - t2},
+    )
+
+
+def _observer_field(flds, obs, u):
+    if not len(obs):
+        return np.zeros((0, u.shape[1]), complex)
+    mom = flds.moments(obs)
+    _check_targets(mom, obs, "points")
+    field = flds.pad(freefield.transfer_matrix(flds.frequency, flds.medium, flds.monopoles, obs)) + flds.scattered(mom, u)
+    # On the surface the trace of the total field is u itself.
+    on = np.flatnonzero(mom.on_surface)
+    field[on] = mom.nearest[on] @ u
+    return field
+
+
+def _extent(surface, sources):
+    """Radius of a ball holding every body and source [m] (for the power rule)."""
+    pts = np.concatenate([surface.vertices, sources])
+    centre = 0.5 * (pts.min(axis=0) + pts.max(axis=0))
+    return float(np.linalg.norm(pts - centre, axis=1).max())
+
+
+def _free_solution(frequency, medium, x_src, dirs, obs):
+    k = float(freefield.wavenumber(frequency, medium))
+    n = len(x_src)
+    return BemSolution(
+        frequency=float(frequency),
+        far_field=freefield.far_field_matrix(frequency, medium, x_src, dirs).reshape(len(dirs), n),
+        points=freefield.transfer_matrix(frequency, medium, x_src, obs).reshape(len(obs), n),
+        impedance=freefield.impedance_matrix(frequency, medium, x_src).reshape(n, n),
+        power_matrix=0.5 * freefield.resistance_matrix(frequency, medium, x_src).reshape(n, n).astype(complex),
+        surface_pressure=np.zeros((0, n), complex),
+        normal_velocity=np.zeros((0, 0)),
+        monopoles=x_src,
+        velocity_sources=(),
+        element_size=0.0,
+        elements_per_wavelength=np.inf if k > 0 else np.nan,
+        device="none",
+        seconds={"assembly": 0.0, "lu": 0.0, "solve": 0.0, "fields": 0.0},
+    )
+
+
+def perturbed_impedance(solution, mesh, medium, moved):
+    """Impedance matrix with the monopoles moved, from the stored surface solution.
+
+    No new solve: the scattered field of each stored solution is evaluated
+    at the moved positions, and reciprocity (Z_s symmetric) gives the rest,
+
+        Z_s(a', b') ≈ Z_s(a', b) + Z_s(b', a) - Z_s(a, b),
+
+    exact when only one of a, b moves, with an error of second order in the
+    displacements otherwise.  The free-field part is recomputed exactly.
+    Velocity sources stay where they are.
+
+    Parameters
+    ----------
+    solution : BemSolution
+        From :func:`solve_frequency` with ``mesh``.
+    mesh : SurfaceMesh
+        The mesh of that solve.
+    medium : Medium
+    moved : (M, 3) array_like
+        New monopole positions [m].
+
+    Returns
+    -------
+    (S, S) ndarray of complex
+    """
+    x_new = _points(moved, "moved")
+    m = len(solution.monopoles)
+    if x_new.shape != (m, 3):
+        raise GeometryError(f"moved: expected ({m}, 3) positions, one per monopole; got {x_new.shape}")
+    f = solution.frequency
+    surface = surface_from_mesh(mesh)
+    if surface.n_triangles == 0:
+        return freefield.impedance_matrix(f, medium, x_new).reshape(m, m)
+    flds = _Fields(surface, f, medium, x_new, solution.normal_velocity)
+    u = solution.surface_pressure[surface.mesh_vertex]
+    old_free = flds.pad(freefield.impedance_matrix(f, medium, solution.monopoles))
+    z_s = solution.impedance.copy()
+    z_s[:m] -= old_free
+    mom = flds.moments(x_new)
+    _check_targets(mom, x_new, "moved", MIN_SOURCE_GAP)
+    e = z_s.copy()
+    e[:m] = flds.scattered(mom, u)
+    z_new = e + e.T - z_s
+    z_new[:m] += flds.pad(freefield.impedance_matrix(f, medium, x_new))
+    return z_new

@@ -1,0 +1,1 @@
+"""Helpers shared by the tests: exact series and numpy-made meshes."""

@@ -1,0 +1,101 @@
+"""Exact series for a rigid sphere of radius a at the origin, time factor exp(-iωt).
+
+Free-space Green's function and its addition theorem (e.g. Morse & Ingard,
+Theoretical Acoustics, 1968, sec. 7.2; from memory):
+
+    G(x, x0) = e^{ikR}/(4πR) = (ik/4π) Σ (2n+1) j_n(kr<) h_n(kr>) P_n(cos γ),
+
+h_n = h_n^(1).  A rigid sphere adds the scattered part that cancels the
+normal derivative at r = a,
+
+    G_s(x, x0) = -(ik/4π) Σ (2n+1) [j_n'(ka)/h_n'(ka)] h_n(kr) h_n(kr0) P_n(cos γ),
+
+and the Wronskian j_n h_n' - j_n' h_n = i/(ka)^2 gives the total field on
+the surface, -(1/(4πka^2)) Σ (2n+1) h_n(kr0) P_n(cos γ) / h_n'(ka)
+(Duda & Martens 1998, JASA 104(5), 3048-3058, eq. 2 with ρ = r0/a, μ = ka).
+Plane waves e^{ikz} (Bowman, Senior & Uslenghi, Electromagnetic and Acoustic
+Scattering by Simple Shapes, 1987, sec. 10.3) scatter with far-field
+amplitude f(θ) = (i/k) Σ (2n+1) [j_n'(ka)/h_n'(ka)] P_n(cos θ), p_s ≈ f e^{ikr}/r.
+Every function below is a unit-strength Green's function or amplitude:
+multiply by -iωρ q for a monopole of volume velocity q.
+"""
+
+import numpy as np
+from scipy.special import eval_legendre, spherical_jn, spherical_yn
+
+
+def _terms(ka, spread=np.inf):
+    """Terms for double precision (common practice, no source).
+
+    The scattered terms fall off once n exceeds ka, then like
+    (a^2 / (r r0))^n; ``spread`` = r r0 / a^2 (inf for a far field).
+    """
+    geometric = 0 if np.isinf(spread) else 37.0 / np.log(spread)
+    return int(ka + 4.0 * np.cbrt(max(ka, 1.0)) + 12 + geometric)
+
+
+def _h(n, x, derivative=False):
+    return spherical_jn(n, x, derivative) + 1j * spherical_yn(n, x, derivative)
+
+
+def _ratio(n, ka):
+    return spherical_jn(n, ka, True) / _h(n, ka, True)
+
+
+def plane_wave_amplitude(ka, theta, a=1.0):
+    """Scattered far-field amplitude f(θ) [m] of a unit plane wave e^{ikz}.
+
+    θ is measured from +z, the direction the wave travels: θ = π is backscatter.
+    """
+    k = ka / a
+    n = np.arange(_terms(ka))[:, None]
+    p = eval_legendre(n, np.cos(np.atleast_1d(theta))[None, :])
+    return (1j / k) * np.sum((2 * n + 1) * _ratio(n, ka) * p, axis=0)
+
+
+def backscatter_form_function(ka):
+    """Form function 2|f(π)|/a of the rigid sphere (dimensionless)."""
+    return float(2.0 * abs(plane_wave_amplitude(ka, np.pi)[0]))
+
+
+def surface_green(ka, r0_over_a, gamma, a=1.0):
+    """Total G on the surface at angle γ from a unit point source on the axis at r0 [1/m]."""
+    k = ka / a
+    n = np.arange(_terms(ka, r0_over_a))[:, None]
+    p = eval_legendre(n, np.cos(np.atleast_1d(gamma))[None, :])
+    return -(1.0 / (4.0 * np.pi * k * a**2)) * np.sum((2 * n + 1) * _h(n, ka * r0_over_a) * p / _h(n, ka, True), axis=0)
+
+
+def scattered_green(ka, r, theta, r0, a=1.0):
+    """Scattered G_s at (r, θ) from a unit point source on the +z axis at r0 (r, r0 >= a) [1/m]."""
+    k = ka / a
+    r = np.atleast_1d(np.asarray(r, dtype=float))[None, :]
+    n = np.arange(_terms(ka, float(np.min(r)) * r0 / a**2))[:, None]
+    p = eval_legendre(n, np.cos(np.atleast_1d(theta))[None, :])
+    return -(1j * k / (4.0 * np.pi)) * np.sum((2 * n + 1) * _ratio(n, ka) * _h(n, k * r) * _h(n, k * r0) * p, axis=0)
+
+
+def far_field_ratio(ka, r0_over_a, theta):
+    """Far field of a unit point source on the +z axis at r0 beside the sphere, over that of a free one.
+
+    Phases referred to the sphere's centre: the free source alone gives
+    e^{-ik r0 cos θ} = Σ (2n+1) (-i)^n j_n(kr0) P_n(cos θ); the sphere adds
+    -Σ (2n+1) (-i)^n (j_n'(ka)/h_n'(ka)) h_n(kr0) P_n(cos θ).
+    """
+    kr0 = ka * r0_over_a
+    n = np.arange(_terms(ka))[:, None]
+    mu = np.cos(np.atleast_1d(theta))
+    p = eval_legendre(n, mu[None, :])
+    scattered = -np.sum((2 * n + 1) * (-1j) ** n * _ratio(n, ka) * _h(n, kr0) * p, axis=0)
+    return np.exp(-1j * kr0 * mu) + scattered
+
+
+def power_ratio(ka, r0_over_a):
+    """Power of a monopole at r0 beside the sphere over its free-field power.
+
+    W/W_free = 1 + (4π/k) Im G_s(x0, x0), from Re of the self impedance
+    -iωρ G (free part ρck²/4π).
+    """
+    k = ka
+    gs = scattered_green(ka, r0_over_a, 0.0, r0_over_a, a=1.0)[0]
+    return float(1.0 + 4.0 * np.pi / k * gs.imag)
