@@ -1,0 +1,124 @@
+"""Per-band meshes written for inspection, with the figures that say whether they are sound."""
+
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from bemcheck.errors import BemcheckInputError
+from bemcheck.mesh.bands import plan_bands
+from bemcheck.mesh.scene import mesh_scene
+
+
+@dataclass(frozen=True)
+class BodyStats:
+    """Surface area [m^2] and enclosed volume [m^3] of one body's mesh."""
+
+    name: str
+    area: float
+    volume: float
+
+
+@dataclass(frozen=True)
+class BandStats:
+    """What one band's mesh looks like.
+
+    ``worst_aspect`` is the largest circumradius / (2 inradius) over the
+    triangles: 1 for an equilateral triangle, growing as triangles flatten.
+    """
+
+    band: object
+    n_triangles: int
+    n_vertices: int
+    min_edge: float
+    max_edge: float
+    worst_aspect: float
+    bodies: tuple
+    files: tuple = ()
+
+
+def aspect_ratios(mesh):
+    """(nt,) circumradius / (2 inradius) of each triangle, 1 when equilateral.
+
+    R = abc / (4 A) and r = 2 A / (a + b + c), so R / 2r = abc (a + b + c) / (16 A^2).
+    """
+    e = mesh.edge_lengths()
+    area = mesh.areas()
+    return e.prod(axis=1) * e.sum(axis=1) / (16.0 * area**2)
+
+
+def mesh_stats(case, mesh, band, files=()):
+    """Figures of one band's scene mesh (see :class:`BandStats`)."""
+    e = mesh.edge_lengths()
+    bodies = []
+    for body in case.bodies:
+        mask = np.isin(mesh.domains, mesh.tags_of_body(body.name))
+        bodies.append(BodyStats(body.name, float(mesh.areas()[mask].sum()),
+                                mesh.enclosed_volume(mask)))
+    return BandStats(band, mesh.n_triangles, mesh.n_vertices, float(e.min()), float(e.max()),
+                     float(aspect_ratios(mesh).max()), tuple(bodies), tuple(files))
+
+
+def write_mesh(mesh, stem):
+    """Write ``mesh`` as ``stem.msh`` (gmsh 4.1, physical names kept) and ``stem.vtu``.
+
+    Returns
+    -------
+    tuple of Path
+    """
+    import meshio
+
+    # every triangle carries a physical tag and every tag a name, so gmsh and
+    # bempp-cl's import_grid read the groups back
+    m = meshio.Mesh(mesh.vertices, [("triangle", mesh.triangles)],
+                    cell_data={"gmsh:physical": [mesh.domains], "gmsh:geometrical": [mesh.domains]},
+                    field_data={name: np.array([tag, 2]) for name, tag in mesh.groups.items()})
+    msh, vtu = Path(f"{stem}.msh"), Path(f"{stem}.vtu")
+    meshio.write(msh, m, file_format="gmsh", binary=False)
+    meshio.write(vtu, meshio.Mesh(mesh.vertices, [("triangle", mesh.triangles)],
+                                  cell_data={"domain": [mesh.domains]}))
+    return msh, vtu
+
+
+def write_band_meshes(case, out_dir, cache_dir=None):
+    """Mesh every band of ``case`` and write it to ``out_dir`` (``bemcheck mesh``).
+
+    Parameters
+    ----------
+    case : Case
+    out_dir : str or Path
+        Created if missing.  Files ``band00_100-178Hz.msh`` / ``.vtu`` per band.
+    cache_dir : str or Path, optional
+        Mesh cache folder.
+
+    Returns
+    -------
+    list of BandStats
+    """
+    out = Path(out_dir)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise BemcheckInputError(f"{out}: cannot create the output folder ({exc.strerror})") from exc
+    stats = []
+    for band in plan_bands(case):
+        mesh = mesh_scene(case, band.element_size, cache_dir)
+        stem = out / f"band{band.index:02d}_{band.f_low:.0f}-{band.f_high:.0f}Hz"
+        stats.append(mesh_stats(case, mesh, band, write_mesh(mesh, stem)))
+    return stats
+
+
+def format_band_table(stats):
+    """Plain-text table of :func:`write_band_meshes` results, one line per band and body."""
+    head = (f"{'band':>4}  {'frequencies [Hz]':>17}  {'h [mm]':>7}  {'triangles':>9}  "
+            f"{'edges [mm]':>13}  {'aspect':>6}  {'body':<12} {'area [m2]':>10}  {'volume [L]':>10}")
+    lines = [head, "-" * len(head)]
+    for s in stats:
+        b = s.band
+        first = (f"{b.index:>4}  {f'{b.f_low:.0f}-{b.f_high:.0f}':>17}  "
+                 f"{1e3 * b.element_size:>7.1f}  {s.n_triangles:>9,}  "
+                 f"{f'{1e3 * s.min_edge:.1f}-{1e3 * s.max_edge:.1f}':>13}  {s.worst_aspect:>6.2f}  ")
+        for i, body in enumerate(s.bodies):
+            lead = first if i == 0 else " " * len(first)
+            lines.append(f"{lead}{body.name:<12} {body.area:>10.4f}  {1e3 * body.volume:>10.3f}")
+    return "\n".join(lines)

@@ -1,0 +1,176 @@
+"""All bodies of a case in one surface mesh, and the clearances the BEM solve needs."""
+
+from itertools import combinations
+from pathlib import Path
+
+import numpy as np
+
+from bemcheck.errors import GeometryError
+from bemcheck.frames import place
+from bemcheck.mesh.bodies import mesh_body
+from bemcheck.mesh.distance import nearest_on_surface, winding_number
+from bemcheck.mesh.surface import SurfaceMesh
+
+# Sources closer to a surface than this fraction of the nearest element's
+# longest edge are refused (the near-singular integrals lose accuracy; see
+# design.md, "Field points near a surface").  Common practice, no source.
+SOURCE_MARGIN = 0.25
+
+
+def _fmt(p):
+    return "(" + ", ".join(f"{c:.4g}" for c in p) + ")"
+
+
+def mesh_scene(case, element_size, cache_dir=None, check=True):
+    """Mesh every body of ``case`` and place it in the scene.
+
+    Parameters
+    ----------
+    case : bemcheck.case.model.Case
+    element_size : float
+        Largest element edge [m] (see :func:`~bemcheck.mesh.bands.plan_bands`).
+    cache_dir : str or Path, optional
+        Mesh cache folder (default ``$XDG_CACHE_HOME/bemcheck/meshes``).
+    check : bool
+        Run :func:`check_clearances` on the result.
+
+    Returns
+    -------
+    SurfaceMesh
+        Bodies in case order; each body's plain surface has its own tag and each
+        part (``"bell.mouth"``, ``"cab1.driver"``) its own, numbered from 1.
+
+    Raises
+    ------
+    GeometryError
+        No bodies, a body that cannot be meshed, or a clearance check failing.
+    """
+    if not case.bodies:
+        raise GeometryError(f"{case.path or case.title}: no bodies to mesh")
+    base_dir = Path(case.path).parent if case.path else None
+    vertices, triangles, domains, groups = [], [], [], {}
+    offset = 0
+    for body in case.bodies:
+        bm = mesh_body(body, element_size, cache_dir, base_dir)
+        tags = []
+        for part in bm.part_names:
+            name = body.name if part == "" else f"{body.name}.{part}"
+            groups[name] = len(groups) + 1
+            tags.append(groups[name])
+        vertices.append(place(bm.vertices, body.at, body.axis))
+        triangles.append(bm.triangles + offset)
+        domains.append(np.asarray(tags)[bm.parts])
+        offset += len(bm.vertices)
+    mesh = SurfaceMesh(np.vstack(vertices), np.vstack(triangles), np.concatenate(domains), groups)
+    if check:
+        check_clearances(case, mesh, element_size)
+    return mesh
+
+
+def _body_surface(mesh, name):
+    mask = np.isin(mesh.domains, mesh.tags_of_body(name))
+    return mesh.triangles[mask]
+
+
+def _inside(points, vertices, triangles):
+    return winding_number(points, vertices, triangles) > 0.5
+
+
+def check_clearances(case, mesh, element_size, source_margin=None):
+    """Refuse bodies too close together and sources or observers in or on a body.
+
+    Parameters
+    ----------
+    case : Case
+    mesh : SurfaceMesh
+        From :func:`mesh_scene`, with a group per body name.
+    element_size : float
+        The mesh's target element size [m], for a quick test of far-apart bodies.
+        Bodies must be at least half an element apart, where "an element" is the
+        longest edge of the triangles at their closest points.
+    source_margin : float, optional
+        Smallest distance from a point source to a surface [m]; by default
+        SOURCE_MARGIN times the longest edge of the nearest triangle.  Piston
+        sources sit on a surface by design and are not checked.
+
+    Raises
+    ------
+    GeometryError
+        Naming the two bodies and their gap, or the source / observer and the body.
+    """
+    v = mesh.vertices
+    surfaces = {b.name: _body_surface(mesh, b.name) for b in case.bodies}
+    for a, b in combinations(case.bodies, 2):
+        _check_pair(a.name, b.name, v, surfaces[a.name], surfaces[b.name], element_size)
+    for src in case.sources:
+        if src.radiator == "piston":
+            continue
+        for name, tri in surfaces.items():
+            _check_point(f"source '{src.name}'", src.position, name, v, tri, source_margin)
+    for obs in case.observers.points:
+        for name, tri in surfaces.items():
+            if _inside([obs.at], v, tri)[0]:
+                raise GeometryError(f"observer point '{obs.name}' at {_fmt(obs.at)} is inside "
+                                    f"body '{name}'; expected a point in the air")
+
+
+def _check_pair(a, b, v, ta, tb, h):
+    ia, ib = np.unique(ta), np.unique(tb)
+    lo_a, hi_a = v[ia].min(axis=0), v[ia].max(axis=0)
+    lo_b, hi_b = v[ib].min(axis=0), v[ib].max(axis=0)
+    if (lo_a > hi_b + h).any() or (lo_b > hi_a + h).any():
+        return                                      # boxes far apart
+    for name, other, pts, tri in ((a, b, ia, tb), (b, a, ib, ta)):
+        lo, hi = v[np.unique(tri)].min(axis=0), v[np.unique(tri)].max(axis=0)
+        candidates = pts[((v[pts] >= lo) & (v[pts] <= hi)).all(axis=1)]
+        inside = _inside(v[candidates], v, tri) if candidates.size else np.zeros(0, bool)
+        if inside.any():
+            p = v[candidates[np.flatnonzero(inside)[0]]]
+            raise GeometryError(f"bodies '{a}' and '{b}' intersect: a point of '{name}' at "
+                                f"{_fmt(p)} lies inside '{other}'")
+    # "half an element" is local: the bodies' own refinement, not the band's h
+    longest = _vertex_edge_lengths(v, np.vstack([ta, tb]))
+    reach = 0.5 * float(longest.max())
+    worst = None
+    for pts, tri in ((ia, tb), (ib, ta)):
+        d, which = nearest_on_surface(v[pts], v, tri, reach=reach)
+        found = which >= 0
+        if not found.any():
+            continue
+        c = v[tri[which[found]]]
+        local = np.maximum(np.linalg.norm(c[:, [1, 2, 0]] - c, axis=2).max(axis=1),
+                           longest[pts[found]])
+        k = np.argmin(d[found] - 0.5 * local)
+        if d[found][k] < 0.5 * local[k] and (worst is None or d[found][k] < worst[0]):
+            worst = (float(d[found][k]), float(local[k]))
+    if worst is not None:
+        gap, local = worst
+        raise GeometryError(f"bodies '{a}' and '{b}' are {gap:.3g} m apart, closer than half an "
+                            f"element there ({0.5 * local:.3g} m); move them apart")
+
+
+def _vertex_edge_lengths(v, tri):
+    """(nv,) longest edge touching each vertex (0 for vertices not in ``tri``)."""
+    e = np.linalg.norm(v[np.roll(tri, -1, axis=1)] - v[tri], axis=2)
+    out = np.zeros(len(v))
+    for k in range(3):
+        np.maximum.at(out, tri[:, k], np.maximum(e[:, k], e[:, k - 1]))
+    return out
+
+
+def _check_point(label, position, body, v, tri, margin):
+    p = np.asarray(position, dtype=float)[None]
+    if _inside(p, v, tri)[0]:
+        raise GeometryError(f"{label} at {_fmt(p[0])} is inside body '{body}'")
+    corners = v[tri]
+    longest = float(np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max())
+    d, which = nearest_on_surface(p, v, tri, reach=longest if margin is None else margin)
+    if which[0] < 0:
+        return
+    c = corners[which[0]]
+    need = margin if margin is not None else SOURCE_MARGIN * float(
+        np.linalg.norm(c[[1, 2, 0]] - c, axis=1).max())
+    if d[0] < need:
+        why = "" if margin is not None else f" ({SOURCE_MARGIN:g} of the local element size)"
+        raise GeometryError(f"{label} at {_fmt(p[0])} is {d[0]:.3g} m from the surface of body "
+                            f"'{body}', closer than the margin {need:.3g} m{why}; move it out")
