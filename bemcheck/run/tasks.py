@@ -60,11 +60,13 @@ def bem_task(case, task, device="auto", cache_dir=None):
     """
     import time
 
-    from bemcheck.mesh import check_clearances, mesh_scene
+    from bemcheck.mesh import SurfaceMesh, mesh_scene
 
     start = time.perf_counter()
-    mesh = mesh_scene(case, task.element_size, cache_dir=cache_dir)
-    check_clearances(case, mesh, task.element_size)
+    if case.bodies:
+        mesh = mesh_scene(case, task.element_size, cache_dir=cache_dir)
+    else:  # nothing scatters: the solver answers the free field
+        mesh = SurfaceMesh(np.zeros((0, 3)), np.zeros((0, 3), dtype=int), np.zeros(0, dtype=int))
     directions = for_observers(case.observers.far_field)
     arrays, sol = solve_case_frequency(case, mesh, task.frequency, directions, device)
     if task.refine:
