@@ -177,6 +177,10 @@ def main(argv=None):
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("default")
+            # Libraries' deprecation notices are for their developers, not our users.
+            warnings.simplefilter("ignore", DeprecationWarning)
+            warnings.simplefilter("ignore", PendingDeprecationWarning)
+            warnings.showwarning = _show_warning
             return _COMMANDS[args.command](args, sys.stdout)
     except BemcheckInputError as exc:
         print(f"bemcheck: error: {exc}", file=sys.stderr)
@@ -195,6 +199,10 @@ def main(argv=None):
         return _internal_failure()
     except Exception:
         return _internal_failure()
+
+
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    print(f"bemcheck: warning: {message}", file=sys.stderr)
 
 
 def _internal_failure():
