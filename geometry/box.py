@@ -20,6 +20,7 @@ ELEMENTS_PER_TURN = 24
 ROUND_FRACTION = 0.8
 THICKNESS_FRACTION = 0.5
 GRADING = 0.4
+MIN_ROUND = 0.02
 
 
 def build(depth, width, height, edge_radius=0.0, size=0.05):
@@ -45,10 +46,13 @@ def build(depth, width, height, edge_radius=0.0, size=0.05):
     for key, value in dims.items():
         if not value > 0.0:
             raise ValueError(f"size: {key} {value} m: expected > 0")
-    if not 0.0 <= edge_radius < 0.5 * min(dims.values()):
+    smallest = min(dims.values())
+    if not (edge_radius == 0.0 or MIN_ROUND * smallest <= edge_radius < 0.5 * smallest):
         raise ValueError(
-            f"edge_radius {edge_radius} m: expected >= 0 and below half the smallest "
-            f"side ({0.5 * min(dims.values())} m)")
+            f"edge_radius {edge_radius} m: expected 0 (sharp edges) or between "
+            f"{MIN_ROUND * smallest:.3g} m ({MIN_ROUND:g} of the smallest side; a finer "
+            f"rounding costs many elements for no audible effect) and {0.5 * smallest:.3g} m "
+            "(half the smallest side)")
     occ = gmsh.model.occ
     box = occ.addBox(-0.5 * width, -0.5 * height, -0.5 * depth, width, height, depth)
     if edge_radius > 0.0:

@@ -90,6 +90,8 @@ def _run_script(body, label, gmsh_size):
             script.build(*args)
         except ValueError as exc:
             raise GeometryError(f"{label}: {exc}") from exc
+        except Exception as exc:  # OpenCASCADE failures come as bare Exception
+            raise GeometryError(f"{label}: gmsh could not build the shape ({exc})") from exc
         try:
             gmsh.model.mesh.generate(2)
         except Exception as exc:  # gmsh raises bare Exception with its log line

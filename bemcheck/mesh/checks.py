@@ -102,14 +102,14 @@ def _check_edges(v, t, name):
     key = np.sort(directed, axis=1)
     uniq, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
     inverse = inverse.ravel()
-    if (counts == 1).any():
-        e = uniq[np.flatnonzero(counts == 1)[0]]
-        raise GeometryError(_edge_message(name, v, e, "a hole (not closed): an edge used by one "
-                                          "triangle only", int((counts == 1).sum())))
     if (counts > 2).any():
         j = np.flatnonzero(counts > 2)[0]
         raise GeometryError(_edge_message(name, v, uniq[j], f"non-manifold: an edge shared by "
                                           f"{counts[j]} triangles", int((counts > 2).sum())))
+    if (counts == 1).any():
+        e = uniq[np.flatnonzero(counts == 1)[0]]
+        raise GeometryError(_edge_message(name, v, e, "a hole (not closed): an edge used by one "
+                                          "triangle only", int((counts == 1).sum())))
     order = np.argsort(inverse, kind="stable")
     pairs = order.reshape(-1, 2)          # the two directed edges of each undirected edge
     same = (directed[pairs[:, 0]] == directed[pairs[:, 1]]).all(axis=1)

@@ -60,7 +60,7 @@ def mesh_stats(case, mesh, band, files=()):
 
 
 def write_mesh(mesh, stem):
-    """Write ``mesh`` as ``stem.msh`` (gmsh 4.1, physical names kept) and ``stem.vtu``.
+    """Write ``mesh`` as ``stem.msh`` (gmsh 2.2 text, physical tags and names kept) and ``stem.vtu``.
 
     Returns
     -------
@@ -68,13 +68,14 @@ def write_mesh(mesh, stem):
     """
     import meshio
 
-    # every triangle carries a physical tag and every tag a name, so gmsh and
-    # bempp-cl's import_grid read the groups back
+    # meshio's MSH 4.1 writer drops the physical tags (no $Entities section);
+    # its 2.2 writer keeps them per element, and gmsh, meshio and bempp-cl's
+    # import_grid all read them back (checked in tests/unit/test_mesh_scene.py)
     m = meshio.Mesh(mesh.vertices, [("triangle", mesh.triangles)],
                     cell_data={"gmsh:physical": [mesh.domains], "gmsh:geometrical": [mesh.domains]},
                     field_data={name: np.array([tag, 2]) for name, tag in mesh.groups.items()})
     msh, vtu = Path(f"{stem}.msh"), Path(f"{stem}.vtu")
-    meshio.write(msh, m, file_format="gmsh", binary=False)
+    meshio.write(msh, m, file_format="gmsh22", binary=False)
     meshio.write(vtu, meshio.Mesh(mesh.vertices, [("triangle", mesh.triangles)],
                                   cell_data={"domain": [mesh.domains]}))
     return msh, vtu

@@ -50,7 +50,10 @@ def read_mesh_file(path, scale=1.0, name=None):
     if path.stat().st_size == 0:
         raise GeometryError(f"{label}: the file is empty")
     try:
-        mesh = meshio.read(path)
+        with warnings.catch_warnings():
+            # meshio's STL reader first tries an ASCII file as binary and warns of overflow
+            warnings.simplefilter("ignore", RuntimeWarning)
+            mesh = meshio.read(path)
     except Exception as exc:  # meshio raises many kinds on bad input; all mean "unreadable"
         raise GeometryError(f"{label}: cannot read it as a surface mesh "
                             f"({type(exc).__name__}: {exc})") from exc
