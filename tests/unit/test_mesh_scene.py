@@ -166,3 +166,21 @@ def test_no_bodies(tmp_path):
     with pytest.raises(GeometryError, match="no bodies"):
         mesh_scene(scene(), H, tmp_path)
     assert not os.listdir(tmp_path)
+
+
+def test_cached_meshes_need_no_gmsh(tmp_path, monkeypatch):
+    case = scene([ball("a", (0, 0, 0))])
+    first = mesh_scene(case, H, tmp_path)
+    import importlib
+
+    real = importlib.import_module
+
+    def no_gmsh(name, *args):
+        if name == "gmsh":
+            raise OSError("libX11.so.6: cannot open shared object file")
+        return real(name, *args)
+
+    monkeypatch.setattr(importlib, "import_module", no_gmsh)
+    assert mesh_scene(case, H, tmp_path).n_triangles == first.n_triangles
+    with pytest.raises(EnvironmentProblem, match="libX11"):
+        mesh_scene(scene([ball("b", (0, 0, 0), 0.07)]), H, tmp_path)

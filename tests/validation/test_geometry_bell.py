@@ -149,7 +149,6 @@ def test_impossible_bells_are_refused(change, words, cache):
     assert "'horn'" in str(info.value)
 
 
-@pytest.mark.slow
 def test_long_neck_converges(tmp_path):
     """A finer mesh of the trumpet-like bell within 0.5 % of the integrals."""
     with warnings.catch_warnings():
