@@ -109,6 +109,6 @@ def test_obj_quads_and_volume_meshes(tmp_path):
     meshio.write(tmp_path / "cube.obj", meshio.Mesh(cube, [("quad", quads)]))
     v, t = read_mesh_file(tmp_path / "cube.obj")
     assert volume_area(v, t) == pytest.approx((1.0, 6.0), rel=1e-12)
-    meshio.write(tmp_path / "tet.vtu", meshio.Mesh(cube[:4], [("tetra", np.array([[0, 1, 2, 4 - 1]]))]))
+    meshio.write(tmp_path / "tet.vtu", meshio.Mesh(cube[:4], [("tetra", np.array([[0, 1, 2, 3]]))]))
     with pytest.raises(GeometryError, match="no triangles"):
         read_mesh_file(tmp_path / "tet.vtu")
