@@ -63,16 +63,17 @@ def _build_args(shape, size):
     raise GeometryError(f"unknown body shape {type(shape).__name__}")
 
 
-def _generate(body, element_size):
+def _generate(body, element_size, refine=1.0):
     label = f"body '{body.name}' ({body.kind})"
     factor = GMSH_SIZE_FACTOR
+    target = element_size / refine
     for attempt in range(RETRIES + 1):
-        vertices, triangles, group, names = _run_script(body, label, element_size * factor)
+        vertices, triangles, group, names = _run_script(body, label, element_size * factor, refine)
         p = vertices[triangles]
         longest = float(np.linalg.norm(p[:, [1, 2, 0]] - p, axis=2).max())
-        if longest <= element_size:
+        if longest <= target:
             break
-        factor *= 0.97 * element_size / longest
+        factor *= 0.97 * target / longest
     else:
         warnings.warn(f"{label}: its longest edge is {longest:.3g} m, above the target "
                       f"{element_size:.3g} m after {RETRIES} finer attempts", MeshNotice,
@@ -82,12 +83,15 @@ def _generate(body, element_size):
     return vertices, triangles, group, part_names
 
 
-def _run_script(body, label, gmsh_size):
+def _run_script(body, label, gmsh_size, refine=1.0):
     script_name, args = _build_args(body.shape, gmsh_size)
     script = _script(script_name)
     with session(body.name) as gmsh:
         try:
             script.build(*args)
+            # A uniform refinement scales every size the script set, the
+            # geometric bounds included, so a self-check mesh is finer everywhere.
+            gmsh.option.setNumber("Mesh.MeshSizeFactor", 1.0 / refine)
         except ValueError as exc:
             raise GeometryError(f"{label}: {exc}") from exc
         except Exception as exc:  # OpenCASCADE failures come as bare Exception
@@ -107,8 +111,8 @@ def _file_path(shape, base_dir):
     return path
 
 
-def mesh_key(body, element_size, base_dir=None):
-    """Cache key of ``body`` meshed at ``element_size`` (a hex string)."""
+def mesh_key(body, element_size, base_dir=None, refine=1.0):
+    """Cache key of ``body`` meshed at ``element_size`` and ``refine`` (a hex string)."""
     if isinstance(body.shape, MeshFile):
         path = _file_path(body.shape, base_dir)
         try:
@@ -119,11 +123,13 @@ def mesh_key(body, element_size, base_dir=None):
         return cache.digest("file", body.shape, None, [blob])
     script_name, _ = _build_args(body.shape, element_size)
     source = inspect.getsource(_script(script_name)).encode()
-    return cache.digest(body.kind, body.shape, element_size, [source],
-                          {"gmsh_size_factor": GMSH_SIZE_FACTOR, "retries": RETRIES})
+    extra = {"gmsh_size_factor": GMSH_SIZE_FACTOR, "retries": RETRIES}
+    if refine != 1.0:
+        extra["refine"] = float(refine)
+    return cache.digest(body.kind, body.shape, element_size, [source], extra)
 
 
-def mesh_body(body, element_size, cache_dir=None, base_dir=None):
+def mesh_body(body, element_size, cache_dir=None, base_dir=None, refine=1.0):
     """Mesh one body in its own frame, or take it from the cache.
 
     Parameters
@@ -135,13 +141,16 @@ def mesh_body(body, element_size, cache_dir=None, base_dir=None):
         Cache folder; default :func:`bemcheck.mesh.cache.default_cache_dir`.
     base_dir : str or Path, optional
         Folder that relative mesh-file paths are relative to (the case file's).
+    refine : float
+        Uniform refinement: every element size, the geometric bounds
+        included, divided by it (file bodies are used as they are).
 
     Returns
     -------
     BodyMesh
     """
     cache_dir = cache.default_cache_dir() if cache_dir is None else Path(cache_dir)
-    key = mesh_key(body, element_size, base_dir)
+    key = mesh_key(body, element_size, base_dir, refine)
     stored = cache.load(cache_dir, key)
     if stored is not None:
         mesh = BodyMesh(stored["vertices"], stored["triangles"], stored["parts"],
@@ -157,7 +166,7 @@ def mesh_body(body, element_size, cache_dir=None, base_dir=None):
             vertices, triangles = read_mesh_file(path, body.shape.scale, f"body '{body.name}'")
             parts, part_names = np.zeros(len(triangles), dtype=np.int64), ("",)
         else:
-            vertices, triangles, parts, part_names = _generate(body, element_size)
+            vertices, triangles, parts, part_names = _generate(body, element_size, refine)
     notices = []
     for w in caught:
         if issubclass(w.category, MeshNotice):

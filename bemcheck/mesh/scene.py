@@ -21,7 +21,7 @@ def _fmt(p):
     return "(" + ", ".join(f"{c:.4g}" for c in p) + ")"
 
 
-def mesh_scene(case, element_size, cache_dir=None, check=True):
+def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     """Mesh every body of ``case`` and place it in the scene.
 
     Parameters
@@ -33,6 +33,9 @@ def mesh_scene(case, element_size, cache_dir=None, check=True):
         Mesh cache folder (default ``$XDG_CACHE_HOME/bemcheck/meshes``).
     check : bool
         Run :func:`check_clearances` on the result.
+    refine : float
+        Uniform refinement factor (see :func:`~bemcheck.mesh.bodies.mesh_body`):
+        1.5 makes the self-check mesh, finer everywhere.
 
     Returns
     -------
@@ -51,7 +54,7 @@ def mesh_scene(case, element_size, cache_dir=None, check=True):
     vertices, triangles, domains, groups = [], [], [], {}
     offset = 0
     for body in case.bodies:
-        bm = mesh_body(body, element_size, cache_dir, base_dir)
+        bm = mesh_body(body, element_size, cache_dir, base_dir, refine)
         tags = []
         for part in bm.part_names:
             name = body.name if part == "" else f"{body.name}.{part}"

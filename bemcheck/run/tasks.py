@@ -61,10 +61,12 @@ def bem_task(case, task, device="auto", cache_dir=None):
     import time
 
     from bemcheck.mesh import SurfaceMesh, mesh_scene
+    from bemcheck.run.sweep import SELF_CHECK_REFINE
 
     start = time.perf_counter()
     if case.bodies:
-        mesh = mesh_scene(case, task.element_size, cache_dir=cache_dir)
+        refine = SELF_CHECK_REFINE if task.refine else 1.0
+        mesh = mesh_scene(case, task.element_size, cache_dir=cache_dir, refine=refine)
     else:  # nothing scatters: the solver answers the free field
         mesh = SurfaceMesh(np.zeros((0, 3)), np.zeros((0, 3), dtype=int), np.zeros(0, dtype=int))
     directions = for_observers(case.observers.far_field)

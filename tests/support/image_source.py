@@ -46,7 +46,8 @@ def image_task(case, task, calls=None):
     x = np.array([s.position for s in case.sources])
     pts = np.array([p.at for p in case.observers.points]).reshape(-1, 3)
     r = image_response(task.frequency, case.medium, x, d.unit, pts)
-    scale = 1.0 + task.element_size**2
+    h = task.element_size / (1.5 if task.refine else 1.0)
+    scale = 1.0 + h**2
     arrays = {"far_field": r.far_field * scale, "points": r.points * scale, "impedance": r.impedance, "power_matrix": r.power_matrix}
     lam = case.medium.speed_of_sound / task.frequency
     return arrays, {"elements": 100, "elements_per_wavelength": lam / task.element_size, "device": "image-source", "seconds": 0.0}
