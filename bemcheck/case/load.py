@@ -38,6 +38,8 @@ OBJECTIVES = ("power", "sector", "delay")
 # (common practice, no source: clear of the surface by more than the
 # near-field quadrature error of the coarsest mesh we build).
 STANDOFF = 0.02
+# The face that moves as a piston, by body kind (the physical group "<body>.<face>").
+PISTON_FACES = {"bell": "mouth", "box": "driver"}
 # Sources closer than this are one source to any model [m].
 COINCIDENT = 1e-6
 
@@ -224,11 +226,8 @@ def _source(r, bodies):
     at = r.vector("at", None)
     if at is None and on is None:
         r.fail("at", "a position [x, y, z] in m (or `on` naming a body)")
-    if radiator == "piston":
-        if role != "primary":
-            r.fail("radiator", "'point' for a control source (pistons are primaries)", radiator)
-        if on is None or bodies[on].kind != "bell":
-            r.fail("on", "the name of a bell (a piston sits on a bell's mouth cap)", on)
+    if radiator == "piston" and (on is None or bodies[on].kind not in PISTON_FACES):
+        r.fail("on", "the name of a bell or a box (a piston is a bell's mouth cap or a box's driver face)", on)
     position = at if at is not None else _position_on(bodies[on], radiator)
     strength = r.raw("strength", None)
     spectrum_r = r.sub("spectrum", None)
@@ -260,7 +259,7 @@ def _source(r, bodies):
 def _position_on(body, radiator):
     """Where a source named ``on`` a body sits, in the scene frame [m]."""
     if body.kind == "box":
-        local = (0.0, 0.0, body.shape.size[0] / 2.0 + STANDOFF)
+        local = (0.0, 0.0, body.shape.size[0] / 2.0 + (0.0 if radiator == "piston" else STANDOFF))
     elif body.kind == "bell":
         local = (0.0, 0.0, 0.0 if radiator == "piston" else STANDOFF - body.shape.cap_depth)
     elif body.kind == "sphere":

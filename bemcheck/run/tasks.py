@@ -7,6 +7,7 @@ kernels (in memory), so a long-lived worker pays the compile cost once.
 
 import numpy as np
 
+from bemcheck.case.load import PISTON_FACES
 from bemcheck.observers import for_observers
 
 
@@ -14,7 +15,7 @@ def _column_order(case):
     """Monopoles, then pistons, as the BEM solver orders its columns; and the piston groups."""
     points = [i for i, s in enumerate(case.sources) if s.radiator == "point"]
     pistons = [i for i, s in enumerate(case.sources) if s.radiator == "piston"]
-    groups = [f"{case.sources[i].on}.mouth" for i in pistons]
+    groups = [f"{case.sources[i].on}.{PISTON_FACES[case.body(case.sources[i].on).kind]}" for i in pistons]
     return points + pistons, points, groups
 
 

@@ -47,6 +47,12 @@ def test_good_case_loads_with_resolved_positions():
     assert case.medium.speed_of_sound == 343.0 and case.medium.density == 1.204
 
 
+def test_piston_sits_on_the_face_itself():
+    case = parse_case(GOOD.replace('on = "cab"', 'on = "cab"\nradiator = "piston"'))
+    assert case.sources[1].position == pytest.approx((0.0, 0.3 - 0.05, 0.0))
+    assert case.sources[1].radiator == "piston"
+
+
 def test_frequencies_per_octave_span():
     text = GOOD.replace("list = [100.0, 200.0]", "start = 100.0\nstop = 800.0\nper_octave = 3")
     f = parse_case(text).frequencies
@@ -86,6 +92,7 @@ BAD = [
     ("unknown driver", ('on = "cab"', 'on = "cab"\ndriver = "nope"'), ["source[1].driver", "[[driver]]"]),
     ("note without harmonics", ("[control]", "[[note]]\nname = \"Bb3\"\nfundamental = 233.0\nspl_at_1m = []\n[control]"), ["note[0].spl_at_1m", "at least 1"]),
     ("implausible SPL", ("[control]", "[[note]]\nname = \"Bb3\"\nfundamental = 233.0\nspl_at_1m = [95.0, 400.0]\n[control]"), ["note[0].spl_at_1m[1]", "between"]),
+    ("piston in the air", ('on = "cab"', 'at = [0.0, 0.5, 0.5]\nradiator = "piston"'), ["source[1].on", "bell or a box"]),
     ("no source", ("[[source]]\nname = \"p\"", "[[sourc]]\nname = \"p\""), ["source"]),
 ]
 
