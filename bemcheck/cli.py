@@ -166,7 +166,7 @@ def main(argv=None):
     Examples
     --------
     >>> main(["examples"])  # doctest: +ELLIPSIS
-    free-pair ...
+    demo ...
     0
     """
     parser = _parser()

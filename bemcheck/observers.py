@@ -57,8 +57,8 @@ def circle(plane="xy", step_deg=5.0):
     Examples
     --------
     >>> d = circle("xz", 90.0)
-    >>> d.unit.round(12).tolist()
-    [[1.0, 0.0, 0.0], [0.0, 0.0, 1.0], [-1.0, 0.0, 0.0], [-0.0, 0.0, -1.0]]
+    >>> (d.unit.round(12) + 0.0).tolist()
+    [[1.0, 0.0, 0.0], [0.0, 0.0, 1.0], [-1.0, 0.0, 0.0], [0.0, 0.0, -1.0]]
     """
     n = int(round(360.0 / step_deg))
     phi_deg = np.arange(n) * (360.0 / n)

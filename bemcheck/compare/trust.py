@@ -60,8 +60,9 @@ def crossing_frequency(frequencies, metric):
 
     Examples
     --------
-    >>> crossing_frequency([100.0, 200.0, 400.0], [0.5, 0.75, 1.25])
-    (282.842712474619, True)
+    >>> f, found = crossing_frequency([100.0, 200.0, 400.0], [0.5, 0.75, 1.25])
+    >>> round(f, 6), found
+    (282.842712, True)
     """
     f = np.asarray(frequencies, dtype=float)
     m = np.asarray(metric, dtype=float)

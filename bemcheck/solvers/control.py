@@ -92,7 +92,7 @@ def optimal_power_control(form, primary, control, q_primary):
     >>> k_d = 1.0; f = 343.0 / (2 * np.pi)  # k = 1 rad/m, d = 1 m
     >>> Z = impedance_matrix(f, Medium(343.0, 1.21), [[0, 0, 0], [1, 0, 0]])
     >>> q = optimal_power_control(power_form(Z), [0], [1], [1.0])
-    >>> round(q[0].real, 6)  # −sinc(kd)
+    >>> round(float(q[0].real), 6)  # −sinc(kd)
     -0.841471
     """
     h = np.asarray(form, dtype=complex)
@@ -132,7 +132,7 @@ def optimal_pressure_control(a_primary, a_control, q_primary, effort=0.0, weight
     Examples
     --------
     >>> q = optimal_pressure_control([[1.0], [1.0]], [[-1.0], [-1.0]], [2.0])
-    >>> round(q[0].real, 9)
+    >>> round(float(q[0].real), 9)
     2.0
     """
     ap = np.asarray(a_primary, dtype=complex)
@@ -183,7 +183,7 @@ def attenuation_db(power_before, power_after):
 
     Examples
     --------
-    >>> round(attenuation_db(1.0, 0.1), 6)
+    >>> round(float(attenuation_db(1.0, 0.1)), 6)
     10.0
     """
     before = np.asarray(power_before, dtype=float)

@@ -22,7 +22,7 @@ def wavenumber(frequency, medium):
     Examples
     --------
     >>> from bemcheck.case.model import Medium
-    >>> round(wavenumber(343.0, Medium(343.0, 1.2)), 6)
+    >>> round(float(wavenumber(343.0, Medium(343.0, 1.2))), 6)
     6.283185
     """
     return 2.0 * np.pi * np.asarray(frequency, dtype=float) / medium.speed_of_sound
@@ -57,7 +57,7 @@ def transfer_matrix(frequency, medium, sources, points):
     --------
     >>> from bemcheck.case.model import Medium
     >>> Z = transfer_matrix(100.0, Medium(), [[0, 0, 0]], [[1, 0, 0]])
-    >>> round(abs(Z[0, 0]), 3)  # ωρ/(4π r)
+    >>> round(float(abs(Z[0, 0])), 3)  # ωρ/(4π r)
     60.2
     """
     k = wavenumber(frequency, medium)
@@ -145,7 +145,7 @@ def far_field_matrix(frequency, medium, sources, directions):
     --------
     >>> from bemcheck.case.model import Medium
     >>> F = far_field_matrix(100.0, Medium(), [[0, 0, 0]], [[1, 0, 0]])
-    >>> round(abs(F[0, 0]), 3)
+    >>> round(float(abs(F[0, 0])), 3)
     60.2
     """
     k = wavenumber(frequency, medium)
@@ -171,7 +171,7 @@ def radiated_power(resistance_or_impedance, q):
 
     Examples
     --------
-    >>> round(radiated_power([[2.0]], [1.0]), 3)
+    >>> round(float(radiated_power([[2.0]], [1.0])), 3)
     1.0
     """
     z = np.asarray(resistance_or_impedance)
