@@ -5,8 +5,10 @@ from pathlib import Path
 
 import numpy as np
 
+from bemcheck.case.model import MeshFile
 from bemcheck.errors import GeometryError
 from bemcheck.frames import place
+from bemcheck.mesh.bands import REFUSED_BELOW
 from bemcheck.mesh.bodies import mesh_body
 from bemcheck.mesh.distance import nearest_on_surface, winding_number
 from bemcheck.mesh.surface import SurfaceMesh
@@ -46,7 +48,9 @@ def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     Raises
     ------
     GeometryError
-        No bodies, a body that cannot be meshed, or a clearance check failing.
+        No bodies, a body that cannot be meshed, a file body too coarse for
+        the band (fewer than REFUSED_BELOW elements per wavelength at its
+        top), or a clearance check failing.
     """
     if not case.bodies:
         raise GeometryError(f"{case.path or case.title}: no bodies to mesh")
@@ -55,6 +59,8 @@ def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     offset = 0
     for body in case.bodies:
         bm = mesh_body(body, element_size, cache_dir, base_dir, refine)
+        if isinstance(body.shape, MeshFile):
+            _check_resolution(case, body, bm, element_size)
         tags = []
         for part in bm.part_names:
             name = body.name if part == "" else f"{body.name}.{part}"
@@ -68,6 +74,52 @@ def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     if check:
         check_clearances(case, mesh, element_size)
     return mesh
+
+
+def check_file_bodies(case, bands, cache_dir=None):
+    """Refuse, before any solve, a file body too coarse for the case's highest band.
+
+    A file body keeps the mesh it was drawn with, whatever the band asks for.
+
+    Parameters
+    ----------
+    case : Case
+    bands : sequence of Band
+        With ``element_size`` [m] (see :func:`~bemcheck.mesh.bands.plan_bands`).
+    cache_dir : str or Path, optional
+        Mesh cache folder.
+
+    Raises
+    ------
+    GeometryError
+        A file that cannot be read or checked, or whose longest edge gives
+        fewer than REFUSED_BELOW elements per wavelength at the top frequency.
+    """
+    base_dir = Path(case.path).parent if case.path else None
+    finest = min(b.element_size for b in bands)
+    for body in case.bodies:
+        if isinstance(body.shape, MeshFile):
+            _check_resolution(case, body, mesh_body(body, finest, cache_dir, base_dir), finest)
+
+
+def _check_resolution(case, body, bm, element_size):
+    """Refuse a file body's mesh with fewer than REFUSED_BELOW elements per wavelength.
+
+    ``element_size`` is the band's c / f_top / elements_per_wavelength, so
+    the band's top frequency is recovered from it.
+    """
+    c = case.medium.speed_of_sound
+    wavelength = element_size * case.mesh.elements_per_wavelength
+    p = bm.vertices[bm.triangles]
+    longest = float(np.linalg.norm(p[:, [1, 2, 0]] - p, axis=2).max())
+    if wavelength / longest < REFUSED_BELOW:
+        top = c / wavelength
+        reach = c / (REFUSED_BELOW * longest)
+        raise GeometryError(
+            f"body '{body.name}' (mesh file {body.shape.path}): too coarse for {top:.0f} Hz: its "
+            f"longest edge {longest:.3g} m gives {wavelength / longest:.2g} elements per wavelength; "
+            f"expected at least {REFUSED_BELOW:g}, which this mesh gives up to {reach:.0f} Hz: "
+            f"give the file a finer mesh, or run only frequencies up to {reach:.0f} Hz (--frequencies)")
 
 
 def _body_surface(mesh, name):
