@@ -182,7 +182,7 @@ def _check_pair(a, b, v, ta, tb, h):
         if inside.any():
             p = v[candidates[np.flatnonzero(inside)[0]]]
             raise GeometryError(f"bodies '{a}' and '{b}' intersect: a point of '{name}' at "
-                                f"{_fmt(p)} lies inside '{other}'")
+                                f"{_fmt(p)} lies inside '{other}'; expected separate bodies")
     # "half an element" is local: the bodies' own refinement, not the band's h
     longest = _vertex_edge_lengths(v, np.vstack([ta, tb]))
     reach = 0.5 * float(longest.max())
@@ -216,7 +216,7 @@ def _vertex_edge_lengths(v, tri):
 def _check_point(label, position, body, v, tri, margin):
     p = np.asarray(position, dtype=float)[None]
     if _inside(p, v, tri)[0]:
-        raise GeometryError(f"{label} at {_fmt(p[0])} is inside body '{body}'")
+        raise GeometryError(f"{label} at {_fmt(p[0])} is inside body '{body}'; expected a point in the air")
     corners = v[tri]
     longest = float(np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max())
     d, which = nearest_on_surface(p, v, tri, reach=longest if margin is None else margin)
