@@ -48,7 +48,7 @@ def read_mesh_file(path, scale=1.0, name=None):
     if not path.is_file():
         raise GeometryError(f"{label}: no such file")
     if path.stat().st_size == 0:
-        raise GeometryError(f"{label}: the file is empty")
+        raise GeometryError(f"{label}: the file is empty; expected a surface mesh")
     try:
         with warnings.catch_warnings():
             # meshio's STL reader first tries an ASCII file as binary and warns of overflow
@@ -58,6 +58,9 @@ def read_mesh_file(path, scale=1.0, name=None):
         raise GeometryError(f"{label}: cannot read it as a surface mesh "
                             f"({type(exc).__name__}: {exc})") from exc
     points = np.asarray(mesh.points, dtype=float)
+    if points.size == 0:
+        # meshio gives no points, rather than an error, for some cut-short files (binary STL)
+        raise GeometryError(f"{label}: no points in it (cut short or corrupt?); expected a surface mesh")
     if points.ndim != 2 or points.shape[1] != 3:
         raise GeometryError(f"{label}: expected 3-D points, found shape {points.shape}")
     faces = []
