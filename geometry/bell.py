@@ -39,6 +39,8 @@ import argparse
 import math
 from dataclasses import dataclass
 
+from bemcheck.geometry_scripts._standalone import write_msh
+
 import numpy as np
 from scipy.optimize import brentq
 from scipy.spatial import cKDTree
@@ -341,8 +343,6 @@ def _is_disc_at(bbox, z, tol=1e-6):
 
 def main(argv=None):
     """Mesh one bell and write it as a gmsh .msh file for inspection."""
-    import gmsh
-
     p = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     p.add_argument("--mouth-radius", type=float, default=0.062, help="r at the mouth [m]")
     p.add_argument("--throat-radius", type=float, default=0.008, help="r at the small end [m]")
@@ -353,17 +353,8 @@ def main(argv=None):
     p.add_argument("--size", type=float, default=0.02, help="largest element size [m]")
     p.add_argument("-o", "--output", default="bell.msh", help="output .msh file")
     args = p.parse_args(argv)
-    gmsh.initialize(interruptible=False)
-    try:
-        gmsh.option.setNumber("General.Terminal", 0)
-        gmsh.model.add("bell")
-        build(args.mouth_radius, args.throat_radius, args.length, args.flare,
-              args.rim_radius, args.cap_depth, args.size)
-        gmsh.model.mesh.generate(2)
-        gmsh.write(args.output)
-    finally:
-        gmsh.finalize()
-    print(f"wrote {args.output}")
+    write_msh("bell", build, (args.mouth_radius, args.throat_radius, args.length, args.flare,
+              args.rim_radius, args.cap_depth, args.size), args.output)
 
 
 if __name__ == "__main__":

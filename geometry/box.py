@@ -16,6 +16,8 @@ Distance -> Threshold background field.  Run ``python geometry/box.py --help``.
 import argparse
 import math
 
+from bemcheck.geometry_scripts._standalone import write_msh
+
 ELEMENTS_PER_TURN = 24
 ROUND_FRACTION = 0.8
 THICKNESS_FRACTION = 0.5
@@ -94,8 +96,6 @@ def _is_flat_at(bbox, z, tol=1e-6):
 
 def main(argv=None):
     """Mesh one cabinet and write it as a gmsh .msh file for inspection."""
-    import gmsh
-
     p = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     p.add_argument("--depth", type=float, default=0.2, help="along z, the driver's axis [m]")
     p.add_argument("--width", type=float, default=0.15, help="along x [m]")
@@ -104,16 +104,7 @@ def main(argv=None):
     p.add_argument("--size", type=float, default=0.03, help="largest element size [m]")
     p.add_argument("-o", "--output", default="box.msh", help="output .msh file")
     args = p.parse_args(argv)
-    gmsh.initialize(interruptible=False)
-    try:
-        gmsh.option.setNumber("General.Terminal", 0)
-        gmsh.model.add("box")
-        build(args.depth, args.width, args.height, args.edge_radius, args.size)
-        gmsh.model.mesh.generate(2)
-        gmsh.write(args.output)
-    finally:
-        gmsh.finalize()
-    print(f"wrote {args.output}")
+    write_msh("box", build, (args.depth, args.width, args.height, args.edge_radius, args.size), args.output)
 
 
 if __name__ == "__main__":

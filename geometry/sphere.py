@@ -10,6 +10,8 @@ Run ``python geometry/sphere.py --help``.
 import argparse
 import math
 
+from bemcheck.geometry_scripts._standalone import write_msh
+
 ELEMENTS_PER_TURN = 44
 
 
@@ -48,23 +50,12 @@ def build(radius, size=0.02):
 
 def main(argv=None):
     """Mesh one sphere and write it as a gmsh .msh file for inspection."""
-    import gmsh
-
     p = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     p.add_argument("--radius", type=float, default=0.1, help="sphere radius [m]")
     p.add_argument("--size", type=float, default=0.02, help="largest element size [m]")
     p.add_argument("-o", "--output", default="sphere.msh", help="output .msh file")
     args = p.parse_args(argv)
-    gmsh.initialize(interruptible=False)
-    try:
-        gmsh.option.setNumber("General.Terminal", 0)
-        gmsh.model.add("sphere")
-        build(args.radius, args.size)
-        gmsh.model.mesh.generate(2)
-        gmsh.write(args.output)
-    finally:
-        gmsh.finalize()
-    print(f"wrote {args.output}")
+    write_msh("sphere", build, (args.radius, args.size), args.output)
 
 
 if __name__ == "__main__":
