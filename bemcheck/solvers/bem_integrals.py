@@ -16,7 +16,8 @@ layer of a constant over a closed surface vanishes outside it (Gauss's
 theorem), so subtracting ``u(x*) * ∫ ∂G_0/∂n_y dS_y``, with x* the point of
 the surface nearest to x, leaves an integrand that is bounded as x nears
 the surface; :meth:`Moments.double_layer_potential` does that.  The same
-integral is about -1 for a point inside a body, which gives the inside test.
+integral, summed exactly from the solid angles of the near triangles, is -1
+for a point inside a body and 0 outside: the inside test.
 """
 
 from dataclasses import dataclass
@@ -29,6 +30,10 @@ from bemcheck.solvers import bem_quadrature as quad
 FOUR_PI = 4.0 * np.pi
 # Targets closer than this fraction of the nearest triangle's size are on the surface.
 ON_SURFACE = 1e-6
+# Targets inside a body by less than this fraction of the nearest triangle's
+# size are on the surface too: they lie between a curved body and its flat
+# triangles (the sagitta of an edge h on radius a is h^2/8a, 0.04 h at h = a/3).
+SNAP_INSIDE = 0.1
 # Quadrature points handled at once (memory bound, about 100 MB of temporaries).
 _BATCH_POINTS = 400_000
 
@@ -46,7 +51,11 @@ class Moments:
     single_p0 : (M, n_sup) ndarray of complex or None
         ∫_t G dS over the triangles asked for [m].
     solid : (M,) ndarray
-        ∫ ∂G_0/∂n_y dS: 0 outside every body, -1 inside one.
+        ∫ ∂G_0/∂n_y dS: 0 outside every body, -1 inside one (near triangles
+        by their exact solid angles).
+    solid_rule : (M,) ndarray
+        The same integral by the quadrature used for ``double``: its error
+        follows that of ``double`` and cancels in the subtraction.
     distance : (M,) ndarray
         Distance to the surface [m] (to its nearest vertex for targets
         farther than about 3 element sizes).
@@ -64,6 +73,7 @@ class Moments:
     double: np.ndarray
     single_p0: np.ndarray | None
     solid: np.ndarray
+    solid_rule: np.ndarray
     distance: np.ndarray
     nearest: object
     on_surface: np.ndarray
@@ -71,7 +81,13 @@ class Moments:
 
     def double_layer_potential(self):
         """(M, nv) matrix D with DL(u)(x) = D @ u, accurate up to the surface [dimensionless]."""
-        return self.double - self.solid[:, None] * self.nearest.toarray()
+        return self.double - self.solid_rule[:, None] * self.nearest.toarray()
+
+    @property
+    def gap(self):
+        """(M,) distance over the nearest triangle's longest edge (inf far from the surface)."""
+        out = np.full(len(self.size), np.inf)
+        return np.divide(self.distance, self.size, out=out, where=np.isfinite(self.size))
 
     @property
     def inside(self):
@@ -92,7 +108,7 @@ def _near_pairs(surface, targets):
     """Closest points for target-triangle pairs that may need subdivision."""
     centroids = surface.vertices[surface.triangles].mean(axis=1)
     reach = (quad.SAFE_RATIO + 1.0) * surface.sizes
-    ti, tt = [], []
+    ti, tt = [np.zeros(0, int)], [np.zeros(0, int)]
     for start in range(0, len(targets), 256):
         block = targets[start : start + 256]
         close = np.linalg.norm(block[:, None, :] - centroids[None], axis=2) < reach[None]
@@ -148,8 +164,8 @@ def moments(surface, targets, k, single=True, p0_support=None):
     -------
     Moments
     """
-    x = np.atleast_2d(np.asarray(targets, dtype=float))
-    m, nv = len(x), surface.n_vertices
+    x = np.asarray(targets, dtype=float).reshape(-1, 3)
+    m = len(x)
     ti, tt, dist, bary = _near_pairs(surface, x)
     distance, nearest, on_surface, size = _nearest(surface, x, ti, tt, dist, bary)
     lvl = quad.levels(dist, surface.sizes[tt])
@@ -184,14 +200,19 @@ def moments(surface, targets, k, single=True, p0_support=None):
             w = surface.areas[tt[sel], None] * r.weights[None, :]
             acc.add_pairs(ti[sel], tt[sel], g * w, dg * w, dg0 * w, r.bary)
 
+    solid = acc.solid_far.copy()
+    near = np.flatnonzero(skip)
+    np.add.at(solid, ti[near], solid_angles(x[ti[near]], surface.corners(tt[near])) / FOUR_PI)
+    snapped = (solid < -0.5) & (distance <= SNAP_INSIDE * size)
     return Moments(
         single=acc.single if single else None,
         double=acc.double,
         single_p0=acc.single_p0,
-        solid=acc.solid,
+        solid=solid,
+        solid_rule=acc.solid,
         distance=distance,
         nearest=nearest,
-        on_surface=on_surface,
+        on_surface=on_surface | snapped,
         size=size,
     )
 
@@ -205,6 +226,7 @@ class _Accumulator:
         self.double = np.zeros((m, surface.n_vertices), complex)
         self.single = np.zeros((m, surface.n_vertices), complex) if single else None
         self.solid = np.zeros(m)
+        self.solid_far = np.zeros(m)
         self.support = support
         self.single_p0 = None if support is None else np.zeros((m, len(support)), complex)
         if support is not None:
@@ -220,7 +242,9 @@ class _Accumulator:
         self.double[rows] += self._to_vertices(np.einsum("mtq,qa->mta", dgw, bary))
         if self.single is not None:
             self.single[rows] += self._to_vertices(np.einsum("mtq,qa->mta", gw, bary))
-        self.solid[rows] += dg0w.real.sum(axis=(1, 2))
+        far = dg0w.real.sum(axis=(1, 2))
+        self.solid[rows] += far
+        self.solid_far[rows] += far
         if self.single_p0 is not None:
             self.single_p0[rows] += gw[:, self.support].sum(axis=2)
 
@@ -236,6 +260,31 @@ class _Accumulator:
             col = self.column[tri]
             keep = col >= 0
             np.add.at(self.single_p0, (target[keep], col[keep]), gw[keep].sum(axis=1))
+
+
+def solid_angles(points, corners):
+    """Signed solid angles of triangles seen from points, positive on the side the normal points to.
+
+    Van Oosterom & Strackee (1983), The solid angle of a plane triangle,
+    IEEE Trans. Biomed. Eng. 30(2), 125-126.
+
+    Parameters
+    ----------
+    points : (n, 3) ndarray
+    corners : (n, 3, 3) ndarray
+        Counter-clockwise corners, paired row by row with ``points``.
+
+    Returns
+    -------
+    (n,) ndarray
+        [sr]; ∫_T ∂G_0/∂n_y dS_y = Ω/(4π).
+    """
+    r = corners - points[:, None, :]
+    n = np.linalg.norm(r, axis=2)
+    num = np.einsum("ij,ij->i", r[:, 0], np.cross(r[:, 1], r[:, 2]))
+    dot = np.einsum("ikj,ilj->ikl", r, r)
+    den = n.prod(axis=1) + dot[:, 0, 1] * n[:, 2] + dot[:, 0, 2] * n[:, 1] + dot[:, 1, 2] * n[:, 0]
+    return -2.0 * np.arctan2(num, den)
 
 
 def far_field_moments(surface, directions, k, p0_support=None):

@@ -154,3 +154,40 @@ def voxel_body(occupied, size, n=2, origin=(0.0, 0.0, 0.0), tag=1, name="body", 
                 count += len(p)
     verts, tri = _weld(np.concatenate(pts), np.concatenate(tris), float(h.max()))
     return SurfaceMesh(verts, tri, np.concatenate(doms), groups)
+
+
+def rotated(mesh, rotation):
+    """The mesh turned by a (3, 3) rotation matrix about the origin."""
+    r = np.asarray(rotation, dtype=float)
+    return SurfaceMesh(mesh.vertices @ r.T, mesh.triangles, mesh.domains, dict(mesh.groups))
+
+
+def pole_up(mesh):
+    """An icosphere turned so that its vertex nearest +z sits exactly on +z."""
+    from bemcheck.frames import rotation_to
+
+    v = mesh.vertices[np.argmax(mesh.vertices[:, 2])]
+    return rotated(mesh, rotation_to(v).T)
+
+
+def ray_hit(mesh, direction, origin=(0.0, 0.0, 0.0)):
+    """First point where the ray origin + t d (t > 0) meets the mesh [m].
+
+    Möller & Trumbore (1997), Fast, minimum storage ray-triangle intersection,
+    J. Graphics Tools 2(1), 21-28.
+    """
+    o = np.asarray(origin, dtype=float)
+    d = np.asarray(direction, dtype=float)
+    d = d / np.linalg.norm(d)
+    p = mesh.vertices[mesh.triangles]
+    e1, e2 = p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]
+    h = np.cross(d, e2)
+    det = np.einsum("ij,ij->i", e1, h)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        s = o - p[:, 0]
+        u = np.einsum("ij,ij->i", s, h) / det
+        q = np.cross(s, e1)
+        v = (q @ d) / det
+        t = np.einsum("ij,ij->i", e2, q) / det
+        ok = (np.abs(det) > 1e-14) & (u >= 0) & (v >= 0) & (u + v <= 1) & (t > 0)
+    return o + t[ok].min() * d

@@ -99,3 +99,54 @@ def power_ratio(ka, r0_over_a):
     k = ka
     gs = scattered_green(ka, r0_over_a, 0.0, r0_over_a, a=1.0)[0]
     return float(1.0 + 4.0 * np.pi / k * gs.imag)
+
+
+def _cap_coefficients(n, mu0):
+    """V_n / v0 of a cap θ < θ0 moving with v0: ((P_{n-1} - P_{n+1})(cos θ0)) / 2, P_{-1} = 1."""
+    below = np.where(n == 0, 1.0, eval_legendre(np.maximum(n - 1, 0), mu0))
+    return 0.5 * (below - eval_legendre(n + 1, mu0))
+
+
+def cap_far_field(ka, theta0, theta, a=1.0):
+    """Far field F(θ) (p ≈ F e^{ikr}/r) of a cap θ < θ0 on the rigid sphere, unit volume velocity, per ρc.
+
+    Separation of variables (Morse & Ingard, Theoretical Acoustics, 1968,
+    sec. 7.2; from memory): v(θ) = Σ V_n P_n, p = iρc Σ V_n h_n(kr)/h_n'(ka) P_n,
+    so F = (ρc/k) Σ V_n (-i)^n P_n(cos θ) / h_n'(ka).  Returned divided by ρc [1/m].
+    """
+    k = ka / a
+    mu0 = np.cos(theta0)
+    v0 = 1.0 / (2.0 * np.pi * a**2 * (1.0 - mu0))
+    n = np.arange(_terms(ka) + 40)[:, None]
+    p = eval_legendre(n, np.cos(np.atleast_1d(theta))[None, :])
+    vn = v0 * _cap_coefficients(n, mu0)
+    return np.sum(vn * (-1j) ** n * p / _h(n, ka, True), axis=0) / k
+
+
+def cap_mean_pressure(ka, theta0, a=1.0):
+    """Face-averaged pressure on the cap per unit volume velocity, per ρc [1/m^2].
+
+    (1/A) ∫_cap p dS with ∫_{cos θ0}^1 P_n dμ = 2 V_n / (v0 (2n+1)).
+    """
+    mu0 = np.cos(theta0)
+    area = 2.0 * np.pi * a**2 * (1.0 - mu0)
+    # The terms fall only like n^-3 (the velocity jumps at the rim): many
+    # terms, with h_n/h_n' by upward recurrence to stay clear of overflow.
+    n = np.arange(2000)
+    cn = _cap_coefficients(n, mu0)
+    integral = 2.0 * cn / (2 * n + 1)
+    return complex(2.0 * np.pi * a**2 / area * np.sum(1j * (cn / area) * _h_over_dh(len(n), ka) * integral))
+
+
+def _h_over_dh(count, x):
+    """h_n(x)/h_n'(x) for n < count, by upward recurrence of L_n = h_n'/h_n.
+
+    From h_{n+1} = (n/x) h_n - h_n' and h_{n+1}' = h_n - ((n+2)/x) h_{n+1}:
+    L_{n+1} = 1/(n/x - L_n) - (n+2)/x (upward recurrence is stable for h_n,
+    which grows with n).
+    """
+    log_d = np.empty(count, complex)
+    log_d[0] = _h(0, x, True) / _h(0, x)
+    for n in range(count - 1):
+        log_d[n + 1] = 1.0 / (n / x - log_d[n]) - (n + 2) / x
+    return 1.0 / log_d
