@@ -49,8 +49,8 @@ def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     ------
     GeometryError
         No bodies, a body that cannot be meshed, a file body too coarse for
-        the band (fewer than REFUSED_BELOW elements per wavelength at its
-        top), or a clearance check failing.
+        the case (fewer than REFUSED_BELOW elements per wavelength at its
+        highest frequency), or a clearance check failing.
     """
     if not case.bodies:
         raise GeometryError(f"{case.path or case.title}: no bodies to mesh")
@@ -60,7 +60,7 @@ def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     for body in case.bodies:
         bm = mesh_body(body, element_size, cache_dir, base_dir, refine)
         if isinstance(body.shape, MeshFile):
-            _check_resolution(case, body, bm, element_size)
+            _check_resolution(case, body, bm)
         tags = []
         for part in bm.part_names:
             name = body.name if part == "" else f"{body.name}.{part}"
@@ -76,16 +76,15 @@ def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     return mesh
 
 
-def check_file_bodies(case, bands, cache_dir=None):
-    """Refuse, before any solve, a file body too coarse for the case's highest band.
+def check_file_bodies(case, cache_dir=None):
+    """Read every file body and refuse, before any solve, one too coarse for the case.
 
-    A file body keeps the mesh it was drawn with, whatever the band asks for.
+    A file body keeps the mesh it was drawn with, whatever a band asks for,
+    so the case's highest frequency decides.
 
     Parameters
     ----------
     case : Case
-    bands : sequence of Band
-        With ``element_size`` [m] (see :func:`~bemcheck.mesh.bands.plan_bands`).
     cache_dir : str or Path, optional
         Mesh cache folder.
 
@@ -93,31 +92,26 @@ def check_file_bodies(case, bands, cache_dir=None):
     ------
     GeometryError
         A file that cannot be read or checked, or whose longest edge gives
-        fewer than REFUSED_BELOW elements per wavelength at the top frequency.
+        fewer than REFUSED_BELOW elements per wavelength at the highest frequency.
     """
     base_dir = Path(case.path).parent if case.path else None
-    finest = min(b.element_size for b in bands)
     for body in case.bodies:
         if isinstance(body.shape, MeshFile):
-            _check_resolution(case, body, mesh_body(body, finest, cache_dir, base_dir), finest)
+            _check_resolution(case, body, mesh_body(body, 0.0, cache_dir, base_dir))
 
 
-def _check_resolution(case, body, bm, element_size):
-    """Refuse a file body's mesh with fewer than REFUSED_BELOW elements per wavelength.
-
-    ``element_size`` is the band's c / f_top / elements_per_wavelength, so
-    the band's top frequency is recovered from it.
-    """
+def _check_resolution(case, body, bm):
+    """Refuse a file body's mesh with fewer than REFUSED_BELOW elements per wavelength at the top frequency."""
     c = case.medium.speed_of_sound
-    wavelength = element_size * case.mesh.elements_per_wavelength
+    top = max(case.frequencies)
     p = bm.vertices[bm.triangles]
     longest = float(np.linalg.norm(p[:, [1, 2, 0]] - p, axis=2).max())
-    if wavelength / longest < REFUSED_BELOW:
-        top = c / wavelength
+    per_wavelength = c / top / longest
+    if per_wavelength < REFUSED_BELOW:
         reach = c / (REFUSED_BELOW * longest)
         raise GeometryError(
             f"body '{body.name}' (mesh file {body.shape.path}): too coarse for {top:.0f} Hz: its "
-            f"longest edge {longest:.3g} m gives {wavelength / longest:.2g} elements per wavelength; "
+            f"longest edge {longest:.3g} m gives {per_wavelength:.2g} elements per wavelength; "
             f"expected at least {REFUSED_BELOW:g}, which this mesh gives up to {reach:.0f} Hz: "
             f"give the file a finer mesh, or run only frequencies up to {reach:.0f} Hz (--frequencies)")
 

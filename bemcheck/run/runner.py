@@ -108,7 +108,7 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, workers=1
     if any(b.kind == "file" for b in case.bodies):
         from bemcheck.mesh.scene import check_file_bodies
 
-        check_file_bodies(case, bands, cache_dir)  # before hours of solves, not at the top band
+        check_file_bodies(case, cache_dir)  # before hours of solves, not at the top band
     from bemcheck.build.check import harmonic_plan
 
     plan = plan_tasks(case, bands, harmonics=[f for _, _, f in harmonic_plan(case)])
