@@ -52,7 +52,8 @@ def prepare_folder(out_dir):
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise BemcheckInputError(f"{out}: cannot create the output folder ({exc.strerror})") from None
+        raise BemcheckInputError(f"{out}: cannot create the output folder ({exc.strerror}); "
+                                 "expected a folder you can write to") from None
     if not out.is_dir() or not os.access(out, os.W_OK | os.X_OK):
         raise BemcheckInputError(f"{out}: output folder is not writable; expected a folder you can write to")
     return out
