@@ -186,7 +186,12 @@ def run_case(case, out_dir, model="both", report=False, **options):
             summary["before_build"] = build.summary
         results = folder / RESULTS_FILE
         write_dataset(ds, results)
-        write_summary(summary, folder / SUMMARY_FILE)
+        try:
+            write_summary(summary, folder / SUMMARY_FILE)
+        except BaseException:
+            # a results.nc without its summary would pass for a finished run
+            results.unlink(missing_ok=True)
+            raise
         report_path = _write_report(case, folder, options) if report else None
     lines = tuple(verdict_lines(verdict)) if verdict else ()
     if build is not None:
