@@ -88,6 +88,9 @@ def write_dataset(ds, path):
     os.close(fd)
     try:
         _split_complex(ds).to_netcdf(tmp, engine="h5netcdf")
+        # A full disk may show only when delayed blocks are flushed; fail here, not after the rename.
+        with open(tmp, "rb+") as fh:
+            os.fsync(fh.fileno())
         os.replace(tmp, path)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
