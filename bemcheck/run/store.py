@@ -58,7 +58,9 @@ class RunLock:
     """An exclusive lock on a run folder, so two runs never interleave their writes.
 
     The lock file holds the owner's process id; a lock left by a process that
-    no longer exists (a run killed with SIGKILL) is taken over.
+    no longer exists (a run killed with SIGKILL) is taken over.  Whoever takes
+    the lock removes the temporaries (``.*.part``) of writes such a run cut
+    short: no other run can be writing them.
     """
 
     def __init__(self, folder):
@@ -80,8 +82,14 @@ class RunLock:
             with os.fdopen(fd, "w") as fh:
                 fh.write(str(os.getpid()))
             self.held = True
+            self._remove_temporaries()
             return self
         raise BemcheckInputError(f"{self.path}: cannot take the run folder's lock")
+
+    def _remove_temporaries(self):
+        for folder in (self.path.parent, self.path.parent / PARTS):
+            for tmp in folder.glob(".*.part"):
+                tmp.unlink(missing_ok=True)
 
     def _stale(self):
         try:
