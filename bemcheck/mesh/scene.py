@@ -112,8 +112,8 @@ def _check_resolution(case, body, bm):
         raise GeometryError(
             f"body '{body.name}' (mesh file {body.shape.path}): too coarse for {top:.0f} Hz: its "
             f"longest edge {longest:.3g} m gives {per_wavelength:.3g} elements per wavelength; "
-            f"expected at least {REFUSED_BELOW:g}, which this mesh gives up to {reach:.0f} Hz: "
-            f"give the file a finer mesh, or run only frequencies up to {reach:.0f} Hz (--frequencies)")
+            f"expected at least {REFUSED_BELOW:g}, which this mesh gives up to {reach:.3g} Hz: "
+            f"give the file a finer mesh, or run only frequencies up to {reach:.3g} Hz (--frequencies)")
 
 
 def _body_surface(mesh, name):
