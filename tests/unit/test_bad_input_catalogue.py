@@ -1,0 +1,395 @@
+"""Catalogue of bad inputs, end to end through the `bemcheck` command (issue 9).
+
+Every row runs ``main([...])`` in this process and asserts the contract of
+``bemcheck/cli.py``: exit code 2, a message on stderr naming the file, the key
+or the element and what was expected, no traceback, and nothing half-written
+(no results.nc, summary.json or report.html, no ``*.part`` temporary, no lock).
+The case-file rows of ``test_case_loader.py`` are not repeated here; these
+rows cover mesh files, the scene, the output folder, command options and
+case keys that one does not reach.
+
+The physical rules behind the refusals, with their sources:
+
+* The Burton-Miller equation holds for a closed surface with a known outward
+  normal (Burton & Miller 1971, Proc. R. Soc. Lond. A 323, 201-210, sec. 2):
+  holes, non-manifold edges, mixed orientation, zero-area or NaN triangles
+  leave it undefined.
+* Inside or outside a closed surface: the winding number, 1 inside and 0
+  outside (Jacobson, Kavan & Sorkine-Hornung 2013, "Robust inside-outside
+  segmentation using generalized winding numbers", ACM Trans. Graph. 32(4) 33).
+  The octahedron |x| + |y| + |z| <= a used here makes it plain arithmetic.
+* Element size: at least 4 linear elements per wavelength for any accuracy,
+  6 usually advised (Marburg 2002, "Six boundary elements per wavelength: is
+  that enough?", J. Comput. Acoust. 10(1) 25-51; from memory).
+* TOML files are UTF-8 (TOML v1.0.0 specification, "Spec").  ENOSPC is "no
+  space left on device" (POSIX.1-2017, <errno.h>).
+"""
+
+import errno
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pytest
+import xarray as xr
+
+import bemcheck
+from bemcheck.cli import main
+from bemcheck.mesh.scene import check_file_bodies
+from bemcheck.run import results
+
+DATA = Path(__file__).resolve().parents[1] / "data" / "bad"
+OUTPUTS = ("results.nc", "summary.json", "report.html", ".bemcheck.lock")
+
+# A cabinet read from a mesh file (the octahedron |x| + |y| + |z| <= 0.1 m,
+# edge 0.1 * sqrt(2) = 0.141 m), a primary and a control 0.5 m either side,
+# one listener.  Every row changes one thing.
+BASE = """
+[case]
+title = "Catalogue row (invented test case)"
+[frequencies]
+list = [100.0, 200.0]
+[mesh]
+band_octaves = 4
+[[body]]
+name = "cab"
+kind = "file"
+path = "{mesh}"
+[[source]]
+name = "p"
+role = "primary"
+at = [0.5, 0.0, 0.0]
+strength = 1e-3
+[[source]]
+name = "c"
+role = "control"
+at = [-0.5, 0.0, 0.0]
+[observers]
+far_field = { plane = "xy", step_deg = 30.0 }
+points = [ { name = "ear", at = [0.0, 1.0, 0.0] } ]
+"""
+
+BOX = '[[body]]\nname = "cab2"\nkind = "box"\nsize = [0.2, 0.2, 0.2]\nat = [{x}, 0.0, 0.0]\n[[source]]\nname = "p"'
+
+
+@dataclass(frozen=True)
+class Row:
+    """One bad input.
+
+    ``changes`` are (old, new) replacements in BASE; ``mesh`` the file the
+    case reads (a name in tests/data/bad, or "{tmp}/..." made by ``setup``);
+    ``words`` must all be in stderr, with "{case}", "{out}" and "{tmp}"
+    filled in.
+    """
+
+    name: str
+    words: tuple
+    changes: tuple = ()
+    mesh: str = "octahedron.obj"
+    command: str = "run"
+    extra: tuple = ()
+    setup: object = None
+    out: str = "{tmp}/out"
+    exit_code: int = 2
+    why: str = ""
+    warnings: tuple = field(default=())
+
+
+def _directory(tmp):
+    (tmp / "folder.stl").mkdir()
+
+
+def _regular_file(tmp):
+    (tmp / "taken").write_text("a file where the run folder should go\n")
+
+
+def _not_utf8(tmp):
+    (tmp / "case.toml").write_bytes(b"[case]\ntitle = \"\xff\xfe caf\xe9\"\n")
+
+
+def _volume_mesh(tmp):
+    # gmsh 2.2 ASCII with one tetrahedron and no surface (gmsh reference
+    # manual, "MSH file format version 2": element type 4 = 4-node tetrahedron)
+    (tmp / "tetra.msh").write_text(
+        "$MeshFormat\n2.2 0 8\n$EndMeshFormat\n$Nodes\n4\n1 0 0 0\n2 0.1 0 0\n3 0 0.1 0\n"
+        "4 0 0 0.1\n$EndNodes\n$Elements\n1\n1 4 2 1 1 1 2 3 4\n$EndElements\n")
+
+
+ROWS = [
+    # -- the mesh resolves the frequency? --------------------------------
+    Row("file body too coarse for the top frequency",
+        ("body 'cab'", "octahedron.obj", "1000 Hz", "at least 4", "606 Hz"),
+        changes=(("list = [100.0, 200.0]", "list = [100.0, 1000.0]"),),
+        why="edge 0.1414 m: 343 / 1000 / 0.1414 = 2.4 elements per wavelength < 4 (Marburg 2002); "
+            "4 per wavelength hold up to 343 / (4 x 0.1414) = 606 Hz"),
+    # -- the scene -------------------------------------------------------
+    Row("two bodies intersecting", ("bodies 'cab' and 'cab2'", "intersect", "expected"),
+        changes=(("[[source]]\nname = \"p\"", BOX.format(x=0.15)),),
+        why="box from x = 0.05 m; octahedron vertex (0.1, 0, 0) is inside it"),
+    Row("source inside a body", ("source 'p'", "inside body 'cab'", "expected"),
+        changes=(("at = [0.5, 0.0, 0.0]", "at = [0.02, 0.01, 0.0]"),),
+        why="|0.02| + |0.01| + 0 = 0.03 < 0.1: inside the octahedron"),
+    Row("source on a surface", ("source 'p'", "from the surface of body 'cab'", "margin"),
+        changes=(("at = [0.5, 0.0, 0.0]", "at = [0.035, 0.035, 0.035]"),),
+        why="0.105 > 0.1: outside by 0.005 / sqrt(3) = 2.9 mm, on the face as CAD draws it"),
+    Row("observer point inside a body", ("observer point 'ear'", "inside body 'cab'", "expected a point in the air"),
+        changes=(("at = [0.0, 1.0, 0.0]", "at = [0.0, 0.0, 0.05]"),)),
+    Row("gmsh body with a source inside it", ("source 'p'", "inside body 'cab2'", "expected"),
+        changes=(("[[source]]\nname = \"p\"", BOX.format(x=0.5)),),
+        why="the box at x = 0.5 m holds the primary: the error comes from the gmsh mesh"),
+    # -- mesh files ------------------------------------------------------
+    Row("mesh file that does not exist", ("{case}", "body[0].path", "nowhere.obj", "expected an existing mesh file"),
+        mesh="nowhere.obj"),
+    Row("mesh file is a folder", ("{case}", "body[0].path", "folder.stl", "expected an existing mesh file"),
+        mesh="{tmp}/folder.stl", setup=_directory),
+    Row("mesh file is a truncated binary STL", ("body 'cab'", "truncated.stl", "no points", "expected a surface mesh"),
+        mesh="truncated.stl",
+        why="header promises 1000 facets of 50 bytes, 1 given (binary STL layout, 3D Systems 1989; from memory)"),
+    Row("mesh file is empty", ("body 'cab'", "empty.stl", "empty", "expected a surface mesh"), mesh="empty.stl"),
+    Row("mesh file with a hole", ("body 'cab'", "holed.obj", "hole (not closed)"), mesh="holed.obj"),
+    Row("mesh file non-manifold", ("body 'cab'", "fin.obj", "non-manifold", "shared by 3 triangles"), mesh="fin.obj"),
+    Row("mesh file with a degenerate triangle", ("body 'cab'", "degenerate.obj", "triangle 2 is degenerate", "zero area"),
+        mesh="degenerate.obj"),
+    Row("mesh file with mixed orientation", ("body 'cab'", "mixed.obj", "mixed orientation"), mesh="mixed.obj"),
+    Row("mesh file with a NaN coordinate", ("body 'cab'", "nan.obj", "NaN"), mesh="nan.obj"),
+    Row("mesh file holding only a volume", ("body 'cab'", "tetra.msh", "tetra", "expected a surface mesh"),
+        mesh="{tmp}/tetra.msh", setup=_volume_mesh),
+    Row("mesh file in millimetres without scale",
+        ("body 'cab'", "millimetres.obj", "too coarse"),
+        mesh="millimetres.obj",
+        warnings=("millimetres.obj", "519.6 m across", "set scale = 0.001"),
+        why="a 300 mm octahedron read as 300 m: 519.6 m between opposite corners of its box "
+            "(300 sqrt 3), edges of 212 m: too coarse at 200 Hz"),
+    Row("mesh scale zero", ("{case}", "body[0].scale", "positive"),
+        changes=(('path = "', 'scale = 0.0\npath = "'),)),
+    Row("source placed on a file body", ("{case}", "source[1].at", "file body"),
+        changes=(("at = [-0.5, 0.0, 0.0]", 'on = "cab"'),)),
+    # -- the output folder and the command line ---------------------------
+    Row("output folder under a regular file", ("{tmp}/taken/out", "cannot create the output folder", "expected a folder"),
+        out="{tmp}/taken/out", setup=_regular_file,
+        why="tests run as root, which ignores permission bits; a path under a file fails for anyone (ENOTDIR)"),
+    Row("output folder is a regular file", ("{tmp}/taken", "cannot create the output folder", "expected a folder"),
+        out="{tmp}/taken", setup=_regular_file, command="mesh"),
+    Row("frequency subset not in the case", ("--frequencies", "5000 Hz is not a frequency of", "{case}"),
+        extra=("--frequencies", "5000")),
+    Row("frequency subset unreadable", ("--frequencies", "expected '200,400' or '200:800'"),
+        extra=("--frequencies", "two hundred")),
+    Row("no local workers", ("--workers", "≥ 1"), extra=("--workers", "0")),
+    Row("report of a folder with no results", ("{tmp}/out", "no results file", "expected the folder of a finished"),
+        command="report"),
+    Row("case file not UTF-8", ("{case}", "cannot read the case file", "expected a UTF-8 TOML file"),
+        setup=_not_utf8),
+    # -- case keys the loader rows do not reach ----------------------------
+    Row("driver excursion typed in millimetres", ("{case}", "driver[0].xmax", "one-way excursion in metres"),
+        changes=(("[observers]", "[[driver]]\nname = \"d\"\nre = 6.0\nbl = 7.0\nmms = 0.02\ncms = 1e-3\nrms = 1.5\n"
+                                  "sd = 0.0133\nxmax = 5.0\nvb = 0.02\nrated_power = 50.0\n[observers]"),),
+        why="sd = pi a^2 gives a cone radius of 65 mm: a 5 m excursion is impossible"),
+    Row("spectrum with no harmonic levels", ("{case}", "source[0].spectrum.spl_at_1m", "required"),
+        changes=(("strength = 1e-3", "[source.spectrum]\nfundamental = 233.0"),)),
+    Row("spectrum levels as one number", ("{case}", "source[0].spectrum.spl_at_1m", "a list of at least 1"),
+        changes=(("strength = 1e-3", "[source.spectrum]\nfundamental = 233.0\nspl_at_1m = 95.0"),)),
+    Row("control sector below -360 degrees", ("{case}", "control.sector.from_deg", "≥ -360"),
+        changes=(("[observers]", "[control]\nobjective = \"sector\"\nsector = { from_deg = -400.0, to_deg = 0.0 }\n[observers]"),)),
+    Row("control sector wider than a turn", ("{case}", "control.sector.to_deg", "by at most 360"),
+        changes=(("[observers]", "[control]\nobjective = \"sector\"\nsector = { from_deg = -90.0, to_deg = 300.0 }\n[observers]"),)),
+]
+
+
+def _fill(text, tmp, case):
+    return text.replace("{tmp}", str(tmp)).replace("{case}", str(case))
+
+
+def _mesh_path(row, tmp):
+    return _fill(row.mesh, tmp, "") if row.mesh.startswith("{tmp}") else str(DATA / row.mesh)
+
+
+def _write_case(row, tmp):
+    text = BASE.replace("{mesh}", _mesh_path(row, tmp))
+    for old, new in row.changes:
+        assert old in text, (row.name, old)
+        text = text.replace(old, new, 1)
+    path = tmp / "case.toml"
+    if not path.exists():
+        path.write_text(text)
+    return path
+
+
+def _argv(row, case, out, cache):
+    if row.command == "report":
+        return ["report", str(out)]
+    argv = [row.command, str(case), "--out", str(out), "--mesh-cache", str(cache)]
+    if row.command == "run":
+        argv.append("--no-report")
+    return argv + list(row.extra)
+
+
+def assert_nothing_half_written(tmp, out):
+    """No results, summary, report or lock in ``out``; no temporary anywhere under ``tmp``."""
+    if out.is_dir():
+        left = [name for name in OUTPUTS if (out / name).exists()]
+        assert not left, f"left in {out}: {left}"
+    parts = sorted(str(p) for p in tmp.rglob("*.part"))
+    assert not parts, parts
+
+
+@pytest.mark.parametrize("row", ROWS, ids=[r.name for r in ROWS])
+def test_bad_input_is_refused_with_a_message(row, tmp_path, capsys):
+    if row.setup is not None:
+        row.setup(tmp_path)
+    case = _write_case(row, tmp_path)
+    out = Path(_fill(row.out, tmp_path, case))
+    code = main(_argv(row, case, out, tmp_path / "cache"))
+    captured = capsys.readouterr()
+    err = captured.err
+    assert code == row.exit_code, (row.name, code, err)
+    assert "Traceback" not in err + captured.out
+    assert "bemcheck: error: " in err, err
+    message = err[err.index("bemcheck: error: "):]
+    for word in row.words:
+        assert _fill(word, tmp_path, case) in message, (row.name, word, message)
+    for word in row.warnings:
+        warned = "\n".join(line for line in err.splitlines() if line.startswith("bemcheck: warning: "))
+        assert _fill(word, tmp_path, case) in warned, (row.name, word, err)
+    assert_nothing_half_written(tmp_path, out)
+
+
+@pytest.mark.parametrize("mesh", ["octahedron.obj", "millimetres.obj"])
+def test_the_catalogue_base_case_is_good(mesh, tmp_path, capsys):
+    """Negative control: the base case (and the millimetre file given scale = 0.001)
+    meshes with exit 0 and no error, so each row fails for its own change only."""
+    text = BASE.replace("{mesh}", str(DATA / mesh))
+    if mesh == "millimetres.obj":
+        text = text.replace('path = "', 'scale = 0.001\npath = "')
+    case = tmp_path / "case.toml"
+    case.write_text(text)
+    assert main(["check", str(case)]) == 0
+    code = main(["mesh", str(case), "--out", str(tmp_path / "meshes"), "--mesh-cache", str(tmp_path / "cache")])
+    err = capsys.readouterr().err
+    assert code == 0, err
+    assert "error" not in err and "millimetres" not in err
+    assert sorted(p.suffix for p in (tmp_path / "meshes").iterdir()) == [".msh", ".vtu"]
+
+
+@pytest.mark.parametrize("top, refused", [(600.0, False), (612.0, True)])
+def test_file_body_resolution_boundary(top, refused, tmp_path):
+    """The octahedron's edge is 0.1 sqrt(2) m, so 4 elements per wavelength hold up
+    to c / (4 x 0.1 sqrt 2) = 606.3 Hz at c = 343 m/s (Marburg 2002's lower limit;
+    from memory): 600 Hz passes, 612 Hz is refused."""
+    case = tmp_path / "case.toml"
+    case.write_text(BASE.replace("{mesh}", str(DATA / "octahedron.obj"))
+                    .replace("list = [100.0, 200.0]", f"list = [100.0, {top}]"))
+    c = bemcheck.load_case(case)
+    if refused:
+        with pytest.raises(bemcheck.GeometryError, match=r"too coarse for 612 Hz.* 3\.96? elements"):
+            check_file_bodies(c, tmp_path / "cache")
+    else:
+        check_file_bodies(c, tmp_path / "cache")
+
+
+FREE_CASE = """
+[case]
+title = "Disk-full row (invented test case, no bodies)"
+[frequencies]
+start = 100.0
+stop = 800.0
+per_octave = 3
+[mesh]
+band_octaves = 4
+[[source]]
+name = "p"
+role = "primary"
+at = [0.3, 0.0, 0.0]
+strength = 1e-3
+[[source]]
+name = "c"
+role = "control"
+at = [-0.3, 0.0, 0.0]
+[observers]
+far_field = { plane = "xy", step_deg = 30.0 }
+"""
+
+
+class DiskFull:
+    """Make the ``n``-th call of ``os.fsync`` (and every later one) fail as a full disk would."""
+
+    def __init__(self, n):
+        self.n, self.calls = n, 0
+        self.real = os.fsync
+
+    def __call__(self, fd):
+        self.calls += 1
+        if self.calls >= self.n:
+            raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC))
+        return self.real(fd)
+
+
+def test_disk_full_mid_sweep_keeps_nothing_half_written_and_resumes(tmp_path, capsys, monkeypatch):
+    """The 4th stored task hits ENOSPC (POSIX.1-2017 <errno.h>) while its bytes are
+    flushed: exit 2, a message, no results.nc, no temporary; the rerun computes
+    only the tasks not stored and gives the numbers of a run that never failed.
+
+    A sweep with no bodies: the BEM path answers the free field (see
+    tests/validation/test_run_without_bodies.py), so the sweep machinery runs
+    without a solver's compile time.
+    """
+    case = tmp_path / "case.toml"
+    case.write_text(FREE_CASE)
+    out = tmp_path / "out"
+    argv = ["run", str(case), "--out", str(out), "--model", "bem", "--no-report"]
+    full = DiskFull(4)
+    monkeypatch.setattr(os, "fsync", full)
+    assert main(argv) == 2
+    err = capsys.readouterr().err
+    assert "Traceback" not in err
+    assert "No space left on device" in err and "run the same command to resume" in err
+    assert_nothing_half_written(tmp_path, out)
+    stored = sorted(p.name for p in (out / "parts").glob("*.npz"))
+    assert len(stored) == 3
+    monkeypatch.setattr(os, "fsync", full.real)
+    assert main(argv) == 0
+    err = capsys.readouterr().err
+    assert err.count("(stored)") == 3                      # resumed, not recomputed
+    assert {p.name for p in (out / "parts").glob("*.npz")} >= set(stored)
+    assert main(argv[:3] + [str(tmp_path / "clean")] + argv[4:]) == 0
+    a, b = bemcheck.load_results(out), bemcheck.load_results(tmp_path / "clean")
+    for name in a.data_vars:
+        np.testing.assert_array_equal(a[name].values, b[name].values, err_msg=name)
+
+
+@pytest.mark.parametrize("target", ["results", "summary"])
+def test_disk_full_while_writing_the_results(target, tmp_path, capsys, monkeypatch):
+    """ENOSPC while results.nc or summary.json is written: exit 2, neither file is
+    left (a results.nc without its summary would be a half-finished run), no
+    temporary; the rerun writes both from the stored tasks."""
+    case = tmp_path / "case.toml"
+    case.write_text(FREE_CASE)
+    out = tmp_path / "out"
+    argv = ["run", str(case), "--out", str(out), "--model", "bem", "--no-report"]
+    if target == "results":
+        real = xr.Dataset.to_netcdf
+
+        def to_netcdf(self, path, *args, **kwargs):
+            real(self, path, *args, **kwargs)
+            with open(path, "r+b") as fh:                  # a file cut short, then the error
+                fh.truncate(100)
+            raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC), str(path))
+
+        monkeypatch.setattr(xr.Dataset, "to_netcdf", to_netcdf)
+    else:
+        real_write = results.atomic_write_bytes
+
+        def write(path, data):
+            if Path(path).name == results.SUMMARY_FILE:   # the real write, its flush failing
+                monkeypatch.setattr(os, "fsync", DiskFull(1))
+            return real_write(path, data)
+
+        monkeypatch.setattr(results, "atomic_write_bytes", write)
+    assert main(argv) == 2
+    err = capsys.readouterr().err
+    assert "Traceback" not in err and "No space left on device" in err
+    assert_nothing_half_written(tmp_path, out)
+    monkeypatch.undo()
+    assert main(argv) == 0
+    assert (out / "results.nc").is_file() and (out / "summary.json").is_file()
+    assert capsys.readouterr().err.count("(stored)") == len(list((out / "parts").glob("*.npz")))
