@@ -15,7 +15,7 @@ import numpy as np
 
 from bemcheck.errors import BemcheckInputError
 
-from bemcheck.run.results import atomic_write_bytes
+from bemcheck.run.results import NonFiniteResult, atomic_write_bytes
 
 PARTS = "parts"
 LOCK = ".bemcheck.lock"
@@ -41,7 +41,16 @@ class PartStore:
         return self.path(key).is_file()
 
     def save(self, key, arrays, meta):
-        """Store ``arrays`` (name -> ndarray) and ``meta`` (JSON-able dict) under ``key``, atomically."""
+        """Store ``arrays`` (name -> ndarray) and ``meta`` (JSON-able dict) under ``key``, atomically.
+
+        Arrays holding NaN or inf are refused (:class:`NonFiniteResult`) and
+        nothing is stored, so a rerun solves the task again rather than
+        reusing a broken answer.
+        """
+        for name, values in arrays.items():
+            values = np.asarray(values)
+            if np.issubdtype(values.dtype, np.number) and not np.isfinite(values).all():
+                raise NonFiniteResult(f"task {key}: '{name}' holds NaN or inf; nothing was stored")
         buf = io.BytesIO()
         np.savez(buf, __meta__=np.array(json.dumps(meta)), **arrays)
         atomic_write_bytes(self.path(key), buf.getvalue())
