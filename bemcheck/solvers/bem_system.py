@@ -16,9 +16,11 @@ bempp-cl; the mass matrices and all right-hand sides are built with numpy.
 """
 
 import time
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
+from numba.core.errors import NumbaPerformanceWarning
 from scipy.linalg import lu_factor, lu_solve
 from scipy.sparse import coo_matrix
 
@@ -74,7 +76,10 @@ def _grid(surface):
 
 
 def _dense(operator):
-    return operator.weak_form().to_dense()
+    with warnings.catch_warnings():
+        # numba's notes on non-contiguous arrays inside bempp-cl: not ours to act on.
+        warnings.simplefilter("ignore", NumbaPerformanceWarning)
+        return operator.weak_form().to_dense()
 
 
 def assemble(surface, k, coupling=None):
