@@ -58,18 +58,36 @@ def check_finite(ds):
             raise NonFiniteResult(f"result variable '{name}' holds NaN or inf; nothing was written")
 
 
+def _naming(exc, path):
+    """An OSError with ``exc``'s errno that names ``path`` with the system's short text.
+
+    fsync reports a full disk with no file name, so the user would not learn
+    which file could not be written.
+    """
+    return OSError(exc.errno, os.strerror(exc.errno), str(path))
+
+
 def atomic_write_bytes(path, data):
-    """Write ``data`` to ``path`` through a temporary file and a rename."""
+    """Write ``data`` (bytes-like) to ``path`` through a flushed temporary file and a rename.
+
+    On failure the temporary is removed and an OSError names ``path``.
+    """
     path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    except OSError as exc:
+        raise _naming(exc, path) from exc
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
+            # a full disk may show only when delayed blocks are flushed: fail before the rename
             os.fsync(fh.fileno())
         os.replace(tmp, path)
-    except BaseException:
+    except BaseException as exc:
         Path(tmp).unlink(missing_ok=True)
+        if isinstance(exc, OSError) and exc.errno is not None:
+            raise _naming(exc, path) from exc
         raise
 
 
@@ -83,18 +101,10 @@ def write_dataset(ds, path):
         Target file; its folder must exist.
     """
     check_finite(ds)
-    path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
-    os.close(fd)
-    try:
-        _split_complex(ds).to_netcdf(tmp, engine="h5netcdf")
-        # A full disk may show only when delayed blocks are flushed; fail here, not after the rename.
-        with open(tmp, "rb+") as fh:
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+    # Built in memory, written as plain bytes: when a disk fills during an
+    # HDF5 file write, h5py cannot close the file, prints tracebacks as it is
+    # collected and the process dies with a segmentation fault (seen here).
+    atomic_write_bytes(path, _split_complex(ds).to_netcdf(engine="h5netcdf"))
 
 
 def read_dataset(path):
