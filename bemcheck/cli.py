@@ -17,8 +17,8 @@ from pathlib import Path
 from bemcheck.errors import BemcheckInputError, EnvironmentProblem
 
 EXIT_OK, EXIT_FAILURE, EXIT_BAD_INPUT = 0, 1, 2
-# Storage problems are the user's to fix (space, permissions), not internal failures.
-_STORAGE_ERRORS = {errno.ENOSPC, errno.EDQUOT, errno.EACCES, errno.EROFS, errno.EPERM}
+# Storage problems are the user's to fix (space, quota, file-size limit, permissions), not internal failures.
+_STORAGE_ERRORS = {errno.ENOSPC, errno.EDQUOT, errno.EFBIG, errno.EACCES, errno.EROFS, errno.EPERM}
 
 
 def _parser():
