@@ -27,6 +27,10 @@ The physical rules behind the refusals, with their sources:
 
 import errno
 import os
+import resource
+import signal
+import subprocess
+import sys
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -357,39 +361,58 @@ def test_disk_full_mid_sweep_keeps_nothing_half_written_and_resumes(tmp_path, ca
         np.testing.assert_array_equal(a[name].values, b[name].values, err_msg=name)
 
 
-@pytest.mark.parametrize("target", ["results", "summary"])
+@pytest.mark.parametrize("target", [results.RESULTS_FILE, results.SUMMARY_FILE])
 def test_disk_full_while_writing_the_results(target, tmp_path, capsys, monkeypatch):
-    """ENOSPC while results.nc or summary.json is written: exit 2, neither file is
-    left (a results.nc without its summary would be a half-finished run), no
-    temporary; the rerun writes both from the stored tasks."""
+    """ENOSPC while results.nc or summary.json is flushed: exit 2 with the file's
+    name, neither file is left (a results.nc without its summary would look like
+    a finished run), no temporary; the rerun writes both from the stored tasks."""
     case = tmp_path / "case.toml"
     case.write_text(FREE_CASE)
     out = tmp_path / "out"
     argv = ["run", str(case), "--out", str(out), "--model", "bem", "--no-report"]
-    if target == "results":
-        real = xr.Dataset.to_netcdf
+    real_write = results.atomic_write_bytes
 
-        def to_netcdf(self, path, *args, **kwargs):
-            real(self, path, *args, **kwargs)
-            with open(path, "r+b") as fh:                  # a file cut short, then the error
-                fh.truncate(100)
-            raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC), str(path))
+    def write(path, data):
+        if Path(path).name == target:                      # the real write, its flush failing
+            monkeypatch.setattr(os, "fsync", DiskFull(1))
+        return real_write(path, data)
 
-        monkeypatch.setattr(xr.Dataset, "to_netcdf", to_netcdf)
-    else:
-        real_write = results.atomic_write_bytes
-
-        def write(path, data):
-            if Path(path).name == results.SUMMARY_FILE:   # the real write, its flush failing
-                monkeypatch.setattr(os, "fsync", DiskFull(1))
-            return real_write(path, data)
-
-        monkeypatch.setattr(results, "atomic_write_bytes", write)
+    monkeypatch.setattr(results, "atomic_write_bytes", write)
     assert main(argv) == 2
     err = capsys.readouterr().err
-    assert "Traceback" not in err and "No space left on device" in err
+    assert "Traceback" not in err
+    assert f"bemcheck: error: {out / target}: No space left on device" in err
     assert_nothing_half_written(tmp_path, out)
     monkeypatch.undo()
     assert main(argv) == 0
     assert (out / "results.nc").is_file() and (out / "summary.json").is_file()
     assert capsys.readouterr().err.count("(stored)") == len(list((out / "parts").glob("*.npz")))
+
+
+def _file_size_limit():
+    # EFBIG instead of the SIGXFSZ that would kill the process (POSIX.1-2017 setrlimit, RLIMIT_FSIZE)
+    signal.signal(signal.SIGXFSZ, signal.SIG_IGN)
+    resource.setrlimit(resource.RLIMIT_FSIZE, (100_000, 100_000))
+
+
+def test_file_size_limit_while_writing_the_results(tmp_path):
+    """A real write failure, not a simulated one: a file-size limit of 100 kB lets
+    every stored task through but stops results.nc (about 170 kB) mid-write with
+    EFBIG.  An HDF5 file written to disk then could not be closed: h5py printed
+    tracebacks and the process died of a segmentation fault.  Now: exit 2, the
+    file named, no traceback, nothing half-written; without the limit the rerun
+    finishes from the stored tasks."""
+    case = tmp_path / "case.toml"
+    case.write_text(FREE_CASE.replace("stop = 800.0\nper_octave = 3", "stop = 1600.0\nper_octave = 12"))
+    out = tmp_path / "out"
+    argv = [sys.executable, "-m", "bemcheck", "run", str(case), "--out", str(out), "--model", "bem", "--no-report"]
+    done = subprocess.run(argv, preexec_fn=_file_size_limit, capture_output=True, text=True, timeout=300)
+    assert done.returncode == 2, done.stderr
+    assert "Traceback" not in done.stderr
+    assert f"bemcheck: error: {out / 'results.nc'}: File too large" in done.stderr
+    assert_nothing_half_written(tmp_path, out)
+    stored = len(list((out / "parts").glob("*.npz")))
+    done = subprocess.run(argv, capture_output=True, text=True, timeout=300)
+    assert done.returncode == 0, done.stderr
+    progress = [line for line in done.stderr.splitlines() if line.startswith("[")]
+    assert len(progress) == stored and all("(stored)" in line for line in progress)   # every task was kept
