@@ -1,5 +1,6 @@
 """Per-band meshes written for inspection, with the figures that say whether they are sound."""
 
+import os
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -75,10 +76,28 @@ def write_mesh(mesh, stem):
                     cell_data={"gmsh:physical": [mesh.domains], "gmsh:geometrical": [mesh.domains]},
                     field_data={name: np.array([tag, 2]) for name, tag in mesh.groups.items()})
     msh, vtu = Path(f"{stem}.msh"), Path(f"{stem}.vtu")
-    meshio.write(msh, m, file_format="gmsh22", binary=False)
-    meshio.write(vtu, meshio.Mesh(mesh.vertices, [("triangle", mesh.triangles)],
-                                  cell_data={"domain": [mesh.domains]}))
+    _write_replacing(msh, m, file_format="gmsh22", binary=False)
+    _write_replacing(vtu, meshio.Mesh(mesh.vertices, [("triangle", mesh.triangles)],
+                                      cell_data={"domain": [mesh.domains]}), file_format="vtu")
     return msh, vtu
+
+
+def _write_replacing(path, mesh, **options):
+    """meshio.write to a temporary name beside ``path``, then renamed onto it.
+
+    A full disk leaves no cut-short file behind, and the error names ``path``.
+    """
+    import meshio
+
+    tmp = path.with_name(f".{path.name}.part")
+    try:
+        meshio.write(tmp, mesh, **options)
+        os.replace(tmp, path)
+    except BaseException as exc:
+        tmp.unlink(missing_ok=True)
+        if isinstance(exc, OSError) and exc.errno is not None:
+            raise OSError(exc.errno, os.strerror(exc.errno), str(path)) from exc
+        raise
 
 
 def write_band_meshes(case, out_dir, cache_dir=None):
