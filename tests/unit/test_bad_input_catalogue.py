@@ -416,3 +416,30 @@ def test_file_size_limit_while_writing_the_results(tmp_path):
     assert done.returncode == 0, done.stderr
     progress = [line for line in done.stderr.splitlines() if line.startswith("[")]
     assert len(progress) == stored and all("(stored)" in line for line in progress)   # every task was kept
+
+
+def test_file_size_limit_while_writing_band_meshes(tmp_path):
+    """`bemcheck mesh` under a 2 kB file-size limit: the first band mesh (about
+    5 kB of MSH 2.2 text for a 0.2 m box) cannot be written.  Exit 2 naming the
+    file, no cut-short .msh and no temporary left (one used to stay, under a
+    message saying nothing half-written was kept)."""
+    case = tmp_path / "case.toml"
+    case.write_text(BASE.replace("{mesh}", str(DATA / "octahedron.obj"))
+                    .replace('kind = "file"\npath', 'kind = "box"\nsize = [0.2, 0.2, 0.2]\n# path')
+                    .replace("at = [0.5, 0.0, 0.0]", "at = [0.6, 0.0, 0.0]")
+                    .replace("at = [-0.5, 0.0, 0.0]", "at = [-0.6, 0.0, 0.0]"))
+    out = tmp_path / "meshes"
+
+    def limit():
+        signal.signal(signal.SIGXFSZ, signal.SIG_IGN)
+        resource.setrlimit(resource.RLIMIT_FSIZE, (2_000, 2_000))
+
+    argv = [sys.executable, "-m", "bemcheck", "mesh", str(case), "--out", str(out), "--mesh-cache", str(tmp_path / "cache")]
+    done = subprocess.run(argv, preexec_fn=limit, capture_output=True, text=True, timeout=300)
+    assert done.returncode == 2, done.stderr
+    assert "Traceback" not in done.stderr
+    assert f"{out / 'band00_100-200Hz.msh'}: File too large" in done.stderr
+    assert list(out.iterdir()) == []
+    done = subprocess.run(argv, capture_output=True, text=True, timeout=300)
+    assert done.returncode == 0, done.stderr
+    assert sorted(p.name for p in out.iterdir()) == ["band00_100-200Hz.msh", "band00_100-200Hz.vtu"]
