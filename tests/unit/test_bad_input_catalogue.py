@@ -31,12 +31,11 @@ import resource
 import signal
 import subprocess
 import sys
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 import pytest
-import xarray as xr
 
 import bemcheck
 from bemcheck.cli import main
@@ -83,8 +82,9 @@ class Row:
 
     ``changes`` are (old, new) replacements in BASE; ``mesh`` the file the
     case reads (a name in tests/data/bad, or "{tmp}/..." made by ``setup``);
-    ``words`` must all be in stderr, with "{case}", "{out}" and "{tmp}"
-    filled in.
+    ``words`` must all be in the error message and ``warnings`` in the
+    warning lines, with "{case}" and "{tmp}" filled in; ``why`` is the
+    arithmetic that makes the input bad, shown when the row fails.
     """
 
     name: str
@@ -95,9 +95,8 @@ class Row:
     extra: tuple = ()
     setup: object = None
     out: str = "{tmp}/out"
-    exit_code: int = 2
     why: str = ""
-    warnings: tuple = field(default=())
+    warnings: tuple = ()
 
 
 def _directory(tmp):
@@ -246,12 +245,12 @@ def test_bad_input_is_refused_with_a_message(row, tmp_path, capsys):
     code = main(_argv(row, case, out, tmp_path / "cache"))
     captured = capsys.readouterr()
     err = captured.err
-    assert code == row.exit_code, (row.name, code, err)
+    assert code == 2, (row.name, row.why, code, err)
     assert "Traceback" not in err + captured.out
     assert "bemcheck: error: " in err, err
     message = err[err.index("bemcheck: error: "):]
     for word in row.words:
-        assert _fill(word, tmp_path, case) in message, (row.name, word, message)
+        assert _fill(word, tmp_path, case) in message, (row.name, row.why, word, message)
     for word in row.warnings:
         warned = "\n".join(line for line in err.splitlines() if line.startswith("bemcheck: warning: "))
         assert _fill(word, tmp_path, case) in warned, (row.name, word, err)

@@ -17,7 +17,6 @@ per process here) each solve takes about a second.
 """
 
 import math
-import os
 import signal
 import subprocess
 import sys
@@ -263,7 +262,7 @@ def test_killed_during_writes_then_resumed(tmp_path):
         assert _finish(proc)[0] == -signal.SIGKILL
         cut = set(_temporaries(out)) - old                  # its temporary outlived it: killed mid-write
         landed += bool(cut)
-        where += [p.name.split(".")[1] for p in cut]
+        where += ["results" if p.name.startswith(".results") else "a task" for p in cut]
     print(f"kills inside a write: {landed} of {attempts} ({', '.join(where)})")
     assert landed >= 1
     code, _, err = _finish(_start(case, out, cache))
@@ -336,7 +335,8 @@ def test_nearly_coincident_controls_are_warned_and_regularised(tmp_path, capsys)
     """Two control monopoles 2 µm apart act as one: the optimum is warned about,
     regularised, finite, and equals the one-control optimum
     W_min / W_p = 1 - sinc²(kd) (Nelson, Curtis, Elliott & Bullmore 1987,
-    J. Sound Vib. 116(3) 397-414, eq. 3.7 for two monopoles d apart)."""
+    J. Sound Vib. 116(3) 397-414, for a primary and one control d apart;
+    the equation number, 3.7, from memory)."""
     text = FREE_CASE.replace('at = [-0.3, 0.0, 0.0]',
                              'at = [-0.3, 0.0, 0.0]\n[[source]]\nname = "c2"\nrole = "control"\nat = [-0.3, 2e-6, 0.0]')
     text = text.replace("start = 100.0\nstop = 1600.0\nper_octave = 12", "list = [100.0, 200.0]")
