@@ -1,0 +1,125 @@
+"""Figures derived from the raw measurements: fits, memory model, speed-up, targets.
+
+Pure functions of the dictionaries :mod:`measure` and :mod:`coldstart`
+return; :mod:`report` formats what these compute.
+"""
+
+import numpy as np
+
+GIB = 1024.0**3
+COMPLEX_BYTES = 16
+# N x N complex arrays bemcheck's assembly holds at its peak, read from
+# bemcheck/solvers/bem_system.py `assemble`: the matrix accumulated in place
+# (-K), the hypersingular W, and the temporary eta * W made before it is added.
+DENSE_HELD = 3
+# What the method itself needs: the system matrix and one operator being added.
+DENSE_NEEDED = 2
+MEMORY_LIMIT = 24.0 * GIB
+
+
+def dense_bytes(n, count):
+    """Bytes of ``count`` dense (n, n) complex128 matrices."""
+    return count * COMPLEX_BYTES * float(n) ** 2
+
+
+def loglog_exponent(n, seconds):
+    """Slope of log(seconds) against log(n) by least squares."""
+    return float(np.polyfit(np.log(n), np.log(seconds), 1)[0])
+
+
+def memory_model(rows):
+    """Fit peak RSS = base + m · 16 N² to the scaling rows.
+
+    Returns
+    -------
+    dict
+        ``base`` [bytes], ``matrices`` m (effective N x N complex arrays at
+        the peak) and ``largest_n``, the N at which the model reaches 24 GiB.
+    """
+    n = np.array([r["unknowns"] for r in rows], dtype=float)
+    rss = np.array([r["peak_rss"] for r in rows], dtype=float)
+    design = np.stack([np.ones_like(n), COMPLEX_BYTES * n**2], axis=1)
+    (base, m), *_ = np.linalg.lstsq(design, rss, rcond=None)
+    largest = np.sqrt(max(MEMORY_LIMIT - base, 0.0) / (COMPLEX_BYTES * m)) if m > 0 else np.inf
+    return {"base": float(base), "matrices": float(m), "largest_n": float(largest)}
+
+
+def row_total(row):
+    """Per-frequency wall time [s] of a scaling row (the solver's own four parts)."""
+    return float(sum(row["parts"].values()))
+
+
+def sweep_summary(sweep):
+    """Speed-up and totals of the demo sweep.
+
+    The speed-up is the median over the frequencies both codes solved of
+    reference time / bemcheck time.  Solves the reference was not timed on
+    (the self-check on the finer mesh, the harmonics) are extrapolated: the
+    harmonics at bemcheck's median time on the band mesh, the reference's
+    missing solves at bemcheck's time times the median ratio.
+    """
+    both = [r for r in sweep["rows"] if "reference" in r]
+    ratios = np.array([r["reference"]["wall"] / r["bemcheck"]["wall"] for r in both])
+    band = [r for r in sweep["rows"] if not r["refine"]]
+    median_bem = float(np.median([r["bemcheck"]["wall"] for r in band]))
+    speedup = float(np.median(ratios)) if len(ratios) else float("nan")
+    bem_measured = sum(r["bemcheck"]["wall"] for r in sweep["rows"])
+    missing = sweep["case_frequencies"] - len(band)
+    bem_total = bem_measured + (sweep["harmonics"] + missing) * median_bem
+    ref_measured = sum(r["reference"]["wall"] for r in both)
+    unmeasured_bem = bem_total - sum(r["bemcheck"]["wall"] for r in both)
+    sources = len(sweep["sources"])
+    per_source_ref = [(r["reference"]["parts"]["sources"] + r["reference"]["parts"]["solve"]) / sources for r in both]
+    per_source_bem = [(r["bemcheck"]["parts"]["solve"] + r["bemcheck"]["parts"]["fields"]) / sources for r in both]
+    return {
+        "speedup": speedup,
+        "ratios": ratios.tolist(),
+        "frequencies_compared": len(both),
+        "max_level_difference_db": max((r["max_level_difference_db"] for r in both), default=float("nan")),
+        "bemcheck_measured": bem_measured,
+        "bemcheck_total": bem_total,
+        "reference_measured": ref_measured,
+        "reference_total": ref_measured + unmeasured_bem * speedup,
+        "bemcheck_extrapolated": sweep["harmonics"] + missing,
+        "reference_extrapolated": sweep["planned"] - len(both),
+        "per_source_reference": float(np.median(per_source_ref)) if per_source_ref else float("nan"),
+        "per_source_bemcheck": float(np.median(per_source_bem)) if per_source_bem else float("nan"),
+    }
+
+
+def scaling_summary(scaling):
+    """Exponents, the memory model and the figures at the largest N."""
+    rows = scaling["rows"]
+    n = np.array([r["unknowns"] for r in rows], dtype=float)
+    total = np.array([row_total(r) for r in rows])
+    big = rows[-1]
+    out = {
+        "exponent_total": loglog_exponent(n, total) if len(rows) > 1 else float("nan"),
+        "exponent_assembly": loglog_exponent(n, [r["parts"]["assembly"] for r in rows]) if len(rows) > 1 else float("nan"),
+        "exponent_lu": loglog_exponent(n, [r["lu_floor"] for r in rows]) if len(rows) > 1 else float("nan"),
+        "largest": big["unknowns"],
+        "floor_ratio": row_total(big) / big["lu_floor"],
+        "rss_ratio_held": big["peak_rss"] / dense_bytes(big["unknowns"], DENSE_HELD),
+        "rss_ratio_needed": big["peak_rss"] / dense_bytes(big["unknowns"], DENSE_NEEDED),
+    }
+    if len(rows) > 1:
+        out["memory"] = memory_model(rows)
+    return out
+
+
+def targets(sweep_sum, scaling_sum, cold):
+    """Each target of the benchmark: (what, measured text, met)."""
+    n = scaling_sum["largest"]
+    exponent = scaling_sum["exponent_total"]
+    return [
+        ("demo sweep >= 4x faster than the reference", f"{sweep_sum['speedup']:.2f}x (median over {sweep_sum['frequencies_compared']} frequencies)",
+         sweep_sum["speedup"] >= 4.0),
+        (f"per-frequency cost within 5x of the dense LU at N ~ 3,000 (measured at N = {n:,})", f"{scaling_sum['floor_ratio']:.0f}x the LU",
+         scaling_sum["floor_ratio"] <= 5.0 and n >= 2500),
+        ("cold start < 20 s with warm caches", f"{cold['warm']['seconds']:.0f} s", cold["warm"]["seconds"] < 20.0),
+        (f"peak RSS within 2x the dense matrices held ({DENSE_HELD} x 16 N^2 at N = {n:,})",
+         f"{scaling_sum['rss_ratio_held']:.2f}x", scaling_sum["rss_ratio_held"] <= 2.0),
+        ("exponent of per-frequency time vs N between 2 and 3", f"{exponent:.2f}", 2.0 <= exponent <= 3.0),
+        ("far fields of bemcheck and the reference agree to 0.05 dB", f"{sweep_sum['max_level_difference_db']:.2g} dB",
+         sweep_sum["max_level_difference_db"] <= 0.05),
+    ]
