@@ -87,39 +87,55 @@ def sweep_summary(sweep):
     }
 
 
-def scaling_summary(scaling):
-    """Exponents, the memory model and the figures at the largest N."""
+def _near(rows, n):
+    return min(rows, key=lambda r: abs(r["unknowns"] - n))
+
+
+def scaling_summary(scaling, near=3000):
+    """Exponents, the memory model, and the figures at N nearest ``near`` and at the largest N."""
     rows = scaling["rows"]
     n = np.array([r["unknowns"] for r in rows], dtype=float)
     total = np.array([row_total(r) for r in rows])
-    big = rows[-1]
+    mid, big = _near(rows, near), rows[-1]
     out = {
-        "exponent_total": loglog_exponent(n, total) if len(rows) > 1 else float("nan"),
-        "exponent_assembly": loglog_exponent(n, [r["parts"]["assembly"] for r in rows]) if len(rows) > 1 else float("nan"),
-        "exponent_lu": loglog_exponent(n, [r["lu_floor"] for r in rows]) if len(rows) > 1 else float("nan"),
+        "near": mid["unknowns"],
         "largest": big["unknowns"],
-        "floor_ratio": row_total(big) / big["lu_floor"],
-        "rss_ratio_held": big["peak_rss"] / dense_bytes(big["unknowns"], DENSE_HELD),
-        "rss_ratio_needed": big["peak_rss"] / dense_bytes(big["unknowns"], DENSE_NEEDED),
+        "floor_ratio": row_total(mid) / mid["lu_floor"],
+        "rss_ratio_near": mid["peak_rss"] / dense_bytes(mid["unknowns"], DENSE_HELD),
+        "rss_ratio_largest": big["peak_rss"] / dense_bytes(big["unknowns"], DENSE_HELD),
+        "exponent_total": float("nan"),
     }
     if len(rows) > 1:
-        out["memory"] = memory_model(rows)
+        large = n >= 1400
+        out.update({
+            "exponent_total": loglog_exponent(n, total),
+            "exponent_cpu": loglog_exponent(n, [r["cpu"] for r in rows]),
+            "exponent_assembly": loglog_exponent(n, [r["parts"]["assembly"] for r in rows]),
+            "exponent_lu": loglog_exponent(n, [r["lu_floor"] for r in rows]),
+            "exponent_large": loglog_exponent(n[large], total[large]) if large.sum() > 1 else float("nan"),
+            "memory": memory_model(rows),
+        })
+        mem = out["memory"]
+        # Peak RSS = base + m·16N² is within 2 x DENSE_HELD·16N² from this N on.
+        spare = 2 * DENSE_HELD - mem["matrices"]
+        out["rss_within_2x_from"] = float(np.sqrt(mem["base"] / (COMPLEX_BYTES * spare))) if spare > 0 else float("inf")
     return out
 
 
 def targets(sweep_sum, scaling_sum, cold):
     """Each target of the benchmark: (what, measured text, met)."""
-    n = scaling_sum["largest"]
-    exponent = scaling_sum["exponent_total"]
+    s = scaling_sum
+    rss_ok = s["rss_ratio_near"] <= 2.0 and s["rss_ratio_largest"] <= 2.0
+    rss_text = (f"{s['rss_ratio_near']:.2f}x at N = {s['near']:,}, {s['rss_ratio_largest']:.2f}x at N = {s['largest']:,}"
+                + (f"; within 2x from N ~ {s['rss_within_2x_from']:,.0f} (memory model)" if "rss_within_2x_from" in s else ""))
     return [
-        ("demo sweep >= 4x faster than the reference", f"{sweep_sum['speedup']:.2f}x (median over {sweep_sum['frequencies_compared']} frequencies)",
-         sweep_sum["speedup"] >= 4.0),
-        (f"per-frequency cost within 5x of the dense LU at N ~ 3,000 (measured at N = {n:,})", f"{scaling_sum['floor_ratio']:.0f}x the LU",
-         scaling_sum["floor_ratio"] <= 5.0 and n >= 2500),
+        ("demo sweep >= 4x faster than the reference",
+         f"{sweep_sum['speedup']:.2f}x (median over {sweep_sum['frequencies_compared']} frequencies)", sweep_sum["speedup"] >= 4.0),
+        ("per-frequency cost within 5x of the dense LU at N ~ 3,000",
+         f"{s['floor_ratio']:.0f}x the LU at N = {s['near']:,}", s["floor_ratio"] <= 5.0 and abs(s["near"] - 3000) <= 500),
         ("cold start < 20 s with warm caches", f"{cold['warm']['seconds']:.0f} s", cold["warm"]["seconds"] < 20.0),
-        (f"peak RSS within 2x the dense matrices held ({DENSE_HELD} x 16 N^2 at N = {n:,})",
-         f"{scaling_sum['rss_ratio_held']:.2f}x", scaling_sum["rss_ratio_held"] <= 2.0),
-        ("exponent of per-frequency time vs N between 2 and 3", f"{exponent:.2f}", 2.0 <= exponent <= 3.0),
+        (f"peak RSS within 2x the dense matrices held ({DENSE_HELD} x 16 N^2)", rss_text, rss_ok),
+        ("exponent of per-frequency time vs N between 2 and 3", f"{s['exponent_total']:.2f}", 2.0 <= s["exponent_total"] <= 3.0),
         ("far fields of bemcheck and the reference agree to 0.05 dB", f"{sweep_sum['max_level_difference_db']:.2g} dB",
          sweep_sum["max_level_difference_db"] <= 0.05),
     ]

@@ -118,12 +118,12 @@ def scaling(sizes, radius=0.3, elements_per_wavelength=8.0, budget_s=np.inf):
     ----------
     sizes : sequence of int
         Icosphere subdivisions n (10 n^2 + 2 unknowns), ascending.
-    budget_s : float
-        Stop before a size whose predicted time (the last one's, scaled as
-        N^2.5) would end the measurement after this many seconds [s].
     radius : float
         Sphere radius [m].
     elements_per_wavelength : float
+    budget_s : float
+        Stop before a size whose predicted time (the last one's, scaled as
+        N^2.5) would end the measurement after this many seconds [s].
 
     Returns
     -------

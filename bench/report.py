@@ -58,7 +58,7 @@ def _sweep(sweep, summary):
         "## Demo sweep: bemcheck against the plain bempp-cl script",
         "",
         f"`cases/demo.toml` (an invented scenario), sources {', '.join(sweep['sources'])}, on the demo's own meshes, "
-        "the same process for both codes after both were compiled on a small cube.  bemcheck runs each task as "
+        "the same process for both codes after both were compiled on a small cube and a small sphere.  bemcheck runs each task as "
         "`bemcheck run` does (`bemcheck.run.tasks.bem_task`: cached mesh, far field, observer points, impedances, "
         "power matrix); the reference (`bench/reference.py`) computes only the far field.  Times in seconds, "
         "bemcheck as total (assembly / LU / right-hand sides and solve / fields), the reference as total "
@@ -106,7 +106,7 @@ def _scaling(scaling, summary):
         "",
         "Rigid spheres (`tests/support/icosphere.py`, radius 0.3 m, P1 unknowns N = vertices) at 8 elements per "
         "wavelength, four monopoles at 0.6 m, 72 far-field directions, power matrix on; one child process solves "
-        "them in order of size after compiling on a small cube.  Times in seconds (wall); the LU floor is "
+        "them in order of size after compiling on a small cube and a small sphere.  Times in seconds (wall); the LU floor is "
         "`scipy.linalg.lu_factor` of a random complex N × N matrix alone (best of 2).  Peak RSS is the child's "
         f"`ru_maxrss` after each solve; dense = {analysis.DENSE_HELD} × 16 N² bytes, the N × N complex arrays "
         "bemcheck's assembly holds at once (the matrix, W, and the temporary η·W).  The error column is bemcheck's "
@@ -122,17 +122,33 @@ def _scaling(scaling, summary):
         out += ["", f"N = {skip['unknowns']:,} not run: predicted {skip['predicted_s'] / 60:.0f} min, past the run's time budget."]
     if len(scaling["rows"]) > 1:
         mem = s["memory"]
+        big = scaling["rows"][-1]
+        crossing = big["unknowns"] * big["parts"]["assembly"] / big["lu_floor"]
         out += [
             "",
             f"Fitted exponents (log-log least squares over N = {scaling['rows'][0]['unknowns']:,} to {s['largest']:,}): "
-            f"per-frequency total {s['exponent_total']:.2f}, assembly {s['exponent_assembly']:.2f}, "
-            f"LU floor {s['exponent_lu']:.2f}.",
+            f"per-frequency total {s['exponent_total']:.2f} (wall) and {s['exponent_cpu']:.2f} (CPU seconds), "
+            f"assembly {s['exponent_assembly']:.2f}, LU floor {s['exponent_lu']:.2f}; total over N >= 1,400 only: "
+            f"{s['exponent_large']:.2f}.",
+            "",
+            "Assembly is nearly all of the time.  It evaluates every pair of triangles (N² work); "
+            + ("yet its cost grew more slowly than N² here: the cost per pair fell as the mesh grew (not profiled "
+               "further; the O(N) singular pairs and fixed per-call costs weigh more on small meshes).  "
+               if s["exponent_assembly"] < 2.0 else f"its cost grew as N^{s['exponent_assembly']:.2f} here.  ")
+            + "The LU is N³ but small: "
+            f"{100 * big['parts']['lu'] / analysis.row_total(big):.1f} % of the total at N = {s['largest']:,}; "
+            f"scaling the largest size's assembly as N² and LU as N³, the LU would match the assembly only near "
+            f"N ~ {float(f'{crossing:.2g}'):,.0f}, far beyond what dense matrices allow.  The LU floor's fitted exponent "
+            "is well below 3 because BLAS runs far below its peak speed on small matrices and the small-N times "
+            "are noisy (other jobs were running).",
             "",
             f"Memory model (least squares fit of peak RSS = base + m · 16 N²): base {mem['base'] / MIB:,.0f} MiB, "
             f"m = {mem['matrices']:.2f} N × N complex arrays.  **Largest N that fits in 24 GiB, from this model: "
             f"{mem['largest_n']:,.0f}** (a model figure, not a measured run; at that size one frequency would take "
-            f"about {analysis.row_total(scaling['rows'][-1]) * (mem['largest_n'] / s['largest']) ** s['exponent_total'] / 3600:.1f} h "
-            "on this machine by the fitted exponent).",
+            f"about {analysis.row_total(big) * (mem['largest_n'] / s['largest']) ** s['exponent_total'] / 3600:.1f} h "
+            "on this machine by the fitted exponent).  Below about "
+            f"N = {s['rss_within_2x_from']:,.0f} the fixed {mem['base'] / MIB:,.0f} MiB of libraries and compiled code "
+            f"outweighs the matrices, so peak RSS is more than 2 × the {analysis.DENSE_HELD} dense matrices there.",
         ]
     return out
 
@@ -174,7 +190,8 @@ def _improve(machine):
         "",
         f"- The device is {machine['device']}: on numba, the dense assembly of K and W is almost all of the cost "
         "for both codes, so bemcheck's savings (one LU for all sources, no compiled callable per source) are a small "
-        "share.  An OpenCL CPU runtime (Debian `pocl-opencl-icd` + pip `pyopencl`) was measured earlier on this "
+        "share.  Most of it is the hypersingular W (profiled once while building this benchmark, a 252-vertex "
+        "sphere: W's regular part 4.9 s, K's 0.46 s).  An OpenCL CPU runtime (Debian `pocl-opencl-icd` + pip `pyopencl`) was measured earlier on this "
         "machine type at K 18 s + W 17 s for N = 3,116 (/work/shared/design.md; not measured in this run); with "
         "assembly that cheap, the per-source costs bemcheck avoids become the larger share of the reference's time.",
         "- Single precision assembly (`precision=\"single\"`) roughly halves assembly time and memory; its accuracy "

@@ -1,7 +1,8 @@
 """Measure bemcheck's speed against the plain bempp-cl script; write bench/RESULTS.md.
 
-    .venv/bin/python bench/run_bench.py           # the full run (about 30-40 min on 2 cores)
-    .venv/bin/python bench/run_bench.py --quick   # small sizes, a smoke run of every step
+    .venv/bin/python bench/run_bench.py           # the full run (32 min on 2 shared cores)
+    .venv/bin/python bench/run_bench.py --quick   # small sizes, a smoke run of every step (about 10 min)
+    .venv/bin/python bench/run_bench.py --render bench/results.json   # RESULTS.md again, nothing measured
 
 Every measurement runs in a child process of its own (``bench/measure.py``,
 or ``bemcheck run`` itself for the cold start), so peak memory and compile
@@ -68,7 +69,8 @@ def _opencl_found():
 
 def _machine(raw_name, sweep, loads):
     solver_paths = ["bemcheck/solvers", "bemcheck/run", "bemcheck/mesh", "cases/demo.toml"]
-    dirty = sorted({line[3:] for line in _git("status", "--porcelain", "--", *solver_paths).splitlines()})
+    status = subprocess.run(["git", "status", "--porcelain", "--", *solver_paths], cwd=ROOT, capture_output=True, text=True, check=False)
+    dirty = sorted(line[3:] for line in status.stdout.splitlines() if line.strip())
     return {
         "date": datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC"),
         "cpu": _cpu_model(),
@@ -90,7 +92,15 @@ def main(argv=None):
     parser.add_argument("--quick", action="store_true", help="small sizes and one frequency: a smoke run of every step")
     parser.add_argument("--out", type=Path, help="RESULTS.md to write (default bench/RESULTS.md; a temporary folder with --quick)")
     parser.add_argument("--case", type=Path, default=ROOT / "cases" / "demo.toml", help="case for the sweep and the cold start")
+    parser.add_argument("--render", type=Path, metavar="RESULTS_JSON", help="measure nothing: rewrite RESULTS.md from the raw figures of an earlier run")
     args = parser.parse_args(argv)
+    if args.render:
+        raw = json.loads(args.render.read_text())
+        out = args.out or args.render.with_name("RESULTS.md")
+        raw["derived"] = report.write(out, raw["machine"], raw["sweep"], raw["scaling"], raw["cold_start"], raw["seconds"], raw["quick"])
+        args.render.write_text(json.dumps(raw, indent=1) + "\n")
+        print(f"wrote {out} from {args.render}", file=sys.stderr)
+        return 0
     out = args.out or (Path(tempfile.mkdtemp(prefix="bemcheck-bench-quick-")) / "RESULTS.md" if args.quick else HERE / "RESULTS.md")
     start = time.perf_counter()
     loads = [os.getloadavg()[0]]
