@@ -11,8 +11,9 @@ Sources are monopoles (unit volume velocity each, an incident field
 a physical group has v_n = 1/area there (unit volume velocity).  The
 "pressure" of a velocity source, which its impedance row holds, is
 ∫ p v_n dS per unit strength: for a piston, the face-averaged pressure.  By
-reciprocity the impedance matrix is then symmetric and the power of
-strengths q is W = ½ Re(qᴴ Z q) = Re(qᴴ P q), P from the far field.
+reciprocity the impedance matrix is then symmetric and, for real velocity
+distributions such as pistons, the power of strengths q is
+W = ½ Re(qᴴ Z q) = Re(qᴴ P q), P from the far field.
 """
 
 import time
@@ -20,9 +21,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bemcheck.errors import GeometryError
+from bemcheck.errors import CaseError, GeometryError
 from bemcheck.solvers import freefield
-from bemcheck.solvers.bem_integrals import far_field_moments, moments
+from bemcheck.solvers.bem_fields import Fields, check_targets, directions_array, points_array, velocity_columns
 from bemcheck.solvers.bem_power import power_directions
 from bemcheck.solvers.bem_surface import surface_from_mesh
 from bemcheck.solvers.bem_system import assemble, mixed_mass, velocity_rhs
@@ -112,94 +113,6 @@ class BemSolution:
         return np.real(np.einsum("i...,ij,j...->...", q.conj(), self.power_matrix, q))
 
 
-def _points(values, key):
-    if values is None:
-        return np.zeros((0, 3))
-    arr = np.asarray(values, dtype=float)
-    if arr.size == 0:
-        return np.zeros((0, 3))
-    arr = np.atleast_2d(arr)
-    if arr.ndim != 2 or arr.shape[1] != 3 or not np.isfinite(arr).all():
-        raise GeometryError(f"{key}: expected an (N, 3) array of finite positions [m], got shape {arr.shape}")
-    return arr
-
-
-def _directions(values):
-    d = _points(values, "directions")
-    norm = np.linalg.norm(d, axis=1)
-    if (norm == 0).any():
-        raise GeometryError(f"directions: direction {int(np.argmax(norm == 0))} is zero; expected unit vectors")
-    return d / norm[:, None]
-
-
-def _velocity_columns(surface, pistons, velocities):
-    """(nt, V) unit-strength normal velocities and their names."""
-    cols, names = [], []
-    for name in pistons:
-        mask = surface.group_mask(name)
-        cols.append(mask / surface.areas[mask].sum())
-        names.append(name)
-    if velocities is not None:
-        v = np.asarray(velocities)
-        v = v.reshape(len(v), -1) if v.ndim else v
-        if v.ndim != 2 or v.shape[0] != surface.n_triangles:
-            raise GeometryError(f"velocities: expected ({surface.n_triangles}, V) values, one row per triangle; got {v.shape}")
-        cols.extend(v.T)
-        names.extend(f"velocity[{i}]" for i in range(v.shape[1]))
-    if not cols:
-        return np.zeros((surface.n_triangles, 0)), ()
-    return np.stack(cols, axis=1), tuple(names)
-
-
-def _check_targets(mom, positions, key, gap=0.0):
-    bad = np.flatnonzero(mom.inside)
-    if bad.size:
-        i = int(bad[0])
-        raise GeometryError(f"{key}[{i}] at {positions[i].round(4).tolist()} m is inside a body; expected a point in the air")
-    close = np.flatnonzero(mom.gap < gap)
-    if close.size:
-        i = int(close[0])
-        raise GeometryError(
-            f"{key}[{i}] at {positions[i].round(4).tolist()} m is {mom.distance[i]:.3g} m from a surface; "
-            f"expected at least {gap:g} element sizes ({gap * mom.size[i]:.3g} m) or a finer mesh there"
-        )
-
-
-class _Fields:
-    """Everything that turns surface solutions into fields, for one surface and frequency."""
-
-    def __init__(self, surface, frequency, medium, monopoles, v):
-        self.surface, self.frequency, self.medium = surface, frequency, medium
-        self.k = float(freefield.wavenumber(frequency, medium))
-        self.iwr = 1j * 2.0 * np.pi * frequency * medium.density
-        self.monopoles = monopoles
-        self.support = np.flatnonzero(np.any(v != 0, axis=1))
-        g = self.iwr * v[self.support]
-        self.g = np.concatenate([np.zeros((len(self.support), len(monopoles)), complex), g], axis=1)
-        self.n_vel = v.shape[1]
-
-    def moments(self, targets, single=False):
-        return moments(self.surface, targets, self.k, single=single, p0_support=self.support)
-
-    def scattered(self, mom, u):
-        """Field of the surface terms, DL(u) - SL(g), at the targets of ``mom``."""
-        field = mom.double_layer_potential() @ u
-        if self.support.size:
-            field -= mom.single_p0 @ self.g
-        return field
-
-    def pad(self, block):
-        """Append zero columns for the velocity sources (they have no incident field)."""
-        return np.concatenate([block, np.zeros((block.shape[0], self.n_vel), complex)], axis=1)
-
-    def far_field(self, directions, u):
-        dff, sff = far_field_moments(self.surface, directions, self.k, self.support)
-        f = self.pad(freefield.far_field_matrix(self.frequency, self.medium, self.monopoles, directions)) + dff @ u
-        if self.support.size:
-            f -= sff @ self.g
-        return f
-
-
 def solve_frequency(
     mesh, frequency, medium, monopoles, directions=None, points=None, pistons=(), velocities=None, *, power=True, coupling=None
 ):
@@ -252,23 +165,29 @@ def solve_frequency(
     >>> round(float(abs(sol.far_field[0, 0])), 1), sol.device
     (60.2, 'none')
     """
+    if not (np.isfinite(frequency) and frequency > 0):
+        raise CaseError(f"frequency: expected a positive number of Hz, got {frequency!r}")
     surface = surface_from_mesh(mesh)
-    x_src = _points(monopoles, "monopoles")
-    dirs = _directions(directions)
-    obs = _points(points, "points")
+    x_src = points_array(monopoles, "monopoles")
+    dirs = directions_array(directions)
+    obs = points_array(points, "points")
     if surface.n_triangles == 0:
         if len(pistons) or velocities is not None:
             raise GeometryError("pistons/velocities: the mesh has no triangles to move")
         return _free_solution(frequency, medium, x_src, dirs, obs)
-    v, names = _velocity_columns(surface, pistons, velocities)
-    flds = _Fields(surface, frequency, medium, x_src, v)
-    system = assemble(surface, flds.k, coupling)
-
-    t1 = time.perf_counter()
+    v, names = velocity_columns(surface, pistons, velocities)
+    flds = Fields.build(surface, frequency, medium, x_src, v)
+    # Positions are checked before the costly assembly.
     at_src = flds.moments(x_src, single=True)
-    _check_targets(at_src, x_src, "monopoles", MIN_SOURCE_GAP)
-    rhs = -flds.iwr * (at_src.single + system.coupling * at_src.double).T
-    if flds.n_vel:
+    check_targets(at_src, x_src, "monopoles", MIN_SOURCE_GAP)
+    at_obs = flds.moments(obs)
+    check_targets(at_obs, obs, "points")
+
+    system = assemble(surface, flds.k, coupling)
+    t1 = time.perf_counter()
+    iwr = 1j * 2.0 * np.pi * frequency * medium.density
+    rhs = -iwr * (at_src.single + system.coupling * at_src.double).T
+    if flds.n_velocity:
         rhs = np.concatenate([rhs, velocity_rhs(system, flds.support, flds.g[:, len(x_src) :])], axis=1)
     u = system.solve(rhs)
 
@@ -276,15 +195,12 @@ def solve_frequency(
     z_mono = flds.pad(freefield.impedance_matrix(frequency, medium, x_src)) + flds.scattered(at_src, u)
     weights = mixed_mass(surface, flds.support) @ v[flds.support]
     impedance = np.concatenate([z_mono, weights.T @ u], axis=0)
-    field = _observer_field(flds, obs, u)
+    field = flds.pad(freefield.transfer_matrix(frequency, medium, x_src, obs)) + flds.scattered(at_obs, u)
+    # On the surface the trace of the total field is u itself.
+    on = np.flatnonzero(at_obs.on_surface)
+    field[on] = at_obs.nearest[on] @ u
     far = flds.far_field(dirs, u)
-    if power:
-        leb_dirs, leb_w = power_directions(flds.k, _extent(surface, x_src))
-        f_leb = flds.far_field(leb_dirs, u)
-        p_mat = (f_leb.conj().T * leb_w) @ f_leb / (2.0 * medium.density * medium.speed_of_sound)
-        p_mat = 0.5 * (p_mat + p_mat.conj().T)
-    else:
-        p_mat = np.full(impedance.shape, np.nan + 0j)
+    p_mat = _power_matrix(flds, surface, x_src, u, medium) if power else np.full(impedance.shape, np.nan + 0j)
     t3 = time.perf_counter()
 
     pressure = np.full((len(mesh.vertices), u.shape[1]), np.nan + 0j)
@@ -308,16 +224,12 @@ def solve_frequency(
     )
 
 
-def _observer_field(flds, obs, u):
-    if not len(obs):
-        return np.zeros((0, u.shape[1]), complex)
-    mom = flds.moments(obs)
-    _check_targets(mom, obs, "points")
-    field = flds.pad(freefield.transfer_matrix(flds.frequency, flds.medium, flds.monopoles, obs)) + flds.scattered(mom, u)
-    # On the surface the trace of the total field is u itself.
-    on = np.flatnonzero(mom.on_surface)
-    field[on] = mom.nearest[on] @ u
-    return field
+def _power_matrix(flds, surface, x_src, u, medium):
+    """P = (1/2ρc) ∫ F_iᴴ F_j dΩ on a sphere rule that resolves the far fields, made exactly Hermitian."""
+    directions, weights = power_directions(flds.k, _extent(surface, x_src))
+    f = flds.far_field(directions, u)
+    p = (f.conj().T * weights) @ f / (2.0 * medium.density * medium.speed_of_sound)
+    return 0.5 * (p + p.conj().T)
 
 
 def _extent(surface, sources):
@@ -373,8 +285,18 @@ def perturbed_impedance(solution, mesh, medium, moved):
     Returns
     -------
     (S, S) ndarray of complex
+
+    Examples
+    --------
+    >>> from bemcheck.case.model import Medium
+    >>> from bemcheck.mesh.surface import SurfaceMesh
+    >>> none = SurfaceMesh(np.zeros((0, 3)), np.zeros((0, 3), int), np.zeros(0, int))
+    >>> sol = solve_frequency(none, 100.0, Medium(), [[0, 0, 0], [1, 0, 0]])
+    >>> z = perturbed_impedance(sol, none, Medium(), [[0, 0, 0], [2, 0, 0]])
+    >>> round(float(abs(z[0, 1])), 1)  # ωρ/(4π r) at r = 2 m
+    30.1
     """
-    x_new = _points(moved, "moved")
+    x_new = points_array(moved, "moved")
     m = len(solution.monopoles)
     if x_new.shape != (m, 3):
         raise GeometryError(f"moved: expected ({m}, 3) positions, one per monopole; got {x_new.shape}")
@@ -382,13 +304,13 @@ def perturbed_impedance(solution, mesh, medium, moved):
     surface = surface_from_mesh(mesh)
     if surface.n_triangles == 0:
         return freefield.impedance_matrix(f, medium, x_new).reshape(m, m)
-    flds = _Fields(surface, f, medium, x_new, solution.normal_velocity)
+    flds = Fields.build(surface, f, medium, x_new, solution.normal_velocity)
     u = solution.surface_pressure[surface.mesh_vertex]
     old_free = flds.pad(freefield.impedance_matrix(f, medium, solution.monopoles))
     z_s = solution.impedance.copy()
     z_s[:m] -= old_free
     mom = flds.moments(x_new)
-    _check_targets(mom, x_new, "moved", MIN_SOURCE_GAP)
+    check_targets(mom, x_new, "moved", MIN_SOURCE_GAP)
     e = z_s.copy()
     e[:m] = flds.scattered(mom, u)
     z_new = e + e.T - z_s

@@ -87,7 +87,7 @@ def test_piston_and_monopoles_are_reciprocal_and_power_consistent():
 
 @cache
 def solve_pair(positions):
-    mesh = icosphere(1.0, 6)
+    mesh = icosphere(1.0, 4)
     return solve_frequency(mesh, FREQ, MEDIUM, np.array(positions), pistons=(), power=False)
 
 
@@ -99,7 +99,7 @@ def test_moved_monopoles_without_a_new_solve():
     end moved are exact up to the discrete reciprocity error (1e-3); entries with both ends
     moved (a moved source's own term, or all sources moved) are right to second order:
     halving the displacements divides their error by about 4 (Taylor's theorem)."""
-    mesh = icosphere(1.0, 6)
+    mesh = icosphere(1.0, 4)
     sol = solve_pair(PAIR)
     one = np.array(PAIR)
     one[1] += [0.1, -0.05, 0.0]

@@ -84,7 +84,7 @@ def test_reference_values_of_the_series():
     assert series.power_ratio(1.0, 2.0) == pytest.approx(1.145730, abs=1e-6)
 
 
-@pytest.mark.parametrize("ka, n", [(1.0, 8), (2.0, 9)])
+@pytest.mark.parametrize("ka, n", [(1.0, 6), (2.0, 9)])
 def test_backscatter_form_function(ka, n):
     """Rigid sphere in a plane wave (Bowman, Senior & Uslenghi 1987, sec. 10.3): the
     backscattered amplitude within 0.1 dB and 1°.  The plane wave is a monopole 10^4 a away
@@ -106,7 +106,7 @@ def test_backscatter_form_function(ka, n):
 def test_surface_pressure_of_a_point_source():
     """Duda & Martens (1998), JASA 104(5) 3048-3058: point source at r0 = 2a, receiver on
     the surface, ka = 1: |p / p_free at centre| at 0°, 90°, 180° within 0.1 dB and 1°."""
-    sol = solve_beside(8, 1.0)
+    sol = solve_beside(6, 1.0)
     angles = np.radians([0.0, 90.0, 180.0])
     exact = series.surface_green(1.0, 2.0, angles)
     p_free_centre = freefield.transfer_matrix(freq(1.0), MEDIUM, [[0, 0, 2 * A]], [[0, 0, 0]])[0, 0]
@@ -119,7 +119,7 @@ def test_surface_pressure_of_a_point_source():
 def test_far_field_of_a_point_source_beside_the_sphere():
     """Whole pattern (0-180° in 10° steps) of the monopole at 2a, ka = 1, against the
     series (sphere_series.far_field_ratio): within 0.1 dB and 1°."""
-    e = pattern_error(solve_beside(8, 1.0), 1.0)
+    e = pattern_error(solve_beside(6, 1.0), 1.0)
     assert np.abs(db(e)).max() < 0.1
     assert np.abs(deg(e)).max() < 1.0
 
@@ -130,8 +130,8 @@ def test_point_source_just_off_the_sphere(ka):
     12.5: a point source on a rigid sphere, on-axis level over the free monopole's (+3.04 dB
     at ka = 1, rising toward +6.02 dB).  Here the source is 0.3 element sizes off the
     surface; the series is evaluated at the same r0.  Within 0.1 dB and 1°."""
-    r0 = just_off(8)
-    sol = solve_beside(8, ka)
+    r0 = just_off(6)
+    sol = solve_beside(6, ka)
     free = freefield.far_field_matrix(freq(ka), MEDIUM, [[0, 0, r0]], DIRECTIONS[:1])[0, 0]
     exact = series.far_field_ratio(ka, r0 / A, 0.0)[0] * np.exp(1j * ka * r0 / A)
     gain = sol.far_field[0, 2] / free
@@ -144,7 +144,7 @@ def test_point_source_just_off_the_sphere(ka):
 def test_power_of_a_monopole_beside_the_sphere():
     """W/W_free = 1 + (4π/k) Im G_s(x0, x0) = 1.145730 at ka = 1, r0 = 2a (series); both
     routes, ½ Re Z and the far-field integral, within 0.3 % (0.013 dB)."""
-    sol = solve_beside(8, 1.0)
+    sol = solve_beside(6, 1.0)
     w_free = freefield.radiation_resistance(freq(1.0), MEDIUM) / 2
     exact = series.power_ratio(1.0, 2.0)
     assert 0.5 * sol.impedance[0, 0].real / w_free == pytest.approx(exact, rel=3e-3)
@@ -156,7 +156,7 @@ def test_reciprocity_and_the_two_power_routes():
     relative, and P = ½ Re Z entry by entry (both are the radiated power form) to 1e-3
     for the sources at least an element size off the surface; 0.5 % for the one at
     0.3 element sizes, whose self term the P1 surface field resolves less well."""
-    sol = solve_beside(8, 1.0)
+    sol = solve_beside(6, 1.0)
     z = sol.impedance
     assert np.abs(z - z.T).max() < 1e-3 * np.abs(z).max()
     p = sol.power_matrix
@@ -166,25 +166,28 @@ def test_reciprocity_and_the_two_power_routes():
     np.testing.assert_allclose(p, p.conj().T, atol=1e-12 * np.abs(p).max())
 
 
-def test_irregular_frequencies_do_not_spoil_the_answer():
+@pytest.mark.parametrize(
+    "ka, neighbours",
+    [(np.pi, (2.9, 3.4)), pytest.param(4.4934, (4.3, 4.7), marks=pytest.mark.slow)],
+)
+def test_irregular_frequencies_do_not_spoil_the_answer(ka, neighbours):
     """The plain equation is singular at the interior Dirichlet eigenvalues of the sphere,
     j_n(ka) = 0: ka = π (n = 0) and 4.4934 (n = 1) (Abramowitz & Stegun 1964, table 10.6,
     from memory).  With Burton-Miller the pattern error there stays within 1.5 times the
     worse neighbour's, and within the targets for the mesh's elements per wavelength
     (720 triangles: 9 per wavelength at ka = π, 6.4 at 4.49)."""
     worst = {}
-    for ka in (2.9, np.pi, 3.4, 4.3, 4.4934, 4.7):
-        sol = solve_frequency(sphere(6), freq(ka), MEDIUM, [[0, 0, 2 * A]], DIRECTIONS, power=False)
-        e = pattern_error(sol, ka)
-        worst[ka] = (np.abs(db(e)).max(), np.abs(deg(e)).max(), sol.elements_per_wavelength)
-    for irregular, (low, high) in ((np.pi, (2.9, 3.4)), (4.4934, (4.3, 4.7))):
-        for i in (0, 1):
-            assert worst[irregular][i] <= 1.5 * max(worst[low][i], worst[high][i])
-        tol_db, tol_deg = (0.1, 1.0) if worst[irregular][2] >= 8 else (0.3, 3.0)
-        assert worst[irregular][0] < tol_db and worst[irregular][1] < tol_deg
+    for x in (ka, *neighbours):
+        sol = solve_frequency(sphere(6), freq(x), MEDIUM, [[0, 0, 2 * A]], DIRECTIONS, power=False)
+        e = pattern_error(sol, x)
+        worst[x] = (np.abs(db(e)).max(), np.abs(deg(e)).max(), sol.elements_per_wavelength)
+    for i in (0, 1):
+        assert worst[ka][i] <= 1.5 * max(worst[n][i] for n in neighbours)
+    tol_db, tol_deg = (0.1, 1.0) if worst[ka][2] >= 8 else (0.3, 3.0)
+    assert worst[ka][0] < tol_db and worst[ka][1] < tol_deg
 
 
-@pytest.mark.parametrize("epw, n, tol_db, tol_deg", [(8.0, 8, 0.1, 1.0), (6.0, 6, 0.3, 3.0)])
+@pytest.mark.parametrize("epw, n, tol_db, tol_deg", [(8.0, 6, 0.1, 1.0), (6.0, 5, 0.3, 3.0)])
 def test_accuracy_target_at_elements_per_wavelength(epw, n, tol_db, tol_deg):
     """At exactly 8 (6) elements per wavelength by the longest edge, the far-field pattern
     of the monopole at 2a is within 0.1 dB and 1° (0.3 dB) of the series (the issue's
@@ -213,7 +216,7 @@ def test_error_falls_as_h_squared():
     """P1 on flat triangles: far-field error O(h²) (Sauter & Schwab, Boundary Element
     Methods, 2011, sec. 4.2.5 for the Galerkin error, plus the O(h²) geometric error of
     flat triangles): fitted slope of log(error) against log(h) between 1.7 and 2.5."""
-    slope, err = _convergence_slope((2, 3, 4, 6))
+    slope, err = _convergence_slope((2, 3, 4, 5))
     assert 1.7 < slope < 2.5, (slope, err)
     assert err[-1] < err[0] / 4
 
