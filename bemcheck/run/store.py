@@ -69,7 +69,8 @@ class RunLock:
     The lock file holds the owner's process id; a lock left by a process that
     no longer exists (a run killed with SIGKILL) is taken over.  Whoever takes
     the lock removes the temporaries (``.*.part``) of writes such a run cut
-    short: no other run can be writing them.
+    short: no other run can be writing them.  Releasing the lock removes its
+    own, which an interrupt can leave behind.
     """
 
     def __init__(self, folder):
@@ -117,5 +118,9 @@ class RunLock:
 
     def __exit__(self, *exc):
         if self.held:
+            # Ctrl-C can land inside tempfile.mkstemp, after the file exists and
+            # before its name is known to the writer's cleanup; the holder of
+            # the lock is the only writer, so its temporaries can go here.
+            self._remove_temporaries()
             self.path.unlink(missing_ok=True)
             self.held = False
