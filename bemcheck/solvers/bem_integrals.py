@@ -36,6 +36,8 @@ ON_SURFACE = 1e-6
 SNAP_INSIDE = 0.1
 # Quadrature points handled at once (memory bound, about 100 MB of temporaries).
 _BATCH_POINTS = 400_000
+# Targets screened at once against every triangle (about 30 MB per 10,000 triangles).
+_BATCH_TARGETS = 64
 
 
 @dataclass(frozen=True, eq=False)
@@ -109,8 +111,8 @@ def _near_pairs(surface, targets):
     centroids = surface.vertices[surface.triangles].mean(axis=1)
     reach = (quad.SAFE_RATIO + 1.0) * surface.sizes
     ti, tt = [np.zeros(0, int)], [np.zeros(0, int)]
-    for start in range(0, len(targets), 256):
-        block = targets[start : start + 256]
+    for start in range(0, len(targets), _BATCH_TARGETS):
+        block = targets[start : start + _BATCH_TARGETS]
         close = np.linalg.norm(block[:, None, :] - centroids[None], axis=2) < reach[None]
         i, t = np.nonzero(close)
         ti.append(i + start)
@@ -137,10 +139,11 @@ def _nearest(surface, targets, ti, tt, dist, bary):
     nearest = coo_matrix((bary[best[have]].reshape(-1), (rows, cols)), shape=(m, surface.n_vertices)).tocsr()
     size = np.full(m, np.inf)
     size[have] = surface.sizes[tt[best[have]]]
-    if not have.all():
-        # Far from every triangle: the distance only matters as "far"; compute it plainly.
-        far = np.flatnonzero(~have)
-        distance[far] = np.min(np.linalg.norm(targets[far, None, :] - surface.vertices[None], axis=2), axis=1)
+    # Far from every triangle the distance only matters as "far": take the nearest vertex.
+    far = np.flatnonzero(~have)
+    for start in range(0, len(far), _BATCH_TARGETS):
+        block = far[start : start + _BATCH_TARGETS]
+        distance[block] = np.linalg.norm(targets[block, None, :] - surface.vertices[None], axis=2).min(axis=1)
     return distance, nearest, have & (distance <= ON_SURFACE * size), size
 
 

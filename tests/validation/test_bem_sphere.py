@@ -124,14 +124,14 @@ def test_far_field_of_a_point_source_beside_the_sphere():
     assert np.abs(deg(e)).max() < 1.0
 
 
-@pytest.mark.parametrize("ka", [1.0, pytest.param(4.0, marks=pytest.mark.slow)])
-def test_point_source_just_off_the_sphere(ka):
+@pytest.mark.parametrize("ka, n", [(1.0, 6), pytest.param(4.0, 8, marks=pytest.mark.slow)])
+def test_point_source_just_off_the_sphere(ka, n):
     """Beranek & Mellow (2019), Acoustics: Sound Fields, Transducers and Vibration, sec.
     12.5: a point source on a rigid sphere, on-axis level over the free monopole's (+3.04 dB
     at ka = 1, rising toward +6.02 dB).  Here the source is 0.3 element sizes off the
     surface; the series is evaluated at the same r0.  Within 0.1 dB and 1°."""
-    r0 = just_off(6)
-    sol = solve_beside(6, ka)
+    r0 = just_off(n)
+    sol = solve_beside(n, ka)
     free = freefield.far_field_matrix(freq(ka), MEDIUM, [[0, 0, r0]], DIRECTIONS[:1])[0, 0]
     exact = series.far_field_ratio(ka, r0 / A, 0.0)[0] * np.exp(1j * ka * r0 / A)
     gain = sol.far_field[0, 2] / free
