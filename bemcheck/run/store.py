@@ -9,6 +9,9 @@ file either is complete (it was renamed into place) or does not exist.
 import io
 import json
 import os
+import socket
+import time
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -19,6 +22,9 @@ from bemcheck.run.results import NonFiniteResult, atomic_write_bytes
 
 PARTS = "parts"
 LOCK = ".bemcheck.lock"
+# A lock file still empty this long after it was made was left by a process
+# killed between creating and writing it (common practice, no source).
+LOCK_GRACE_S = 10.0
 
 
 class PartStore:
@@ -63,58 +69,201 @@ class PartStore:
         return arrays, meta
 
 
+def _read_first_line(path):
+    try:
+        with open(path) as fh:
+            return fh.readline().strip()
+    except OSError:
+        return None
+
+
+def boot_id():
+    """This boot's identifier (Linux ``/proc/sys/kernel/random/boot_id``), or None where /proc lacks it."""
+    return _read_first_line("/proc/sys/kernel/random/boot_id") or None
+
+
+def process_start(pid):
+    """Start time of process ``pid`` in clock ticks after boot, or None if unknown.
+
+    Field 22 of ``/proc/<pid>/stat`` (Linux man-pages, proc(5)): with the
+    boot identifier it tells a process apart from a later one given the same
+    process id.  None where /proc is missing (macOS, BSD) or the process is
+    hidden or gone.
+    """
+    line = _read_first_line(f"/proc/{int(pid)}/stat")
+    if not line:
+        return None
+    # the command name (field 2) may hold spaces and parentheses: count after its last ')'
+    fields = line.rpartition(")")[2].split()
+    return fields[19] if len(fields) > 19 else None
+
+
+@dataclass(frozen=True)
+class LockOwner:
+    """Who holds a run folder's lock: enough to tell a live holder from a reused process id.
+
+    Attributes
+    ----------
+    pid : int
+        Process id.
+    host : str
+        Host name (a folder on a shared disk can be locked from another machine).
+    started : str or None
+        The process's start time in clock ticks after boot (:func:`process_start`).
+    boot : str or None
+        The boot identifier (:func:`boot_id`).
+    command : str
+        The bemcheck command holding it ("run", "mesh").
+    since : float
+        When the lock was taken [s since the epoch].
+    """
+
+    pid: int
+    host: str = ""
+    started: str | None = None
+    boot: str | None = None
+    command: str = "run"
+    since: float = 0.0
+
+    @classmethod
+    def me(cls, command):
+        """This process as a lock owner."""
+        pid = os.getpid()
+        return cls(pid, socket.gethostname(), process_start(pid), boot_id(), command, time.time())
+
+    def text(self):
+        return json.dumps({"pid": self.pid, "host": self.host, "started": self.started, "boot": self.boot,
+                           "command": self.command, "since": self.since})
+
+    @classmethod
+    def parse(cls, text):
+        """The owner a lock file's text names, or None if it names none.
+
+        Lock files of earlier versions hold a bare process id.
+        """
+        text = text.strip()
+        if text.isdigit():
+            return cls(int(text))
+        try:
+            d = json.loads(text)
+            return cls(int(d["pid"]), str(d.get("host") or ""), d.get("started"), d.get("boot"),
+                       str(d.get("command") or "run"), float(d.get("since") or 0.0))
+        except (ValueError, TypeError, KeyError, AttributeError):
+            return None
+
+    def alive(self):
+        """Whether the owner may still be running (True whenever that cannot be ruled out)."""
+        if self.pid <= 0:
+            return False
+        if self.host and self.host != socket.gethostname():
+            return True  # another machine's processes cannot be seen from here
+        if self.boot and boot_id() not in (None, self.boot):
+            return False  # the machine has restarted since
+        try:
+            os.kill(self.pid, 0)
+        except ProcessLookupError:
+            return False
+        except PermissionError:
+            pass  # it exists, under another user
+        if self.started is None:
+            return True  # recorded without /proc: the process id is all there is
+        now = process_start(self.pid)
+        return now is None or now == self.started
+
+    def describe(self):
+        """A phrase naming the holder, for messages."""
+        what = f"bemcheck {self.command}, process {self.pid}"
+        if self.host:
+            what += f" on {self.host}"
+        if self.since:
+            what += time.strftime(" since %Y-%m-%d %H:%M:%S", time.localtime(self.since))
+        return what
+
+
 class RunLock:
     """An exclusive lock on a run folder, so two runs never interleave their writes.
 
-    The lock file holds the owner's process id; a lock left by a process that
-    no longer exists (a run killed with SIGKILL) is taken over.  Whoever takes
-    the lock removes the temporaries (``.*.part``) of writes such a run cut
-    short: no other run can be writing them.  Releasing the lock removes its
-    own, which an interrupt can leave behind.
+    The lock file names its owner (:class:`LockOwner`: process id, host,
+    process start time and boot identifier where /proc has them).  A lock
+    whose owner is gone (a run killed with SIGKILL, a machine restarted, the
+    process id since given to another program) is taken over; one held from
+    another host is always respected.  Whoever takes the lock removes the
+    temporaries (``.*.part``) of writes such a run cut short: no other run
+    can be writing them.  Releasing the lock removes its own, which an
+    interrupt can leave behind.
+
+    Parameters
+    ----------
+    folder : str or Path
+        The run (or mesh) folder.
+    command : str
+        The bemcheck command taking it, named to whoever is refused.
     """
 
-    def __init__(self, folder):
+    def __init__(self, folder, command="run"):
         self.path = Path(folder) / LOCK
+        self.command = command
         self.held = False
+        self._text = None
 
     def __enter__(self):
-        for _ in range(2):
+        for _ in range(3):
+            me = LockOwner.me(self.command).text()
             try:
                 fd = os.open(self.path, os.O_CREAT | os.O_EXCL | os.O_WRONLY)
             except FileExistsError:
-                if self._stale():
-                    self.path.unlink(missing_ok=True)
+                seen = _read_whole(self.path)
+                if seen is None:
+                    continue  # released between our two looks
+                if not self._live(seen):
+                    self._take_over(seen)
                     continue
+                owner = LockOwner.parse(seen or "")
+                holder = f": {owner.describe()}" if owner is not None else ""
                 raise BemcheckInputError(
                     f"{self.path.parent}: another bemcheck run is writing into this folder "
-                    f"(lock file {self.path.name}); wait for it or choose another --out"
+                    f"(lock file {self.path.name}{holder}); wait for it or choose another --out. "
+                    f"If no such run is going on, delete {self.path}"
                 ) from None
             with os.fdopen(fd, "w") as fh:
-                fh.write(str(os.getpid()))
+                fh.write(me)
+            self._text = me
             self.held = True
             self._remove_temporaries()
             return self
         raise BemcheckInputError(f"{self.path}: cannot take the run folder's lock")
 
+    def _live(self, text):
+        owner = LockOwner.parse(text)
+        if owner is not None:
+            return owner.alive()
+        # nothing readable: a holder may be between creating the file and writing it
+        try:
+            return time.time() - self.path.stat().st_mtime < LOCK_GRACE_S
+        except FileNotFoundError:
+            return False
+
+    def _take_over(self, seen):
+        """Remove a stale lock, unless another run replaced it since it was read."""
+        grab = self.path.with_name(f"{self.path.name}.stale-{os.getpid()}")
+        try:
+            os.replace(self.path, grab)
+        except FileNotFoundError:
+            return  # another run removed it first
+        try:
+            if _read_whole(grab) != seen:
+                # a run took the lock over between our read and our rename: put its lock back
+                try:
+                    os.link(grab, self.path)
+                except FileExistsError:
+                    pass
+        finally:
+            grab.unlink(missing_ok=True)
+
     def _remove_temporaries(self):
         for folder in (self.path.parent, self.path.parent / PARTS):
             for tmp in folder.glob(".*.part"):
                 tmp.unlink(missing_ok=True)
-
-    def _stale(self):
-        try:
-            pid = int(self.path.read_text().strip() or "0")
-        except (OSError, ValueError):
-            return True
-        if pid <= 0:
-            return True
-        try:
-            os.kill(pid, 0)
-        except ProcessLookupError:
-            return True
-        except PermissionError:
-            return False
-        return False
 
     def __exit__(self, *exc):
         if self.held:
@@ -122,5 +271,15 @@ class RunLock:
             # before its name is known to the writer's cleanup; the holder of
             # the lock is the only writer, so its temporaries can go here.
             self._remove_temporaries()
-            self.path.unlink(missing_ok=True)
+            if _read_whole(self.path) == self._text:  # never another run's lock
+                self.path.unlink(missing_ok=True)
             self.held = False
+
+
+def _read_whole(path):
+    try:
+        return Path(path).read_text()
+    except FileNotFoundError:
+        return None
+    except (OSError, UnicodeDecodeError):
+        return ""

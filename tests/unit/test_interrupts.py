@@ -32,7 +32,7 @@ from bemcheck.case import load_case
 from bemcheck.cli import main
 from bemcheck.run import tasks as bem_tasks
 from bemcheck.run.runner import case_hash
-from bemcheck.run.store import LOCK, PARTS
+from bemcheck.run.store import LOCK, PARTS, LockOwner
 
 BOX_CASE = """
 [case]
@@ -128,9 +128,10 @@ def _temporaries(folder):
 
 def _holds_lock(folder, proc):
     try:
-        return (Path(folder) / LOCK).read_text().strip() == str(proc.pid)
+        owner = LockOwner.parse((Path(folder) / LOCK).read_text())
     except OSError:
         return False
+    return owner is not None and owner.pid == proc.pid
 
 
 def _assert_same_results(a_folder, b_folder):
