@@ -14,7 +14,11 @@ Random errors are drawn once per call as unit-size offsets and scaled by the
 tolerance, so with one seed the draws at different tolerances are the same
 errors, larger or smaller (common random numbers): spreads at different
 tolerances compare without sampling noise, and the search for a tolerance
-is deterministic.
+is deterministic.  Optional ``weights`` scale each control's error relative
+to the tolerance: per-source tolerances (weight = own tolerance / largest),
+or 0 for a control held at its design position.  Draws with the same seed
+and number of controls are the same whatever the weights, so two studies
+that move different controls still share their random errors.
 """
 
 from dataclasses import dataclass
@@ -40,6 +44,16 @@ def _unit_offsets(rng, trials, n, distribution):
     if distribution == "gaussian":
         return 0.5 * rng.standard_normal((trials, n, 3))
     raise ValueError(f"distribution: expected one of {DISTRIBUTIONS}, got {distribution!r}")
+
+
+def _weighted(offsets, weights):
+    """Offsets (trials, C, 3) scaled per control by ``weights`` (C,), checked."""
+    if weights is None:
+        return offsets
+    w = np.asarray(weights, dtype=float)
+    if w.shape != (offsets.shape[1],) or not np.all(np.isfinite(w)) or (w < 0).any() or not (w > 0).any():
+        raise ValueError(f"weights: expected {offsets.shape[1]} non-negative finite values, not all zero; got {weights!r}")
+    return offsets * w[None, :, None]
 
 
 @dataclass(frozen=True)
@@ -108,7 +122,7 @@ class PlacementSpread:
 
 def placement_spread(impedance_at, primary_positions, primary_strengths, control_positions,
                      control_strengths, tolerance, *, trials=500, rng=None,
-                     distribution="ball", percentiles=(5.0, 50.0, 95.0)):
+                     distribution="ball", percentiles=(5.0, 50.0, 95.0), weights=None):
     """Spread of attenuation when the control sources are placed within ±``tolerance``.
 
     Parameters
@@ -129,6 +143,9 @@ def placement_spread(impedance_at, primary_positions, primary_strengths, control
     distribution : {"ball", "gaussian"}
     percentiles : sequence of float
         Percentiles of the attenuation to report [%].
+    weights : (C,) array_like, optional
+        Each control's error relative to ``tolerance`` (default all 1); 0
+        holds that control at its design position.
 
     Returns
     -------
@@ -150,7 +167,7 @@ def placement_spread(impedance_at, primary_positions, primary_strengths, control
     layout = _Layout.build(impedance_at, primary_positions, primary_strengths,
                            control_positions, control_strengths)
     offsets = _unit_offsets(np.random.default_rng(rng), int(trials), len(layout.control_positions), distribution)
-    return _spread(layout, offsets, tolerance, distribution, percentiles)
+    return _spread(layout, _weighted(offsets, weights), tolerance, distribution, percentiles)
 
 
 def _spread(layout, offsets, tolerance, distribution, percentiles):
@@ -185,7 +202,7 @@ class ToleranceNeed:
 
 def tolerance_for_loss(impedance_at, primary_positions, primary_strengths, control_positions,
                        control_strengths, max_loss_db, *, percentile=5.0, search_up_to=0.1,
-                       trials=500, rng=0, distribution="ball", precision=1e-4):
+                       trials=500, rng=0, distribution="ball", precision=1e-4, weights=None):
     """Largest tolerance at which the ``percentile`` attenuation loses at most ``max_loss_db``.
 
     Loss is designed attenuation minus the ``percentile``-th percentile of the
@@ -205,8 +222,8 @@ def tolerance_for_loss(impedance_at, primary_positions, primary_strengths, contr
         [%], in (0, 100).
     search_up_to : float
         Upper end of the search [m].
-    trials, rng, distribution
-        As in :func:`placement_spread`.
+    trials, rng, distribution, weights
+        As in :func:`placement_spread`; ``tolerance`` is that of a control of weight 1.
     precision : float
         Width of the final bracket [m].
 
@@ -220,7 +237,8 @@ def tolerance_for_loss(impedance_at, primary_positions, primary_strengths, contr
         raise ValueError(f"percentile: expected a value in (0, 100) [%], got {percentile!r}")
     layout = _Layout.build(impedance_at, primary_positions, primary_strengths,
                            control_positions, control_strengths)
-    offsets = _unit_offsets(np.random.default_rng(rng), int(trials), len(layout.control_positions), distribution)
+    offsets = _weighted(_unit_offsets(np.random.default_rng(rng), int(trials), len(layout.control_positions),
+                                      distribution), weights)
 
     def loss(t):
         s = _spread(layout, offsets, t, distribution, (percentile,))

@@ -15,6 +15,8 @@ import time
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass
 
+from bemcheck.run.tasks import PART_FORMAT
+
 # The self-check solve at each band's top frequency is made on a mesh this
 # many times finer everywhere (the figure; P1 errors fall as h², so
 # the difference estimates the coarse mesh's error to within about a factor 1.8).
@@ -84,7 +86,8 @@ def plan_tasks(case, bands, harmonics=()):
 
     def key(f, h, refine):
         scale = SELF_CHECK_REFINE if refine else 1.0
-        return hashlib.sha256(f"{base}|{f!r}|{h!r}|{scale!r}".encode()).hexdigest()[:24]
+        # PART_FORMAT: parts stored in another layout get other keys, never misread.
+        return hashlib.sha256(f"{base}|{f!r}|{h!r}|{scale!r}|{PART_FORMAT}".encode()).hexdigest()[:24]
 
     tasks = []
     for f in case.frequencies:

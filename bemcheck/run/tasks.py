@@ -3,12 +3,24 @@
 A module-level function so that worker processes and Dask workers can run it;
 each process keeps its own mesh cache (on disk) and bempp-cl's compiled
 kernels (in memory), so a long-lived worker pays the compile cost once.
+
+Besides the fields, a solve at a band's mesh keeps what re-evaluating the
+impedances at moved monopoles needs (the placement study with scattering,
+:mod:`bemcheck.build.scattered`): the total surface pressure of every source
+(N unknowns × S sources, complex), the pistons' normal velocities and the
+mesh itself, so no remeshing and no mesh cache is needed to use it later.
 """
 
 import numpy as np
 
 from bemcheck.case.load import PISTON_FACES
 from bemcheck.observers import for_observers
+
+# Version of what a task stores.  It enters every task's key
+# (bemcheck.run.sweep.plan_tasks), so parts written in another format are
+# never read as this one: 2 added the surface solution and the mesh.
+PART_FORMAT = 2
+SURFACE_ARRAYS = ("surface_pressure", "normal_velocity", "mesh_vertices", "mesh_triangles", "mesh_domains")
 
 
 def _column_order(case):
@@ -74,6 +86,8 @@ def bem_task(case, task, device="auto", cache_dir=None):
     arrays, sol = solve_case_frequency(case, mesh, task.frequency, directions, device)
     if task.refine:
         arrays = {"far_field": arrays["far_field"]}
+    else:
+        arrays.update(_surface_arrays(sol, mesh))
     seconds = time.perf_counter() - start
     meta = {
         "elements": int(mesh.n_triangles),
@@ -86,3 +100,59 @@ def bem_task(case, task, device="auto", cache_dir=None):
         "summary": f"{mesh.n_triangles} elements, {sol.elements_per_wavelength:.1f}/λ, {seconds:.1f} s",
     }
     return arrays, meta
+
+
+def _surface_arrays(sol, mesh):
+    """What :func:`stored_solve` needs, all finite (the part store refuses NaN)."""
+    from bemcheck.solvers.bem_surface import surface_from_mesh
+
+    used = surface_from_mesh(mesh).mesh_vertex
+    return {
+        "surface_pressure": sol.surface_pressure[used],
+        "normal_velocity": np.asarray(sol.normal_velocity, dtype=float),
+        "mesh_vertices": np.asarray(mesh.vertices, dtype=float),
+        "mesh_triangles": np.asarray(mesh.triangles, dtype=np.int32),
+        "mesh_domains": np.asarray(mesh.domains, dtype=np.int32),
+    }
+
+
+def stored_solve(case, frequency, arrays):
+    """The surface solution a task stored, ready for moved-source impedances, or None.
+
+    Parameters
+    ----------
+    case : Case
+        The case the sweep solved.
+    frequency : float
+        [Hz].
+    arrays : dict
+        A non-refined task's stored arrays (see :func:`bem_task`).
+
+    Returns
+    -------
+    StoredSolve or None
+        None when the part holds no surface solution (a sweep answered by
+        something other than :func:`bem_task`).
+    """
+    from bemcheck.build.scattered import StoredSolve
+    from bemcheck.mesh.surface import SurfaceMesh
+    from bemcheck.solvers.bem_surface import surface_from_mesh
+
+    if any(name not in arrays for name in SURFACE_ARRAYS):
+        return None
+    mesh = SurfaceMesh(arrays["mesh_vertices"], arrays["mesh_triangles"].astype(int), arrays["mesh_domains"].astype(int))
+    pressure = np.full((mesh.n_vertices, arrays["surface_pressure"].shape[1]), np.nan + 0j)
+    pressure[surface_from_mesh(mesh).mesh_vertex] = arrays["surface_pressure"]
+    order, points, _ = _column_order(case)
+    column = np.argsort(order)  # case source i sits in solver column column[i]
+    x = np.array([s.position for s in case.sources], dtype=float)
+    return StoredSolve(
+        frequency=float(frequency),
+        monopoles=x[points].reshape(-1, 3),
+        impedance=arrays["impedance"][np.ix_(order, order)],
+        surface_pressure=pressure,
+        normal_velocity=arrays["normal_velocity"],
+        mesh=mesh,
+        column=column,
+        positions=x,
+    )
