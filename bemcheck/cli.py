@@ -7,6 +7,7 @@ file whose path is printed).
 
 import argparse
 import errno
+import os
 import sys
 import tempfile
 import traceback
@@ -133,10 +134,13 @@ def _cmd_mesh(args, out):
     from bemcheck.case import load_case
     from bemcheck.mesh import format_band_table, write_band_meshes
     from bemcheck.run.runner import prepare_folder
+    from bemcheck.run.store import RunLock
 
     case = load_case(args.case)
     folder = prepare_folder(args.out)
-    stats = write_band_meshes(case, folder, cache_dir=args.mesh_cache)
+    # the same lock as a run: two commands writing one folder would interleave files
+    with RunLock(folder, command="mesh"):
+        stats = write_band_meshes(case, folder, cache_dir=args.mesh_cache)
     print(format_band_table(stats), file=out)
     print(f"meshes: {folder}", file=out)
     return EXIT_OK
@@ -206,8 +210,31 @@ def _show_warning(message, category, filename, lineno, file=None, line=None):
 
 
 def _internal_failure():
-    """Keep the traceback in a log file and say where it is."""
-    log = Path(tempfile.mkstemp(prefix="bemcheck-failure-", suffix=".log")[1])
-    log.write_text(traceback.format_exc())
+    """Keep the traceback in a log file and say where it is.
+
+    When no log can be written (temporary folder full, unwritable or
+    missing), the traceback's last line is printed instead; nothing here
+    may raise, so the exit code stays 1.
+    """
+    text = traceback.format_exc()
+    log = None
+    try:
+        fd, name = tempfile.mkstemp(prefix="bemcheck-failure-", suffix=".log")
+        log = Path(name)
+        with os.fdopen(fd, "w") as fh:
+            fh.write(text)
+    except Exception as exc:  # the log is a courtesy: its failure must not hide the first one
+        if log is not None:
+            try:
+                log.unlink()  # no cut-short log
+            except OSError:
+                pass
+        last = text.strip().splitlines()[-1] if text.strip() else "unknown error"
+        where = getattr(exc, "filename", None) or log or "the temporary folder"
+        why = getattr(exc, "strerror", None) or exc
+        print(f"bemcheck: internal failure: {last}", file=sys.stderr)
+        print(f"bemcheck: the traceback could not be written to a log ({where}: {why}); "
+              "set TMPDIR to a writable folder with free space and run again to keep it", file=sys.stderr)
+        return EXIT_FAILURE
     print(f"bemcheck: internal failure; the traceback is in {log}", file=sys.stderr)
     return EXIT_FAILURE
