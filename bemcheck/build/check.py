@@ -13,12 +13,13 @@ from dataclasses import dataclass
 import numpy as np
 import xarray as xr
 
+from bemcheck.build.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
 from bemcheck.build.notes import Demand, check_drivers, primary_volume_velocity
+from bemcheck.build.placement import PERCENTILES, placement_study
 from bemcheck.build.safety import ear_levels
-from bemcheck.build.tolerance import placement_spread, tolerance_for_loss
 from bemcheck.observers import for_observers
 from bemcheck.solvers.control import attenuation_db
-from bemcheck.solvers.freefield import impedance_matrix, spl_from_pressure
+from bemcheck.solvers.freefield import spl_from_pressure
 from bemcheck.solvers.strengths import control_strengths, source_indices
 
 
@@ -53,7 +54,7 @@ def harmonic_plan(case):
     return [(n.name, h + 1, f) for n in case.all_notes for h, f in enumerate(n.harmonics)]
 
 
-def before_build(case, free_at, bem_at=None):
+def before_build(case, free_at, bem_at=None, surface_at=None):
     """Run the before-build check.
 
     Parameters
@@ -65,6 +66,11 @@ def before_build(case, free_at, bem_at=None):
     bem_at : callable, optional
         ``bem_at(frequency) -> FieldResponse or None`` with scattering; None
         where the BEM was not solved at that frequency.
+    surface_at : callable, optional
+        ``surface_at(frequency)`` -> :class:`~bemcheck.build.scattered.StoredSolve`
+        (the stored surface solution, for the placement study with
+        scattering), a str saying why there is none, or None where the BEM
+        was not solved.
 
     Returns
     -------
@@ -102,7 +108,7 @@ def before_build(case, free_at, bem_at=None):
 
     check = _driver_check(case, plan, q_designed, q_reopt, controls)
     ears = _ears(case, plan, p_without, p_with, check)
-    placement = _placement(case, plan, q_designed, free_at, primary, controls)
+    placement = placement_study(case, plan, q_designed, surface_at)
     ds = _dataset(case, plan, names, q_designed, q_reopt, scattered, p_without, p_with, att_designed, placement)
     summary, lines = _go_no_go(case, check, ears, placement, scattered, bem_at is not None)
     return BuildReport(ds, summary, tuple(lines))
@@ -143,34 +149,19 @@ def _ears(case, plan, p_without, p_with, check):
     return out
 
 
-def _placement(case, plan, q_designed, free_at, primary, controls):
-    """Free-field placement study per harmonic: spread at the case's tolerance and tolerance needed."""
-    if not controls or case.control.objective != "power":
-        return None
-    tol = max(case.sources[c].position_tolerance for c in controls)
-    x = np.array([s.position for s in case.sources])
-    rows = []
-    for i, (note, h, f) in enumerate(plan):
-
-        def z_at(positions, f=f):
-            return impedance_matrix(f, case.medium, positions)
-
-        args = (z_at, x[primary], q_designed[i, primary], x[controls], q_designed[i, controls])
-        spread = placement_spread(*args, tol, trials=case.build.trials, rng=0)
-        need = tolerance_for_loss(*args, case.build.max_loss_db, trials=case.build.trials, rng=0)
-        rows.append({
-            "note": note,
-            "harmonic": h,
-            "frequency_hz": float(f),
-            "tolerance_m": float(tol),
-            "designed_db": float(spread.designed_db),
-            "p5_db": float(spread.values_db[0]),
-            "p50_db": float(spread.values_db[1]),
-            "p95_db": float(spread.values_db[2]),
-            "tolerance_needed_m": float(need.tolerance),
-            "tolerance_needed_found": bool(need.found),
-        })
-    return rows
+def _available(case, plan):
+    """(H, S) volume velocities each control's loudspeaker can give at each harmonic [m³/s]:
+    within xmax (Q_max = Sd·xmax·ω) and at rated power; 0 for sources without a driver."""
+    drivers = {d.name: d for d in case.drivers}
+    f = np.array([p[2] for p in plan], dtype=float)
+    q_x = np.zeros((len(plan), len(case.sources)))
+    q_w = np.zeros_like(q_x)
+    for j, s in enumerate(case.sources):
+        d = drivers.get(s.driver) if s.role == "control" else None
+        if d is not None:
+            q_x[:, j] = excursion_limited_volume_velocity(d, f)
+            q_w[:, j] = volume_velocity_at_rated_power(d, f, case.medium)
+    return q_x, q_w
 
 
 def _dataset(case, plan, names, q_designed, q_reopt, scattered, p_without, p_with, att_designed, placement):
@@ -185,14 +176,103 @@ def _dataset(case, plan, names, q_designed, q_reopt, scattered, p_without, p_wit
     ds = xr.Dataset(coords=coords)
     ds["q_required_designed"] = (("harmonic", "source"), q_designed, {"units": "m^3/s", "long_name": "volume velocity asked by the free-field design at each harmonic"})
     ds["q_required_reoptimised"] = (("harmonic", "source"), q_reopt, {"units": "m^3/s", "long_name": "volume velocity asked when re-optimised with scattering"})
+    q_x, q_w = _available(case, plan)
+    ds["q_available_excursion"] = (("harmonic", "source"), q_x, {"units": "m^3/s", "long_name": "largest volume velocity within xmax, Sd xmax omega (0: no driver)"})
+    ds["q_available_rated_power"] = (("harmonic", "source"), q_w, {"units": "m^3/s", "long_name": "volume velocity at the driver's rated power (0: no driver)"})
     ds["harmonic_scattered"] = ("harmonic", scattered, {"long_name": "true where the BEM was solved at this harmonic"})
     ds["spl_points_without_control"] = (("harmonic", "point"), spl_from_pressure(p_without), {"units": "dB re 20 uPa"})
     ds["spl_points_with_control"] = (("harmonic", "point"), spl_from_pressure(p_with), {"units": "dB re 20 uPa"})
     ds["attenuation_harmonic_as_designed_db"] = ("harmonic", att_designed, {"units": "dB"})
     if placement:
-        ds["placement_p5_db"] = ("harmonic", [r["p5_db"] for r in placement], {"units": "dB", "long_name": "5th percentile of attenuation over placement errors (free field)"})
-        ds["placement_tolerance_needed_m"] = ("harmonic", [r["tolerance_needed_m"] for r in placement], {"units": "m"})
+        _placement_variables(ds, placement)
     return ds
+
+
+def _placement_variables(ds, placement):
+    """Placement figures per harmonic; where a figure was not computed it is 0 and a flag says so
+    (results.nc holds finite numbers only)."""
+    ds.coords["placement_percentile"] = ("placement_percentile", np.array(PERCENTILES), {"units": "%"})
+    rows = placement.rows
+    models = (
+        ("free", "free field, every control moved", [r.free for r in rows]),
+        ("same_moves_free", "free field, only the controls the scattered study moves", [r.same_moves_free for r in rows]),
+        ("scattered", "with scattering, from the stored surface solutions", [r.scattered for r in rows]),
+    )
+    for tag, what, studies in models:
+        ok = np.array([s is not None for s in studies])
+        pct = np.array([s.values_db if s is not None else np.full(len(PERCENTILES), np.nan) for s in studies])
+        has = ok & np.isfinite(pct).all(axis=1)
+        ds[f"placement_{tag}_computed"] = ("harmonic", has, {"long_name": f"true where the spread was computed ({what})"})
+        ds[f"placement_{tag}_db"] = (("harmonic", "placement_percentile"), np.where(has[:, None], pct, 0.0),
+                                     {"units": "dB", "long_name": f"attenuation at these percentiles of random builds ({what})"})
+        ds[f"placement_{tag}_designed_db"] = ("harmonic", [s.designed_db if s else 0.0 for s in studies],
+                                              {"units": "dB", "long_name": f"attenuation with the controls where designed ({what})"})
+        ds[f"placement_{tag}_tolerance_needed_m"] = ("harmonic", [s.tolerance_needed_m if s else 0.0 for s in studies],
+                                                     {"units": "m", "long_name": f"largest tolerance keeping the 5 % loss within max_loss_db ({what}; 0: not computed)"})
+        ds[f"placement_{tag}_tolerance_found"] = ("harmonic", [bool(s.found) if s else False for s in studies],
+                                                  {"long_name": "false when even the largest tolerance searched keeps the loss within max_loss_db"})
+    ds["placement_scattered_moves"] = ("source", np.isin(ds["source"].values, placement.moved),
+                                       {"long_name": "controls moved in the study with scattering (the others move with a body and are held)"})
+    ds["placement_tolerance_m"] = ((), placement.tolerance, {"units": "m", "long_name": "largest position tolerance of the controls"})
+
+
+def _mm(x):
+    return f"±{x * 1e3:.1f} mm"
+
+
+def _need_text(study):
+    need = _mm(study.tolerance_needed_m)
+    return need if study.found else f"more than {need}"
+
+
+def _placement_items(placement, item, lines):
+    """Go/no-go items and notes of the placement study, free field first."""
+    tol, loss = placement.tolerance, placement.max_loss_db
+    worst = min(placement.rows, key=lambda r: r.free.tolerance_needed_m)
+    ok = tol <= worst.free.tolerance_needed_m or not worst.free.found
+    item(ok, f"placement (free field, every control moved): {_mm(tol)} given; {_need_text(worst.free)} keeps the "
+             f"loss within {loss:g} dB at {worst.note} h{worst.harmonic}")
+    done = [r for r in placement.rows if r.scattered is not None]
+    moved = ", ".join(placement.moved)
+    if done:
+        w = min(done, key=lambda r: r.scattered.tolerance_needed_m)
+        ok = tol <= w.scattered.tolerance_needed_m or not w.scattered.found
+        same = f" (free field, same moves: {_need_text(w.same_moves_free)})" if placement.held else ""
+        item(ok, f"placement with scattering ({moved} moved): {_mm(tol)} given; {_need_text(w.scattered)} keeps the "
+                 f"loss within {loss:g} dB at {w.note} h{w.harmonic}{same}")
+    for r in placement.rows:
+        if not r.scattered_spread:
+            lines.append(f"  note: placement spread with scattering at {r.note} h{r.harmonic} not computed: {r.reason}")
+    if placement.held and placement.moved:
+        names = ", ".join(n for n, _ in placement.held)
+        lines.append(f"  note: placement with scattering holds {names} where designed (each moves with a body; a new "
+                     "BEM solve per draw would be needed); their spread is the free-field one")
+
+
+def _placement_summary(placement):
+    if not placement:
+        return [], {}
+    free_rows = [{
+        "note": r.note, "harmonic": r.harmonic, "frequency_hz": r.frequency, "tolerance_m": placement.tolerance,
+        "designed_db": r.free.designed_db, "p5_db": float(r.free.values_db[0]), "p50_db": float(r.free.values_db[1]),
+        "p95_db": float(r.free.values_db[2]), "tolerance_needed_m": r.free.tolerance_needed_m,
+        "tolerance_needed_found": r.free.found,
+    } for r in placement.rows]
+    scattered = {
+        "tolerance_m": placement.tolerance,
+        "max_loss_db": placement.max_loss_db,
+        "moved": list(placement.moved),
+        "held": [{"source": n, "why": why} for n, why in placement.held],
+        "rows": [{
+            "note": r.note, "harmonic": r.harmonic, "frequency_hz": r.frequency,
+            "free": r.free.as_dict(),
+            "same_moves_free": r.same_moves_free.as_dict() if r.same_moves_free else None,
+            "scattered": r.scattered.as_dict() if r.scattered else None,
+            "scattered_spread": r.scattered_spread,
+            "reason": r.reason,
+        } for r in placement.rows],
+    }
+    return free_rows, scattered
 
 
 def _go_no_go(case, check, ears, placement, scattered, bem_ran):
@@ -215,14 +295,12 @@ def _go_no_go(case, check, ears, placement, scattered, bem_ran):
         loud = float(np.max(np.maximum(e.dba_without, e.dba_with))) if len(e.points) else 0.0
         item(not e.cautions, f"levels at observer points for {note}: up to {loud:.0f} dB(A) (limit {e.limit_dba:g} dB(A))")
     if placement:
-        worst = min(placement, key=lambda r: r["tolerance_needed_m"])
-        tol = worst["tolerance_m"]
-        ok = tol <= worst["tolerance_needed_m"] or not worst["tolerance_needed_found"]
-        item(ok, f"placement: ±{tol * 1000:.1f} mm given; ±{worst['tolerance_needed_m'] * 1000:.1f} mm keeps the loss within {case.build.max_loss_db:g} dB at {worst['note']} h{worst['harmonic']} (free field)")
+        _placement_items(placement, item, lines)
     if not bem_ran:
         lines.append("  note: no BEM in this run; every harmonic was checked in the free-field model only")
     elif not scattered.all():
         lines.append(f"  note: {int((~scattered).sum())} harmonic(s) lie outside the solved bands and were checked in the free-field model only")
+    free_rows, scattered_placement = _placement_summary(placement)
     summary = {
         "go": all(i["go"] for i in items),
         "items": items,
@@ -231,6 +309,7 @@ def _go_no_go(case, check, ears, placement, scattered, bem_ran):
             {"note": note, "points": list(e.points), "dba_without": [float(v) for v in e.dba_without], "dba_with": [float(v) for v in e.dba_with], "cautions": list(e.cautions)}
             for note, e in ears
         ],
-        "placement": placement or [],
+        "placement": free_rows,
+        "placement_scattered": scattered_placement,
     }
     return summary, [f"Before build: {'GO' if summary['go'] else 'NO-GO'}"] + lines

@@ -97,10 +97,11 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, workers=1
 
     Returns
     -------
-    (list of FieldResponse, (F, D) ndarray, (F, D) ndarray, list of dict, dict)
+    (list of FieldResponse, (F, D) ndarray, (F, D) ndarray, list of dict, dict, dict)
         Responses per frequency, level and phase error estimates, each
         solve's metadata (elements, elements per wavelength, device, timings),
-        and every solved response by frequency (harmonics included).
+        every solved response by frequency (harmonics included), and every
+        solve's stored arrays by frequency (for the surface solutions).
     """
     if bands is None:
         from bemcheck.mesh import plan_bands
@@ -121,14 +122,15 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, workers=1
     progress = Progress(len(plan), stream=progress_stream, quiet=quiet)
     execute(plan, solve, store, workers=workers, scheduler=scheduler, progress=progress)
     parts = {t.key: store.load(t.key) for t in plan}
-    by_frequency, metas = {}, []
+    by_frequency, stored, metas = {}, {}, []
     for t in (t for t in plan if not t.refine):
         a, meta = parts[t.key]
         by_frequency[t.frequency] = FieldResponse(t.frequency, a["far_field"], a["points"], a["impedance"], a["power_matrix"])
+        stored[t.frequency] = a
         if not t.harmonic:
             metas.append(meta)
     err_db, err_deg = _numerical_error(plan, parts)
-    return [by_frequency[f] for f in case.frequencies], err_db, err_deg, metas, by_frequency
+    return [by_frequency[f] for f in case.frequencies], err_db, err_deg, metas, by_frequency, stored
 
 
 def run_case(case, out_dir, model="both", report=False, **options):
@@ -168,19 +170,19 @@ def run_case(case, out_dir, model="both", report=False, **options):
     with RunLock(folder):
         free = free_responses(case, directions)
         device = None
-        solved = {}
+        solved, stored = {}, {}
         if model == "free":
             ds, verdict = combine(case, directions, free)
             metas = []
         else:
-            bem, err_db, err_deg, metas, solved = bem_responses(case, directions, folder, **options)
+            bem, err_db, err_deg, metas, solved, stored = bem_responses(case, directions, folder, **options)
             device = metas[0].get("device") if metas else None
             ds, verdict = combine(case, directions, free, bem, err_db, err_deg)
             ds["elements_per_wavelength"] = ("frequency", np.array([m["elements_per_wavelength"] for m in metas]), {"long_name": "wavelength over the mesh's largest element edge"})
             ds["elements"] = ("frequency", np.array([m["elements"] for m in metas]), {"long_name": "triangles in the mesh solved"})
         ds.attrs.update(run_attributes(case, fingerprint, device))
         summary = build_summary(case, ds, fingerprint, verdict, metas)
-        build = _before_build(case, directions, solved)
+        build = _before_build(case, directions, solved, stored)
         if build is not None:
             ds = ds.merge(build.dataset, compat="override", combine_attrs="override")
             summary["before_build"] = build.summary
@@ -211,16 +213,29 @@ def _write_report(case, folder, options):
     return report_run(folder, mesh=mesh)
 
 
-def _before_build(case, directions, solved):
-    """The before-build check, with scattering at every harmonic the BEM solved."""
+def _before_build(case, directions, solved, stored):
+    """The before-build check, with scattering at every harmonic the BEM solved.
+
+    The placement study with scattering uses the surface solutions the
+    sweep stored (:func:`bemcheck.run.tasks.stored_solve`); a part without
+    one (a sweep answered by another solver) says so instead.
+    """
     from bemcheck.build.check import before_build
+    from bemcheck.run.tasks import stored_solve
 
     sources = np.array([s.position for s in case.sources])
     points = np.array([p.at for p in case.observers.points]).reshape(-1, 3)
+
+    def surface_at(f):
+        if f not in stored:
+            return None
+        return stored_solve(case, f, stored[f]) or "the sweep's stored parts hold no surface solution"
+
     return before_build(
         case,
         lambda f: free_response(f, case.medium, sources, directions.unit, points),
         (lambda f: solved.get(f)) if solved else None,
+        surface_at if stored else None,
     )
 
 
