@@ -4,6 +4,7 @@ import numpy as np
 from matplotlib.collections import PolyCollection
 from matplotlib.colors import to_rgb
 from matplotlib.lines import Line2D
+from matplotlib.ticker import MaxNLocator
 from mpl_toolkits.mplot3d.art3d import Poly3DCollection
 
 from bemcheck.report import style
@@ -12,6 +13,7 @@ _AXES = {"x": 0, "y": 1, "z": 2}
 PRIMARY_MARK = {"marker": "*", "s": 90, "color": "#8f1d14"}
 CONTROL_MARK = {"marker": "o", "s": 36, "color": "#0f6a73"}
 POINT_MARK = {"marker": "^", "s": 36, "color": style.INK}
+LABELPAD_3D = 10.0
 
 
 def body_of_triangles(mesh):
@@ -88,14 +90,20 @@ def layout_figure(mesh, case=None):
                                           rasterized=True))
     for pos, mark, label in marks:
         ax3.scatter(*pos, depthshade=False, **mark)
-        ax3.text(*pos, f" {label}", fontsize=7)
+        # +x runs to the right in the default view: names far along it go left, clear of the z ticks
+        right = pos[0] > lo[0] + 0.75 * (hi[0] - lo[0])
+        ax3.text(*pos, f"{label} " if right else f" {label}", ha="right" if right else "left", fontsize=7)
     ax3.set_xlim(lo[0], hi[0])
     ax3.set_ylim(lo[1], hi[1])
     ax3.set_zlim(lo[2], hi[2])
     ax3.set_box_aspect(hi - lo)
-    ax3.set_xlabel("x [m]")
-    ax3.set_ylabel("y [m]")
-    ax3.set_zlabel("z [m]")
+    for axis in (ax3.xaxis, ax3.yaxis, ax3.zaxis):
+        # the perspective foreshortens the axes: default tick counts crowd their labels
+        axis.set_major_locator(MaxNLocator(5, steps=[1, 2, 5, 10]))
+    # foreshortened axes bring tick labels close to the axis label: pad it further out [pt]
+    ax3.set_xlabel("x [m]", labelpad=LABELPAD_3D)
+    ax3.set_ylabel("y [m]", labelpad=LABELPAD_3D)
+    ax3.set_zlabel("z [m]", labelpad=LABELPAD_3D)
     ax3.set_title("Layout in perspective")
 
     ax2 = fig.add_subplot(1, 2, 2)
@@ -106,7 +114,10 @@ def layout_figure(mesh, case=None):
                                       linewidths=0.15, rasterized=True))
     for pos, mark, label in marks:
         ax2.scatter(pos[a], pos[b], zorder=3, **mark)
-        ax2.annotate(label, (pos[a], pos[b]), xytext=(4, 3), textcoords="offset points", fontsize=7)
+        # names of points near the right edge go to their left, clear of the legend
+        right = pos[a] > lo[a] + 0.75 * (hi[a] - lo[a])
+        ax2.annotate(label, (pos[a], pos[b]), xytext=(-4 if right else 4, 3), textcoords="offset points",
+                     ha="right" if right else "left", fontsize=7)
     ax2.set_xlim(lo[a], hi[a])
     ax2.set_ylim(lo[b], hi[b])
     ax2.set_aspect("equal")
@@ -121,4 +132,36 @@ def layout_figure(mesh, case=None):
     ]
     ax2.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.02, 1.0))
     fig.suptitle(f"Meshed layout: {mesh.n_triangles} triangles", x=0.01, ha="left", fontsize=10, fontweight="bold")
+    _separate(fig, ax3, ax2)
     return fig
+
+
+def _separate(fig, left, right, gap_pt=14.0, rounds=4):
+    """Widen the space between the panels until everything the 3-D panel draws clears the 2-D panel.
+
+    Constrained layout leaves a 3-D axes' axis labels out of its sums
+    (matplotlib's Axis3D.get_tightbbox drops them when asked for layout),
+    so its z label would land on the 2-D panel's y label.  The 3-D panel's
+    extent is measured after a layout pass and the gap widened by what is
+    missing; the projection moves with the panel's width, hence a few rounds.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+        With a constrained layout engine.
+    left, right : matplotlib.axes.Axes
+        The 3-D panel and the panel to its right.
+    gap_pt : float
+        Clearance to keep between them [pt].
+    rounds : int
+        Layout passes at most.
+    """
+    engine = fig.get_layout_engine()
+    gap_px = gap_pt * fig.dpi / 72.0
+    for _ in range(rounds):
+        fig.draw_without_rendering()
+        renderer = fig.canvas.get_renderer()
+        short = left.get_tightbbox(renderer).x1 + gap_px - right.get_tightbbox(renderer).x0
+        if short <= 0.0:
+            return
+        engine.set(wspace=engine.get()["wspace"] + short / fig.bbox.width)
