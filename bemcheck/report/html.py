@@ -50,7 +50,15 @@ CAPTIONS = {
                            "the mesh cannot tell for the controlled system.",
     "layout": "The meshed bodies with the sources and observer points, in perspective and projected across the "
               "observers' plane.",
+    "volume_velocity": "Volume velocity (peak) each control loudspeaker must give at every harmonic of the notes "
+                       "played: filled markers as designed with the free-field model, open markers re-optimised with "
+                       "scattering (the free-field optimum again where the BEM did not solve that harmonic). Curves: "
+                       "what the loudspeaker in its closed box can give, within its excursion limit (Sd·xmax·ω) and "
+                       "at its rated power; shaded: beyond the lower of the two.",
 }
+
+# Figures shown in the before-build section rather than among the figures.
+BUILD_FIGURES = ("volume_velocity",)
 
 # A free-field run has no scattered curves; these captions replace the ones above.
 FREE_ONLY_CAPTIONS = {
@@ -181,7 +189,22 @@ def _extra(extra_sections):
     return out
 
 
-def render_report(ds, summary, figures, mesh=None, extra_sections=(), case_note=""):
+def _build_body(build_sections, build_figures, bem):
+    """The before-build section: its tables in order, the figures after the loudspeaker table."""
+    parts, figs = [], "\n".join(_figure(n, p, bem) for n, p in build_figures.items())
+    for title, rows, notes in build_sections:
+        parts += [f"<h3>{_text(title)}</h3>", _table(rows, scroll=len(rows) > 15)]
+        parts += [_note(n) for n in notes]
+        if title == tables.DRIVE_TITLE and figs:
+            parts.append(figs)
+            figs = ""
+    if figs:
+        parts.append(figs)
+    return "\n".join(parts)
+
+
+def render_report(ds, summary, figures, mesh=None, extra_sections=(), case_note="", build_sections=(),
+                  build_figures=None):
     """The report page as a string.
 
     Parameters
@@ -199,6 +222,11 @@ def render_report(ds, summary, figures, mesh=None, extra_sections=(), case_note=
         are plain text and are escaped here.
     case_note : str
         Why the case could not be re-read, if it could not.
+    build_sections : sequence of (str, rows, notes)
+        The before-build check (:func:`~bemcheck.report.tables.before_build_sections`),
+        shown as one section.
+    build_figures : dict[str, Path], optional
+        Figures shown in that section (after the loudspeaker table).
 
     Returns
     -------
@@ -223,6 +251,8 @@ def render_report(ds, summary, figures, mesh=None, extra_sections=(), case_note=
                      _table(err, scroll=True) if err else _note("Not available: the BEM was not run.")))
     for i, (t, rows) in enumerate(_extra(extra_sections)):
         sections.append((f"extra-{i + 1}", t, _table(rows, scroll=len(rows) > 15) if rows else _note("nothing to show")))
+    if build_sections or build_figures:
+        sections.append(("before-build", "Before build", _build_body(build_sections, build_figures or {}, has_bem(ds))))
     case_body = f'<pre class="case">{_text(a.get("case_text", ""))}</pre>' + (_note(case_note) if case_note else "")
     sections.append(("case", "Case file", case_body))
     cautions = "".join(f"<h3>{_text(h)}</h3><p>{_text(t)}</p>" for h, t in CAUTIONS)
@@ -287,13 +317,16 @@ def write_report(folder, ds, summary, mesh=None, extra_sections=(), case=None):
     'report.html'
     """
     folder = Path(folder)
-    extra = _extra(tuple(extra_sections) + tuple(tables.before_build_sections(summary)))
+    extra = _extra(extra_sections)
     note = ""
     if case is None:
         case, note = case_of(ds)
     tolerance_db = (summary.get("verdict") or {}).get("tolerance", {}).get("level_db")
     figures = make_figures(ds, folder / FIGURES_DIR, case=case, mesh=mesh, tolerance_db=tolerance_db)
-    page = render_report(ds, summary, figures, mesh=mesh, extra_sections=extra, case_note=note)
+    build_figures = {n: p for n, p in figures.items() if n in BUILD_FIGURES}
+    figures = {n: p for n, p in figures.items() if n not in BUILD_FIGURES}
+    page = render_report(ds, summary, figures, mesh=mesh, extra_sections=extra, case_note=note,
+                         build_sections=tables.before_build_sections(summary), build_figures=build_figures)
     path = folder / REPORT_FILE
     atomic_write_bytes(path, page.encode("utf-8"))
     return path

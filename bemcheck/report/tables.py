@@ -205,8 +205,68 @@ def _cell(value):
     return str(value)
 
 
+DRIVE_TITLE = "Control loudspeakers per note and harmonic"
+
+
+def _mm(x, found=True):
+    text = f"±{x * 1e3:.1f} mm"
+    return text if found else f"more than {text}"
+
+
+def _study_cells(st):
+    """as designed, 5 %, median, 95 %, tolerance needed; percentiles blank when not computed."""
+    pct = tuple(db(st[k]) if st.get(k) is not None else "not computed" for k in ("p5_db", "p50_db", "p95_db"))
+    return (db(st["designed_db"]), *pct, _mm(st["tolerance_needed_m"], st["tolerance_needed_found"]))
+
+
+def placement_rows(bb):
+    """Placement figures per harmonic, free field and with scattering one under the other; and notes.
+
+    Parameters
+    ----------
+    bb : dict
+        ``summary["before_build"]``.
+
+    Returns
+    -------
+    (list of tuple, list of str) or None
+        Rows (header first) and notes; None when the run made no placement study.
+    """
+    ps = bb.get("placement_scattered") or {}
+    if not ps and not bb.get("placement"):
+        return None
+    header = ("note", "harmonic", "frequency", "model", "controls moved", "as designed", "5 % of builds", "median",
+              "95 % of builds", "tolerance needed")
+    rows = [header]
+    if not ps:  # a summary written before the study with scattering existed
+        for r in bb["placement"]:
+            st = {**r, "search_up_to_m": None}
+            rows.append((r["note"], str(r["harmonic"]), hz(r["frequency_hz"]), "free field", "all", *_study_cells(st)))
+        return rows, []
+    moved = ", ".join(ps["moved"]) or "none"
+    for r in ps["rows"]:
+        rows.append((r["note"], str(r["harmonic"]), hz(r["frequency_hz"]), "free field", "all", *_study_cells(r["free"])))
+        if ps["held"] and r["same_moves_free"]:
+            rows.append(("", "", "", "free field", moved, *_study_cells(r["same_moves_free"])))
+        if r["scattered"]:
+            rows.append(("", "", "", "scattered", moved, *_study_cells(r["scattered"])))
+        else:
+            rows.append(("", "", "", "scattered", moved, "not computed", "", "", "", ""))
+    notes = [f"Tolerance given: {_mm(ps['tolerance_m'])} (the largest of the controls'; each control's errors scale "
+             f"with its own). Tolerance needed: the largest that keeps 95 % of builds within "
+             f"{ps['max_loss_db']:g} dB of the attenuation as designed, in that model."]
+    if ps["held"]:
+        held = "; ".join(f"{h['source']}: {h['why']}" for h in ps["held"])
+        notes.append(f"Held where designed in the study with scattering: {held}. Moving them moves their bodies, which "
+                     "changes the scatterer and needs a new BEM solve per draw; their placement spread is the "
+                     "free-field one (first row of each harmonic).")
+    reasons = dict.fromkeys(f"{r['note']} h{r['harmonic']}: {r['reason']}" for r in ps["rows"] if r["reason"])
+    notes += [f"Not computed with scattering at {why}" for why in reasons]
+    return rows, notes
+
+
 def before_build_sections(summary):
-    """Extra report sections from a run's before-build check (``summary["before_build"]``), or none.
+    """The before-build check (``summary["before_build"]``) as (title, rows, notes) tables, or none.
 
     Examples
     --------
@@ -216,15 +276,16 @@ def before_build_sections(summary):
     bb = summary.get("before_build")
     if not bb:
         return []
-    sections = [("Before build: go / no-go", [("check", "result")] + [(i["check"], "GO" if i["go"] else "NO-GO") for i in bb["items"]])]
+    sections = [("Go / no-go", [("check", "result")] + [(i["check"], "GO" if i["go"] else "NO-GO") for i in bb["items"]], ())]
     if bb.get("drives"):
         keep = ("source", "driver", "note", "harmonic", "frequency", "volume_velocity", "voltage", "excursion", "nominal_power", "excursion_margin_db", "power_margin_db")
-        sections.append(("Control loudspeakers per note and harmonic", records_rows([{k: r[k] for k in keep if k in r} for r in bb["drives"]])))
+        sections.append((DRIVE_TITLE, records_rows([{k: r[k] for k in keep if k in r} for r in bb["drives"]]), ()))
     for e in bb.get("ears", []):
         rows = [("point", "dB(A) without control", "dB(A) with control")]
         rows += [(p, f"{a:.1f}", f"{b:.1f}") for p, a, b in zip(e["points"], e["dba_without"], e["dba_with"])]
         rows += [(c, "", "") for c in e["cautions"]]
-        sections.append((f"Levels at the observer points, note {e['note']}", rows))
-    if bb.get("placement"):
-        sections.append(("Placement tolerance (free field)", records_rows(bb["placement"])))
+        sections.append((f"Levels at the observer points, note {e['note']}", rows, ()))
+    placement = placement_rows(bb)
+    if placement:
+        sections.append(("Placement tolerance: attenuation over random builds", *placement))
     return sections
