@@ -11,8 +11,10 @@ prescribed normal derivative ∂p/∂n = iωρ v_n (zero on rigid parts):
 for bempp-cl's operators was measured on a rigid sphere, see
 /work/shared/design.md).  Outside, p = p_inc + DL(u) - SL(g).
 
-Only the dense K and W (and, for prescribed velocities, V and K') come from
-bempp-cl; the mass matrices and all right-hand sides are built with numpy.
+The matrix is assembled by :mod:`bemcheck.solvers.bem_assembly` (regular
+pairs in one fused pass, touching pairs by bempp-cl's singular quadrature);
+V and K' for prescribed velocities come from bempp-cl; the mass matrices and
+all right-hand sides are built with numpy.
 """
 
 import time
@@ -24,6 +26,7 @@ from numba.core.errors import NumbaPerformanceWarning
 from scipy.linalg import lu_factor, lu_solve
 from scipy.sparse import coo_matrix
 
+from bemcheck.solvers.bem_assembly import burton_miller_matrix
 from bemcheck.solvers.bem_device import bempp, current_device
 
 
@@ -99,20 +102,11 @@ def assemble(surface, k, coupling=None):
     -------
     System
     """
-    api = bempp()
     device = current_device()
     eta = 1j / k if coupling is None else complex(coupling)
     t0 = time.perf_counter()
     grid, p1 = _grid(surface)
-    helm = api.operators.boundary.helmholtz
-    opts = {"assembler": "dense", "device_interface": device, "precision": "double"}
-    # Combine in place: summing operator objects would hold extra N x N copies.
-    a = _dense(helm.double_layer(p1, p1, p1, k, **opts))
-    a *= -1.0
-    if eta != 0:
-        a += eta * _dense(helm.hypersingular(p1, p1, p1, k, **opts))
-    mass = surface.mass_matrix().tocoo()
-    a[mass.row, mass.col] += 0.5 * mass.data
+    a = burton_miller_matrix(surface, p1, k, eta, device)
     t1 = time.perf_counter()
     lu = lu_factor(a, overwrite_a=True, check_finite=False)
     t2 = time.perf_counter()

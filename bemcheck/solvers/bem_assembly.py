@@ -1,0 +1,313 @@
+"""The Burton–Miller Galerkin matrix -K + ηW, regular part in one fused pass.
+
+For continuous P1 test and trial functions φ on flat triangles, with the
+kernel G = e^{ikr}/4πr and r = |y - x| (x on the test, y on the trial
+triangle), the weak forms in bempp-cl's conventions are
+
+    K_ab = ∫∫ φ_a(x) ∂G/∂n_y φ_b(y),    ∂G/∂n_y = G (ikr - 1) (y - x)·n_y / r²
+    W_ab = ∫∫ G [curl φ_a · curl φ_b - k² (n_x·n_y) φ_a(x) φ_b(y)]
+
+(W is the hypersingular operator in Maue's form, bempp-cl's sign; curl φ is
+the surface curl n × ∇φ, constant on a triangle).  Both share the kernel, so
+one pass over the triangle pairs evaluates e^{ikr} once per point pair for
+both, on every core, and writes -K + ηW straight into the matrix.
+
+Pairs that share a vertex (the singular ones) are left to bempp-cl's
+singular quadrature (Sauter & Schwab 2011, Boundary Element Methods, ch. 5),
+added afterwards.  Other pairs use a symmetric Gauss rule on each triangle:
+the 6-point rule bempp-cl uses for its regular part (degree 4) when the
+triangles are near each other, the 3-point rule (degree 2) when they are far
+apart, where the kernel is smooth on the scale of a triangle
+(``FAR_RATIO``; the effect on the field is measured in
+tests/validation/test_bem_assembly.py and bench/).
+
+Why not bempp-cl's dense assembler: its hypersingular regular kernel runs on
+one core and evaluates the kernel separately from the double layer; on this
+2-core machine the two took 11.5 s at 1,002 unknowns (see bench/RESULTS.md).
+"""
+
+import numba
+import numpy as np
+
+from bemcheck.solvers.bem_device import bempp
+
+# Triangles whose centroids are further apart than FAR_RATIO times the larger
+# of their longest edges are integrated with the 3-point rule.  At that
+# distance 1/r varies by under a third across either triangle.
+FAR_RATIO = 4.0
+NEAR_ORDER = 4
+FAR_ORDER = 2
+
+
+def _gauss(order):
+    """Symmetric Gauss rule of ``order``: ((nq, 3) barycentric points, (nq,) weights summing to 1)."""
+    bempp()  # first import of bempp-cl must be the quiet one
+    from bempp_cl.api.integration.triangle_gauss import rule
+
+    st, w = rule(order)
+    return np.stack([1.0 - st[0] - st[1], st[0], st[1]], axis=1), 2.0 * w
+
+
+def colour_triangles(triangles):
+    """Group triangles so that no two of a group share a vertex.
+
+    Triangles of one group write to disjoint rows of the matrix, so a group
+    can be assembled in parallel without locks.
+
+    Parameters
+    ----------
+    triangles : (nt, 3) array_like of int
+
+    Returns
+    -------
+    list of (n_c,) ndarray of int
+        Triangle indices per colour, every triangle exactly once.
+
+    Examples
+    --------
+    >>> groups = colour_triangles([[0, 1, 2], [1, 2, 3], [4, 5, 6]])
+    >>> [g.tolist() for g in groups]
+    [[0, 2], [1]]
+    """
+    triangles = np.asarray(triangles, dtype=np.int64)
+    colours = _greedy_colours(triangles, int(triangles.max(initial=-1)) + 1)
+    order = np.argsort(colours, kind="stable")
+    cuts = np.flatnonzero(np.diff(colours[order])) + 1
+    return np.split(order, cuts) if len(order) else []
+
+
+@numba.njit(cache=True)
+def _greedy_colours(triangles, n_vertices):
+    # A vertex's mask holds the colours already taken by triangles through it.
+    used = np.zeros(n_vertices, dtype=np.uint64)
+    colours = np.empty(len(triangles), dtype=np.int64)
+    for t in range(len(triangles)):
+        taken = used[triangles[t, 0]] | used[triangles[t, 1]] | used[triangles[t, 2]]
+        c = 0
+        while taken & (np.uint64(1) << np.uint64(c)):
+            c += 1
+        if c >= 64:
+            raise ValueError("more than 64 triangles meet at one vertex")
+        colours[t] = c
+        bit = np.uint64(1) << np.uint64(c)
+        for a in range(3):
+            used[triangles[t, a]] |= bit
+    return colours
+
+
+def surface_curls(vertices, triangles, normals):
+    """Surface curls n × ∇φ_a of the three P1 functions of each triangle.
+
+    Parameters
+    ----------
+    vertices : (nv, 3) ndarray [m]
+    triangles : (nt, 3) ndarray of int
+    normals : (nt, 3) ndarray, unit
+
+    Returns
+    -------
+    (nt, 3, 3) ndarray [1/m]
+        ``curls[t, a]`` for local vertex a.
+    """
+    p = vertices[triangles]
+    # ∇φ_a is perpendicular to the opposite edge e_a, pointing to vertex a:
+    # ∇φ_a = n × e_a / (2A) with e_a running from vertex a+1 to a+2.
+    edges = np.stack([p[:, 2] - p[:, 1], p[:, 0] - p[:, 2], p[:, 1] - p[:, 0]], axis=1)
+    twice_area = np.linalg.norm(np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]), axis=1)
+    grads = np.cross(normals[:, None, :], edges) / twice_area[:, None, None]
+    return np.cross(normals[:, None, :], grads)
+
+
+@numba.njit(parallel=True, fastmath=True, cache=True)
+def _regular(ahead, behind, triangles, normals, areas, sizes, centroids, curls, near_x, near_phi, near_w,
+             far_x, far_phi, far_w, members, k, eta_re, eta_im, far_ratio):
+    """Add the regular part of -K + ηW for the pairs (t, s) of test triangles t in ``members``.
+
+    Each unordered pair is visited once, from the triangle whose partners
+    follow it cyclically (s = t + 1 ... t + nt/2 mod nt, every triangle the
+    same work).  One evaluation of the kernel gives both blocks: with
+    P_ab = ∫∫ φ_a φ_b ∂_r G (y - x)/r, K(t, s) = P·n_s and K(s, t)ᵀ = -P·n_t,
+    while W(s, t) = W(t, s)ᵀ.  Block (t, s) goes to ``ahead`` and block
+    (s, t), transposed, to ``behind``, both in the rows of t's vertices, so
+    test triangles of one colour never write the same row; the matrix is
+    ahead + behindᵀ.
+    """
+    nt = triangles.shape[0]
+    half = nt // 2
+    inv4pi = 1.0 / (4.0 * np.pi)
+    k2 = k * k
+    for m in numba.prange(members.shape[0]):
+        t = members[m]
+        ta0, ta1, ta2 = triangles[t, 0], triangles[t, 1], triangles[t, 2]
+        # Real and imaginary parts kept apart: numba's complex temporaries were slower.
+        s_re = np.zeros((3, 3))
+        s_im = np.zeros((3, 3))
+        ks_re = np.zeros((3, 3))
+        ks_im = np.zeros((3, 3))
+        kt_re = np.zeros((3, 3))
+        kt_im = np.zeros((3, 3))
+        acc = np.zeros((6, 3))
+        # with nt even the partner half-way round is reached from both sides: keep one
+        last = half if (nt % 2 == 1 or t < half) else half - 1
+        for step in range(1, last + 1):
+            s = t + step
+            if s >= nt:
+                s -= nt
+            if (triangles[s, 0] == ta0 or triangles[s, 0] == ta1 or triangles[s, 0] == ta2
+                    or triangles[s, 1] == ta0 or triangles[s, 1] == ta1 or triangles[s, 1] == ta2
+                    or triangles[s, 2] == ta0 or triangles[s, 2] == ta1 or triangles[s, 2] == ta2):
+                continue
+            dx = centroids[s, 0] - centroids[t, 0]
+            dy = centroids[s, 1] - centroids[t, 1]
+            dz = centroids[s, 2] - centroids[t, 2]
+            reach = far_ratio * max(sizes[s], sizes[t])
+            if dx * dx + dy * dy + dz * dz > reach * reach:
+                xq, phi, w = far_x, far_phi, far_w
+            else:
+                xq, phi, w = near_x, near_phi, near_w
+            nq = w.shape[0]
+            ns0, ns1, ns2 = normals[s, 0], normals[s, 1], normals[s, 2]
+            nt0, nt1, nt2 = normals[t, 0], normals[t, 1], normals[t, 2]
+            s_re[:, :] = 0.0
+            s_im[:, :] = 0.0
+            ks_re[:, :] = 0.0
+            ks_im[:, :] = 0.0
+            kt_re[:, :] = 0.0
+            kt_im[:, :] = 0.0
+            for p in range(nq):
+                xp0 = xq[t, p, 0]
+                xp1 = xq[t, p, 1]
+                xp2 = xq[t, p, 2]
+                acc[:, :] = 0.0
+                for q in range(nq):
+                    r0 = xq[s, q, 0] - xp0
+                    r1 = xq[s, q, 1] - xp1
+                    r2 = xq[s, q, 2] - xp2
+                    rr = r0 * r0 + r1 * r1 + r2 * r2
+                    r = np.sqrt(rr)
+                    kr = k * r
+                    gw = w[q] * inv4pi / r
+                    g_re = np.cos(kr) * gw
+                    g_im = np.sin(kr) * gw
+                    # ∂_r G / r = G (ikr - 1) / r²
+                    d_re = -(g_re + kr * g_im) / rr
+                    d_im = (kr * g_re - g_im) / rr
+                    rs = r0 * ns0 + r1 * ns1 + r2 * ns2
+                    rt = r0 * nt0 + r1 * nt1 + r2 * nt2
+                    for b in range(3):
+                        f = phi[q, b]
+                        acc[0, b] += g_re * f
+                        acc[1, b] += g_im * f
+                        acc[2, b] += d_re * rs * f
+                        acc[3, b] += d_im * rs * f
+                        acc[4, b] += d_re * rt * f
+                        acc[5, b] += d_im * rt * f
+                for a in range(3):
+                    wa = w[p] * phi[p, a]
+                    for b in range(3):
+                        s_re[a, b] += wa * acc[0, b]
+                        s_im[a, b] += wa * acc[1, b]
+                        ks_re[a, b] += wa * acc[2, b]
+                        ks_im[a, b] += wa * acc[3, b]
+                        kt_re[a, b] += wa * acc[4, b]
+                        kt_im[a, b] += wa * acc[5, b]
+            s0_re = 0.0
+            s0_im = 0.0
+            for a in range(3):
+                for b in range(3):
+                    s0_re += s_re[a, b]
+                    s0_im += s_im[a, b]
+            nn = nt0 * ns0 + nt1 * ns1 + nt2 * ns2
+            scale = areas[t] * areas[s]
+            for a in range(3):
+                row = triangles[t, a]
+                for b in range(3):
+                    col = triangles[s, b]
+                    cc = (curls[t, a, 0] * curls[s, b, 0] + curls[t, a, 1] * curls[s, b, 1]
+                          + curls[t, a, 2] * curls[s, b, 2])
+                    wr = cc * s0_re - k2 * nn * s_re[a, b]
+                    wi = cc * s0_im - k2 * nn * s_im[a, b]
+                    # η W with η = eta_re + i eta_im
+                    ew_re = eta_re * wr - eta_im * wi
+                    ew_im = eta_re * wi + eta_im * wr
+                    ahead[row, col] += scale * complex(ew_re - ks_re[a, b], ew_im - ks_im[a, b])
+                    behind[row, col] += scale * complex(ew_re + kt_re[a, b], ew_im + kt_im[a, b])
+
+
+def _rule_arrays(order):
+    bary, w = _gauss(order)
+    return np.ascontiguousarray(bary), np.ascontiguousarray(w)
+
+
+def add_regular_part(out, surface, k, eta, far_ratio=FAR_RATIO):
+    """Add the regular (non-touching pairs) part of -K + ηW to ``out`` in place.
+
+    Holds one more (nv, nv) complex array while it runs.
+
+    Parameters
+    ----------
+    out : (nv, nv) ndarray of complex128, C-contiguous
+    surface : Surface
+    k : float
+        Wavenumber [rad/m].
+    eta : complex
+        Burton–Miller coupling η.
+    far_ratio : float
+        Pairs further apart than this many element sizes use the 3-point
+        rule; ``numpy.inf`` uses the 6-point rule everywhere (as bempp-cl).
+    """
+    pts = np.ascontiguousarray(surface.vertices[surface.triangles])
+    centroids = pts.mean(axis=1)
+    curls = np.ascontiguousarray(surface_curls(surface.vertices, surface.triangles, surface.normals))
+    near_phi, near_w = _rule_arrays(NEAR_ORDER)
+    far_phi, far_w = _rule_arrays(FAR_ORDER)
+    near_x = np.ascontiguousarray(np.einsum("qa,tai->tqi", near_phi, pts))
+    far_x = np.ascontiguousarray(np.einsum("qa,tai->tqi", far_phi, pts))
+    triangles = np.ascontiguousarray(surface.triangles, dtype=np.int64)
+    behind = np.zeros_like(out)
+    for members in colour_triangles(triangles):
+        _regular(out, behind, triangles, surface.normals, surface.areas, surface.sizes, centroids, curls,
+                 near_x, near_phi, near_w, far_x, far_phi, far_w, members, float(k),
+                 float(np.real(eta)), float(np.imag(eta)), float(far_ratio))
+    out += behind.T
+
+
+def add_singular_part(out, p1, k, eta, device):
+    """Add the touching-pairs part of -K + ηW (bempp-cl's singular quadrature) to ``out``."""
+    api = bempp()
+    helm = api.operators.boundary.helmholtz
+    opts = {"assembler": "only_singular_part", "device_interface": device, "precision": "double"}
+    for op, factor in ((helm.double_layer, -1.0), (helm.hypersingular, eta)):
+        if factor == 0:
+            continue
+        part = op(p1, p1, p1, k, **opts).weak_form().A.tocoo()
+        np.add.at(out, (part.row, part.col), factor * part.data)
+
+
+def burton_miller_matrix(surface, p1, k, eta, device, far_ratio=FAR_RATIO):
+    """The dense Galerkin matrix ½M - K + ηW of the hard-body Burton–Miller equation.
+
+    Parameters
+    ----------
+    surface : Surface
+    p1 : bempp-cl P1 space on the same grid (vertex numbering as ``surface``)
+    k : float
+        Wavenumber [rad/m].
+    eta : complex
+        Coupling η (i/k for Burton–Miller; 0 for the plain equation).
+    device : str
+        bempp-cl device for the singular part.
+    far_ratio : float
+        See :func:`add_regular_part`.
+
+    Returns
+    -------
+    (nv, nv) ndarray of complex128
+    """
+    nv = surface.n_vertices
+    out = np.zeros((nv, nv), dtype=np.complex128)
+    add_regular_part(out, surface, k, eta, far_ratio)
+    add_singular_part(out, p1, k, eta, device)
+    mass = surface.mass_matrix().tocoo()
+    np.add.at(out, (mass.row, mass.col), 0.5 * mass.data)
+    return out

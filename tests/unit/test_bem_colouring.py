@@ -1,0 +1,46 @@
+"""Pieces of the fused assembly: the triangle colouring and the P1 surface curls."""
+
+import numpy as np
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from bemcheck.solvers.bem_assembly import colour_triangles, surface_curls
+from tests.support.icosphere import icosphere
+
+
+def _check_colouring(triangles):
+    groups = colour_triangles(triangles)
+    seen = np.sort(np.concatenate(groups))
+    assert np.array_equal(seen, np.arange(len(triangles)))       # each triangle once
+    for g in groups:
+        corners = triangles[g].reshape(-1)
+        assert len(np.unique(corners)) == len(corners)            # no shared vertex in a group
+
+
+def test_colouring_of_a_sphere():
+    mesh = icosphere(1.0, 6)
+    _check_colouring(mesh.triangles)
+    # a vertex where m triangles meet needs m colours; geodesic vertices have 5 or 6
+    assert 6 <= len(colour_triangles(mesh.triangles)) <= 16
+
+
+@settings(max_examples=50, deadline=None)
+@given(st.lists(st.lists(st.integers(0, 12), min_size=3, max_size=3, unique=True), min_size=1, max_size=40))
+def test_colouring_of_any_triangle_soup(rows):
+    _check_colouring(np.array(rows))
+
+
+def test_surface_curl_is_normal_cross_gradient():
+    """For P1 on a triangle, ∇φ_a is constant, sums to zero over a and satisfies
+    ∇φ_a·(p_b - p_c) = δ_ab - δ_ac (linear interpolation, any FEM text, e.g.
+    Sauter & Schwab 2011, Boundary Element Methods, sec. 4.1)."""
+    rng = np.random.default_rng(4)
+    p = rng.normal(size=(3, 3))
+    n = np.cross(p[1] - p[0], p[2] - p[0])
+    n /= np.linalg.norm(n)
+    curls = surface_curls(p, np.array([[0, 1, 2]]), n[None])[0]
+    grads = -np.cross(n, curls)                  # n × (n × g) = -g for tangent g
+    assert np.allclose(curls @ n, 0.0) and np.allclose(curls.sum(axis=0), 0.0)
+    for a in range(3):
+        for b in range(3):
+            assert np.isclose(grads[a] @ (p[b] - p[0]), (a == b) - (a == 0))
