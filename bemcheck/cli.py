@@ -7,11 +7,13 @@ file whose path is printed).
 
 import argparse
 import errno
+import logging
 import os
 import sys
 import tempfile
 import traceback
 import warnings
+from contextlib import contextmanager
 from importlib.metadata import version
 from pathlib import Path
 
@@ -45,7 +47,7 @@ def _parser():
     r.add_argument("--no-report", action="store_true", help="skip the HTML report")
     talk = r.add_mutually_exclusive_group()
     talk.add_argument("--quiet", action="store_true", help="no progress lines")
-    talk.add_argument("--verbose", action="store_true", help="also print each solve's timings")
+    talk.add_argument("--verbose", action="store_true", help="also print each task's mesh, timings, device and stored file, the mesh cache's hits and the numerical error per band")
 
     m = sub.add_parser("mesh", help="mesh a case's bodies for each frequency band and print the mesh statistics")
     m.add_argument("case", type=Path, help="case file (TOML)")
@@ -121,13 +123,58 @@ def _cmd_run(args, out):
     options = {}
     if args.model != "free":
         options = {"workers": args.workers, "scheduler": args.scheduler, "device": args.device, "cache_dir": args.mesh_cache, "quiet": args.quiet}
+    bands = _verbose_before(case, args) if args.verbose else None
     outcome = run_case(case, args.out, model=args.model, report=not args.no_report, **options)
+    if bands:
+        _verbose_after(bands, outcome)
     for line in outcome.verdict_lines:
         print(line, file=out)
     print(f"results: {outcome.results}", file=out)
     if outcome.report is not None:
         print(f"report:  {outcome.report}", file=out)
     return EXIT_OK
+
+
+def _verbose_before(case, args):
+    """Say what the BEM sweep will find in the mesh cache; return the bands (None for --model free)."""
+    if args.model == "free":
+        print("free-field model only: no BEM tasks, no meshes", file=sys.stderr)
+        return None
+    from bemcheck.mesh import plan_bands
+    from bemcheck.run.verbose import mesh_cache_lines
+
+    bands = plan_bands(case)
+    for line in mesh_cache_lines(case, bands, args.mesh_cache):
+        print(line, file=sys.stderr)
+    return bands
+
+
+def _verbose_after(bands, outcome):
+    from bemcheck.run.results import read_dataset
+    from bemcheck.run.verbose import numerical_error_lines
+
+    for line in numerical_error_lines(bands, read_dataset(outcome.results)):
+        print(line, file=sys.stderr)
+    print(f"run folder: {outcome.folder} (each task's answer under {outcome.folder / 'parts'})", file=sys.stderr)
+
+
+@contextmanager
+def _task_details(enabled):
+    """Show the library's INFO records (each task's mesh, timings, device, stored file) on stderr."""
+    if not enabled:
+        yield
+        return
+    logger = logging.getLogger("bemcheck")
+    handler = logging.StreamHandler(sys.stderr)
+    handler.setFormatter(logging.Formatter("%(message)s"))
+    level = logger.level
+    logger.addHandler(handler)
+    logger.setLevel(logging.INFO)
+    try:
+        yield
+    finally:
+        logger.removeHandler(handler)
+        logger.setLevel(level)
 
 
 def _cmd_mesh(args, out):
@@ -185,7 +232,8 @@ def main(argv=None):
             warnings.simplefilter("ignore", DeprecationWarning)
             warnings.simplefilter("ignore", PendingDeprecationWarning)
             warnings.showwarning = _show_warning
-            return _COMMANDS[args.command](args, sys.stdout)
+            with _task_details(getattr(args, "verbose", False)):
+                return _COMMANDS[args.command](args, sys.stdout)
     except BemcheckInputError as exc:
         print(f"bemcheck: error: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT

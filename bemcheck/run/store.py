@@ -61,6 +61,11 @@ class PartStore:
         np.savez(buf, __meta__=np.array(json.dumps(meta)), **arrays)
         atomic_write_bytes(self.path(key), buf.getvalue())
 
+    def meta(self, key):
+        """The metadata stored under ``key`` (its arrays left unread)."""
+        with np.load(self.path(key), allow_pickle=False) as z:
+            return json.loads(str(z["__meta__"]))
+
     def load(self, key):
         """(arrays, meta) stored under ``key``."""
         with np.load(self.path(key), allow_pickle=False) as z:

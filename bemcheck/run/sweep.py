@@ -9,6 +9,7 @@ result is the same bit for bit (each task is a pure function of its inputs).
 import dataclasses
 import hashlib
 import json
+import logging
 import os
 import sys
 import time
@@ -21,6 +22,10 @@ from bemcheck.run.tasks import PART_FORMAT
 # many times finer everywhere (the issue's figure; P1 errors fall as h², so
 # the difference estimates the coarse mesh's error to within about a factor 1.8).
 SELF_CHECK_REFINE = 1.5
+
+# What `bemcheck run --verbose` shows beyond the progress lines (each task's
+# mesh, timings, device and stored file) goes to this logger at INFO.
+log = logging.getLogger(__name__)
 
 # Threads each local worker may use: the workers share the cores, so BLAS
 # and numba must not each spread over all of them.
@@ -105,7 +110,11 @@ def plan_tasks(case, bands, harmonics=()):
 
 
 class Progress:
-    """One line per finished task on a stream (a live line on a terminal), with an ETA."""
+    """One line per finished task on a stream (a live line on a terminal), with an ETA.
+
+    When :data:`log` is enabled for INFO (``bemcheck run --verbose``) every
+    line stays on the screen, so that each task's details follow its line.
+    """
 
     def __init__(self, total, stream=None, quiet=False):
         self.total = total
@@ -113,7 +122,7 @@ class Progress:
         self.stream = stream or sys.stderr
         self.quiet = quiet
         self.start = time.monotonic()
-        self.live = hasattr(self.stream, "isatty") and self.stream.isatty()
+        self.live = hasattr(self.stream, "isatty") and self.stream.isatty() and not log.isEnabledFor(logging.INFO)
 
     def update(self, task, info=""):
         self.done += 1
@@ -162,12 +171,15 @@ def execute(tasks, solve, store, *, workers=1, scheduler=None, progress=None):
         for t in tasks:
             if store.has(t.key):
                 progress.update(t, "(stored)")
+                if log.isEnabledFor(logging.INFO):
+                    log.info("%s", describe_task(t, store.meta(t.key), store.path(t.key), stored=True))
 
     def finish(task, answer):
         arrays, meta = answer
         store.save(task.key, arrays, meta)
         if progress is not None:
             progress.update(task, meta.get("summary", ""))
+        log.info("%s", describe_task(task, meta, store.path(task.key)))
 
     if not todo:
         return 0
@@ -196,3 +208,62 @@ def _execute_dask(todo, solve, address, finish):
         futures = {client.submit(solve, t, key=f"bemcheck-{t.key}", pure=False, retries=3): t for t in todo}
         for fut in dask_completed(list(futures)):
             finish(futures[fut], fut.result())
+
+
+def describe_task(task, meta, path, stored=False):
+    """What ``--verbose`` says about one finished task: mesh, timings, device, where it is stored.
+
+    Parameters
+    ----------
+    task : Task
+    meta : dict
+        The task's metadata as :func:`bemcheck.run.tasks.bem_task` makes it
+        (``elements``, ``unknowns``, ``element_size`` [m],
+        ``elements_per_wavelength``, ``device``, ``seconds``, ``timings``
+        [s]); keys a solver left out are left out here.
+    path : Path
+        The task's stored file.
+    stored : bool
+        Found stored by an earlier run rather than computed now.
+
+    Returns
+    -------
+    str
+        Indented lines, no trailing newline.
+
+    Examples
+    --------
+    >>> t = Task("k", 400.0, 0, 0.1)
+    >>> print(describe_task(t, {"elements": 84, "unknowns": 44, "element_size": 0.1, "elements_per_wavelength": 8.6,
+    ...                         "device": "numba", "seconds": 2.0, "timings": {"assembly": 1.5, "lu": 0.1}}, "p/k.npz"))
+        mesh: 84 elements, 44 unknowns, largest edge 100.0 mm, 8.6 elements per wavelength
+        time: assembly 1.50 s, lu 0.10 s, other (meshing, set-up) 0.40 s; 2.00 s in all on numba
+        stored: p/k.npz
+    """
+    lines = []
+    elements = meta.get("elements")
+    if elements == 0:
+        lines.append("mesh: none (no bodies: the BEM answers the free field)")
+    elif elements is not None:
+        what = [f"{elements} elements"]
+        if meta.get("unknowns") is not None:
+            what.append(f"{meta['unknowns']} unknowns")
+        if meta.get("element_size"):
+            what.append(f"largest edge {1e3 * meta['element_size']:.1f} mm")
+        if meta.get("elements_per_wavelength"):
+            what.append(f"{meta['elements_per_wavelength']:.1f} elements per wavelength")
+        lines.append("mesh: " + ", ".join(what) + (" (self-check, finer)" if task.refine else ""))
+    timings = meta.get("timings") or {}
+    seconds = meta.get("seconds")
+    if timings or seconds is not None:
+        parts = [f"{name} {value:.2f} s" for name, value in timings.items()]
+        if seconds is not None and timings and seconds > sum(timings.values()):
+            parts.append(f"other (meshing, set-up) {seconds - sum(timings.values()):.2f} s")
+        line = "time: " + ", ".join(parts)
+        if seconds is not None:
+            line += ("; " if parts else "") + f"{seconds:.2f} s in all"
+        if meta.get("device") not in (None, "", "none"):
+            line += f" on {meta['device']}"
+        lines.append(line)
+    lines.append(f"{'stored earlier' if stored else 'stored'}: {path}")
+    return "\n".join("    " + line for line in lines)
