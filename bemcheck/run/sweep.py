@@ -179,7 +179,8 @@ def execute(tasks, solve, store, *, workers=1, scheduler=None, progress=None):
         store.save(task.key, arrays, meta)
         if progress is not None:
             progress.update(task, meta.get("summary", ""))
-        log.info("%s", describe_task(task, meta, store.path(task.key)))
+        if log.isEnabledFor(logging.INFO):
+            log.info("%s", describe_task(task, meta, store.path(task.key)))
 
     if not todo:
         return 0
