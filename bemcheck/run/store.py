@@ -87,6 +87,15 @@ def boot_id():
     return _read_first_line("/proc/sys/kernel/random/boot_id") or None
 
 
+def _stat_fields(pid):
+    """Fields 3 onwards of ``/proc/<pid>/stat``, or None."""
+    line = _read_first_line(f"/proc/{int(pid)}/stat")
+    if not line:
+        return None
+    # the command name (field 2) may hold spaces and parentheses: count after its last ')'
+    return line.rpartition(")")[2].split()
+
+
 def process_start(pid):
     """Start time of process ``pid`` in clock ticks after boot, or None if unknown.
 
@@ -95,12 +104,14 @@ def process_start(pid):
     process id.  None where /proc is missing (macOS, BSD) or the process is
     hidden or gone.
     """
-    line = _read_first_line(f"/proc/{int(pid)}/stat")
-    if not line:
-        return None
-    # the command name (field 2) may hold spaces and parentheses: count after its last ')'
-    fields = line.rpartition(")")[2].split()
-    return fields[19] if len(fields) > 19 else None
+    fields = _stat_fields(pid)
+    return fields[19] if fields is not None and len(fields) > 19 else None
+
+
+def _ended(pid):
+    """Whether /proc shows ``pid`` as ended but not yet reaped (state Z or X, proc(5) field 3)."""
+    fields = _stat_fields(pid)
+    return bool(fields) and fields[0] in ("Z", "X")
 
 
 @dataclass(frozen=True)
@@ -170,6 +181,8 @@ class LockOwner:
             return False
         except PermissionError:
             pass  # it exists, under another user
+        if _ended(self.pid):
+            return False  # killed, its parent has not collected it yet: kill(pid, 0) still answers
         if self.started is None:
             return True  # recorded without /proc: the process id is all there is
         now = process_start(self.pid)

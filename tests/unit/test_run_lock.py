@@ -76,6 +76,24 @@ def test_a_live_holder_with_its_own_start_time_is_respected(tmp_path, capsys):
     assert sorted(p.name for p in tmp_path.iterdir()) == sorted([LOCK, case.name])
 
 
+@needs_proc
+def test_a_killed_holder_not_yet_reaped_is_gone(tmp_path):
+    """A run killed while its parent has not yet waited for it stays a zombie: kill(pid, 0)
+    still succeeds and its start time is unchanged, yet it writes nothing more."""
+    child = subprocess.Popen([sys.executable, "-c", "pass"])
+    try:
+        end = time.monotonic() + 60
+        while store._stat_fields(child.pid)[0] != "Z":
+            assert time.monotonic() < end, "the child never ended"
+            time.sleep(0.01)
+        os.kill(child.pid, 0)  # still answers
+        _write_owner(tmp_path, pid=child.pid, started=process_start(child.pid))
+        with RunLock(tmp_path):
+            assert _lock_text(tmp_path)["pid"] == os.getpid()
+    finally:
+        child.wait()
+
+
 def test_a_lock_from_another_host_is_respected(tmp_path):
     """Processes of another machine cannot be seen from here: never take its lock,
     even when the process id is free here."""
