@@ -8,8 +8,10 @@ elements per wavelength = c / (f h) for the largest edge h, the definition
 results.nc states for ``elements_per_wavelength``.
 """
 
+import io
 import logging
 import re
+import sys
 from pathlib import Path
 
 import numpy as np
@@ -137,15 +139,10 @@ class _Capture:
     """stderr of a main() call made in a module-scoped fixture (capsys is function-scoped)."""
 
     def __enter__(self):
-        import io
-        import sys
-
         self._old, sys.stderr = sys.stderr, io.StringIO()
         return self
 
     def __exit__(self, *exc):
-        import sys
-
         self.err, sys.stderr = sys.stderr.getvalue(), self._old
 
 
