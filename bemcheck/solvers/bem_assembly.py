@@ -228,24 +228,30 @@ def _regular(ahead, behind, triangles, normals, areas, sizes, centroids, curls, 
                     r2 = xq[s, q, 2] - xp2
                     rr = r0 * r0 + r1 * r1 + r2 * r2
                     r = np.sqrt(rr)
+                    inv_r = 1.0 / r
                     kr = k * r
-                    gw = w[q] * inv4pi / r
+                    gw = w[q] * inv4pi * inv_r
                     co, si = cis(kr)
                     g_re = co * gw
                     g_im = si * gw
-                    # ∂_r G / r = G (ikr - 1) / r²
-                    d_re = -(g_re + kr * g_im) / rr
-                    d_im = (kr * g_re - g_im) / rr
+                    # ∂_r G / r = G (ikr - 1) / r², times (y - x)·n
+                    inv_rr = inv_r * inv_r
+                    d_re = -(g_re + kr * g_im) * inv_rr
+                    d_im = (kr * g_re - g_im) * inv_rr
                     rs = r0 * ns0 + r1 * ns1 + r2 * ns2
                     rt = r0 * nt0 + r1 * nt1 + r2 * nt2
+                    ds_re = d_re * rs
+                    ds_im = d_im * rs
+                    dt_re = d_re * rt
+                    dt_im = d_im * rt
                     for b in range(3):
                         f = phi[q, b]
                         acc[0, b] += g_re * f
                         acc[1, b] += g_im * f
-                        acc[2, b] += d_re * rs * f
-                        acc[3, b] += d_im * rs * f
-                        acc[4, b] += d_re * rt * f
-                        acc[5, b] += d_im * rt * f
+                        acc[2, b] += ds_re * f
+                        acc[3, b] += ds_im * f
+                        acc[4, b] += dt_re * f
+                        acc[5, b] += dt_im * f
                 for a in range(3):
                     wa = w[p] * phi[p, a]
                     for b in range(3):
