@@ -8,6 +8,11 @@ and reciprocity gives the rest (exact when one end of a pair moves, second
 order in the displacements when both do).  A velocity source (a piston on a
 cabinet's driver face) cannot move this way: its face is part of the
 scatterer, and moving it is a new geometry, hence a new solve.
+
+A Monte Carlo asks for thousands of moved layouts; :class:`MovedImpedance`
+evaluates a whole stack of them with one set of surface integrals
+(the batched form of :func:`~bemcheck.solvers.bem.perturbed_impedance`,
+equal to it to round-off).
 """
 
 from dataclasses import dataclass
@@ -15,7 +20,14 @@ from dataclasses import dataclass
 import numpy as np
 
 from bemcheck.mesh.distance import nearest_on_surface
+from bemcheck.solvers import freefield
 from bemcheck.solvers.bem import MIN_SOURCE_GAP, perturbed_impedance
+from bemcheck.solvers.bem_fields import Fields, check_targets
+from bemcheck.solvers.bem_surface import surface_from_mesh
+
+# Target-vertex pairs of surface integrals per block of a stack, to bound memory
+# (the double-layer moments are a dense (targets, vertices) complex matrix).
+_PAIRS_PER_BLOCK = 2_000_000
 
 
 @dataclass(frozen=True, eq=False)
@@ -84,7 +96,7 @@ class StoredSolve:
         return out
 
     def impedance_at(self, medium, order):
-        """``z_at(positions) -> Z`` for the sources ``order`` (case indices), in that order.
+        """Impedances of the sources ``order`` (case indices), in that order, at moved positions.
 
         Parameters
         ----------
@@ -95,23 +107,82 @@ class StoredSolve:
 
         Returns
         -------
-        callable
-            ``(len(order), 3) positions [m] -> (len(order), len(order))``
-            impedances [Pa per m³/s]; the velocity sources must stay at their
-            design positions (ValueError otherwise), the monopoles may move.
+        MovedImpedance
+            Called with ``(len(order), 3)`` positions [m] it gives the
+            ``(len(order), len(order))`` impedances [Pa per m³/s]; its
+            ``many`` takes a stack ``(T, len(order), 3)``.  The velocity
+            sources must stay at their design positions, the monopoles may move.
         """
-        order = np.asarray(order, dtype=int)
-        col = self.column[order]
-        mono = self.movable[order]
-        fixed = self.positions[order][~mono]
+        return MovedImpedance(self, medium, np.asarray(order, dtype=int))
 
-        def z_at(positions):
-            x = np.asarray(positions, dtype=float)
-            if not np.array_equal(x[~mono], fixed):
-                raise ValueError("positions: a velocity source (piston) moved; it moves only with a new solve")
-            moved = self.monopoles.copy()
-            moved[col[mono]] = x[mono]
-            z = perturbed_impedance(self, self.mesh, medium, moved)
-            return z[np.ix_(col, col)]
 
-        return z_at
+class MovedImpedance:
+    """Impedances of a stored solve's sources at moved monopole positions, one layout or a stack.
+
+    Parameters
+    ----------
+    stored : StoredSolve
+    medium : Medium
+    order : (K,) ndarray of int
+        Case indices of the sources asked for, in the order of the answer.
+    """
+
+    def __init__(self, stored, medium, order):
+        self.stored = stored
+        self.medium = medium
+        self.col = stored.column[order]
+        self.mono = stored.movable[order]
+        self.fixed = stored.positions[order][~self.mono]
+        surface = surface_from_mesh(stored.mesh)
+        self._surface = surface if surface.n_triangles else None
+        if self._surface is not None:
+            m = len(stored.monopoles)
+            f = stored.frequency
+            self._fields = Fields.build(surface, f, medium, stored.monopoles, stored.normal_velocity)
+            self._u = stored.surface_pressure[surface.mesh_vertex]
+            self._z_s = stored.impedance.copy()
+            self._z_s[:m] -= self._fields.pad(freefield.impedance_matrix(f, medium, stored.monopoles))
+
+    def __call__(self, positions):
+        """(K, 3) positions [m] -> (K, K) impedances [Pa per m³/s] (as perturbed_impedance)."""
+        moved = self._monopoles(np.asarray(positions, dtype=float)[None])[0]
+        z = perturbed_impedance(self.stored, self.stored.mesh, self.medium, moved)
+        return z[np.ix_(self.col, self.col)]
+
+    def many(self, positions):
+        """(T, K, 3) positions [m] -> (T, K, K) impedances [Pa per m³/s], one layout per row.
+
+        The same reciprocity update as
+        :func:`~bemcheck.solvers.bem.perturbed_impedance`, with the surface
+        integrals of every moved monopole of the stack done together.
+        """
+        x = np.asarray(positions, dtype=float)
+        moved = self._monopoles(x)
+        t, m = moved.shape[:2]
+        f = self.stored.frequency
+        if m == 0:
+            return np.repeat(self.stored.impedance[np.ix_(self.col, self.col)][None], t, axis=0)
+        free = np.array([freefield.impedance_matrix(f, self.medium, xm).reshape(m, m) for xm in moved])
+        if self._surface is None:
+            return free[:, self.col][:, :, self.col]
+        n_vertices = max(len(self._u), 1)
+        block = max(1, _PAIRS_PER_BLOCK // (m * n_vertices))
+        rows = []
+        for start in range(0, t, block):
+            flat = moved[start:start + block].reshape(-1, 3)
+            mom = self._fields.moments(flat)
+            check_targets(mom, flat, "moved", MIN_SOURCE_GAP)
+            rows.append(self._fields.scattered(mom, self._u))
+        e = np.broadcast_to(self._z_s, (t,) + self._z_s.shape).copy()
+        e[:, :m] = np.concatenate(rows).reshape(t, m, -1)
+        z = e + e.transpose(0, 2, 1) - self._z_s
+        z[:, :m, :m] += free
+        return z[:, self.col][:, :, self.col]
+
+    def _monopoles(self, x):
+        """(T, M, 3) monopole positions in solver order from (T, K, 3) positions in the caller's order."""
+        if not np.array_equal(x[:, ~self.mono], np.broadcast_to(self.fixed, x[:, ~self.mono].shape)):
+            raise ValueError("positions: a velocity source (piston) moved; it moves only with a new solve")
+        moved = np.broadcast_to(self.stored.monopoles, (len(x),) + self.stored.monopoles.shape).copy()
+        moved[:, self.col[self.mono]] = x[:, self.mono]
+        return moved

@@ -8,7 +8,9 @@ it was designed.  Attenuation is the drop in radiated power,
 The impedances come from a caller's function ``impedance_at(positions)``,
 (S, 3) -> (S, S), primaries first, so the same code serves the free-field
 model (:func:`bemcheck.solvers.freefield.impedance_matrix`) and a model with
-scattering bodies.
+scattering bodies.  If ``impedance_at`` also has a method
+``many(positions (T, S, 3)) -> (T, S, S)``, the random builds are evaluated
+through it, all at once (:class:`bemcheck.build.scattered.MovedImpedance`).
 
 Random errors are drawn once per call as unit-size offsets and scaled by the
 tolerance, so with one seed the draws at different tolerances are the same
@@ -90,7 +92,13 @@ class _Layout:
         return 10.0 * np.log10(self.primary_power / max(w, self.primary_power * 1e-30))
 
     def attenuations_db(self, offsets):
-        return np.array([self.attenuation_db(self.control_positions + d) for d in offsets])
+        many = getattr(self.impedance_at, "many", None)
+        if many is None:
+            return np.array([self.attenuation_db(self.control_positions + d) for d in offsets])
+        xp = np.broadcast_to(self.primary_positions, (len(offsets),) + self.primary_positions.shape)
+        z = many(np.concatenate([xp, self.control_positions + offsets], axis=1))
+        w = 0.5 * np.real(np.einsum("i,tij,j->t", self.q.conj(), z, self.q))
+        return 10.0 * np.log10(self.primary_power / np.maximum(w, self.primary_power * 1e-30))
 
 
 @dataclass(frozen=True)

@@ -7,8 +7,9 @@ kernels (in memory), so a long-lived worker pays the compile cost once.
 Besides the fields, a solve at a band's mesh keeps what re-evaluating the
 impedances at moved monopoles needs (the placement study with scattering,
 :mod:`bemcheck.build.scattered`): the total surface pressure of every source
-(N unknowns × S sources, complex), the pistons' normal velocities and the
-mesh itself, so no remeshing and no mesh cache is needed to use it later.
+(N unknowns × S sources, complex), the pistons' normal velocities (on their
+faces only) and the mesh itself, so no remeshing and no mesh cache is needed
+to use it later.
 """
 
 import numpy as np
@@ -18,9 +19,10 @@ from bemcheck.observers import for_observers
 
 # Version of what a task stores.  It enters every task's key
 # (bemcheck.run.sweep.plan_tasks), so parts written in another format are
-# never read as this one: 2 added the surface solution and the mesh.
-PART_FORMAT = 2
-SURFACE_ARRAYS = ("surface_pressure", "normal_velocity", "mesh_vertices", "mesh_triangles", "mesh_domains")
+# never read as this one: 3 added the surface solution and the mesh.
+PART_FORMAT = 3
+SURFACE_ARRAYS = ("surface_pressure", "velocity_triangles", "velocity_values", "mesh_vertices", "mesh_triangles",
+                  "mesh_domains")
 
 
 def _column_order(case):
@@ -107,9 +109,12 @@ def _surface_arrays(sol, mesh):
     from bemcheck.solvers.bem_surface import surface_from_mesh
 
     used = surface_from_mesh(mesh).mesh_vertex
+    v = np.asarray(sol.normal_velocity, dtype=float)  # (nt, V); only the pistons' faces are not zero
+    moving = np.flatnonzero(np.any(v != 0, axis=1))
     return {
         "surface_pressure": sol.surface_pressure[used],
-        "normal_velocity": np.asarray(sol.normal_velocity, dtype=float),
+        "velocity_triangles": moving.astype(np.int32),
+        "velocity_values": v[moving],
         "mesh_vertices": np.asarray(mesh.vertices, dtype=float),
         "mesh_triangles": np.asarray(mesh.triangles, dtype=np.int32),
         "mesh_domains": np.asarray(mesh.domains, dtype=np.int32),
@@ -146,12 +151,15 @@ def stored_solve(case, frequency, arrays):
     order, points, _ = _column_order(case)
     column = np.argsort(order)  # case source i sits in solver column column[i]
     x = np.array([s.position for s in case.sources], dtype=float)
+    values = arrays["velocity_values"]
+    velocity = np.zeros((mesh.n_triangles, values.shape[1]))
+    velocity[arrays["velocity_triangles"]] = values
     return StoredSolve(
         frequency=float(frequency),
         monopoles=x[points].reshape(-1, 3),
         impedance=arrays["impedance"][np.ix_(order, order)],
         surface_pressure=pressure,
-        normal_velocity=arrays["normal_velocity"],
+        normal_velocity=velocity,
         mesh=mesh,
         column=column,
         positions=x,
