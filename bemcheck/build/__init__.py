@@ -21,7 +21,9 @@ from bemcheck.build.drivers import (
     volume_velocity_per_volt,
 )
 from bemcheck.build.notes import Demand, DriveRow, DriverCheck, check_drivers, primary_volume_velocity
+from bemcheck.build.placement import HarmonicPlacement, PlacementStudy, Study, placement_study
 from bemcheck.build.safety import DEFAULT_LIMIT_DBA, EarLevels, a_weighting, ear_levels, overall_dba, sum_levels
+from bemcheck.build.scattered import MovedImpedance, StoredSolve
 from bemcheck.build.tolerance import PlacementSpread, ToleranceNeed, placement_spread, tolerance_for_loss
 
 __all__ = [
@@ -33,7 +35,12 @@ __all__ = [
     "Driver",
     "DriverCheck",
     "EarLevels",
+    "HarmonicPlacement",
+    "MovedImpedance",
     "PlacementSpread",
+    "PlacementStudy",
+    "StoredSolve",
+    "Study",
     "ToleranceNeed",
     "a_weighting",
     "check_driver",
@@ -47,6 +54,7 @@ __all__ = [
     "excursion_per_volt",
     "overall_dba",
     "placement_spread",
+    "placement_study",
     "primary_volume_velocity",
     "rated_voltage",
     "sum_levels",
