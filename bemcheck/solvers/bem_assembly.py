@@ -30,6 +30,8 @@ import numba
 import numpy as np
 
 from bemcheck.solvers.bem_device import bempp
+from bemcheck.solvers.bem_kernel import cis, surface_curls
+from bemcheck.solvers.bem_touching import add_touching_pairs, add_touching_velocity
 
 # Triangles whose centroids are further apart than FAR_RATIO times the larger
 # of their longest edges are integrated with the 3-point rule.  On rigid
@@ -99,66 +101,6 @@ def _greedy_colours(triangles, n_vertices):
         for a in range(3):
             used[triangles[t, a]] |= bit
     return colours
-
-
-def surface_curls(vertices, triangles, normals):
-    """Surface curls n × ∇φ_a of the three P1 functions of each triangle.
-
-    Parameters
-    ----------
-    vertices : (nv, 3) ndarray [m]
-    triangles : (nt, 3) ndarray of int
-    normals : (nt, 3) ndarray, unit
-
-    Returns
-    -------
-    (nt, 3, 3) ndarray [1/m]
-        ``curls[t, a]`` for local vertex a.
-    """
-    p = vertices[triangles]
-    # ∇φ_a is perpendicular to the opposite edge e_a, pointing to vertex a:
-    # ∇φ_a = n × e_a / (2A) with e_a running from vertex a+1 to a+2.
-    edges = np.stack([p[:, 2] - p[:, 1], p[:, 0] - p[:, 2], p[:, 1] - p[:, 0]], axis=1)
-    twice_area = np.linalg.norm(np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]), axis=1)
-    grads = np.cross(normals[:, None, :], edges) / twice_area[:, None, None]
-    return np.cross(normals[:, None, :], grads)
-
-
-_TWO_OVER_PI = 2.0 / np.pi
-_PI_OVER_2 = np.pi / 2.0
-
-
-@numba.njit(inline="always", fastmath=True, cache=True)
-def cis(x):
-    """(cos x, sin x) for x >= 0, about twice as fast as the two libm calls.
-
-    The argument is reduced by multiples of π/2 to y in [-π/4, π/4], where
-    the Taylor series stopped after y^15 (sine) and y^16 (cosine) has a
-    remainder below (π/4)^17/17! = 4e-17.  The reduction loses about
-    x/(π/2) units in the last place: 1e-14 absolute at x = 100 rad, far
-    below the quadrature error.
-
-    Examples
-    --------
-    >>> c, s = cis(2.0)
-    >>> bool(abs(c - np.cos(2.0)) < 1e-15 and abs(s - np.sin(2.0)) < 1e-15)
-    True
-    """
-    n = np.floor(x * _TWO_OVER_PI + 0.5)
-    y = x - n * _PI_OVER_2
-    z = y * y
-    s = y * (1.0 + z * (-1.0 / 6 + z * (1.0 / 120 + z * (-1.0 / 5040 + z * (1.0 / 362880 + z * (
-        -1.0 / 39916800 + z * (1.0 / 6227020800 + z * (-1.0 / 1307674368000))))))))
-    c = 1.0 + z * (-0.5 + z * (1.0 / 24 + z * (-1.0 / 720 + z * (1.0 / 40320 + z * (-1.0 / 3628800 + z * (
-        1.0 / 479001600 + z * (-1.0 / 87178291200 + z * (1.0 / 20922789888000))))))))
-    quadrant = int(n) & 3
-    if quadrant == 0:
-        return c, s
-    if quadrant == 1:
-        return -s, c
-    if quadrant == 2:
-        return -c, -s
-    return s, -c
 
 
 @numba.njit(parallel=True, fastmath=True, cache=True)
@@ -284,6 +226,53 @@ def _regular(ahead, behind, triangles, normals, areas, sizes, centroids, curls, 
                     behind[row, col] += scale * complex(ew_re + kt_re[a, b], ew_im + kt_im[a, b])
 
 
+@numba.njit(parallel=True, fastmath=True, cache=True)
+def _regular_velocity(out, support, triangles, normals, areas, sizes, centroids, near_x, near_phi, near_w,
+                      far_x, far_phi, far_w, k, eta_re, eta_im, far_ratio):
+    """Add the regular part of V + ηK' for a constant trial function on each support triangle.
+
+    Column j belongs to triangle support[j]; columns are independent, so the
+    support triangles are shared out among the threads.
+    """
+    nt = triangles.shape[0]
+    inv4pi = 1.0 / (4.0 * np.pi)
+    for j in numba.prange(support.shape[0]):
+        s = support[j]
+        sa0, sa1, sa2 = triangles[s, 0], triangles[s, 1], triangles[s, 2]
+        v = np.zeros(3, dtype=np.complex128)
+        for t in range(nt):
+            if (triangles[t, 0] == sa0 or triangles[t, 0] == sa1 or triangles[t, 0] == sa2
+                    or triangles[t, 1] == sa0 or triangles[t, 1] == sa1 or triangles[t, 1] == sa2
+                    or triangles[t, 2] == sa0 or triangles[t, 2] == sa1 or triangles[t, 2] == sa2):
+                continue
+            dx = centroids[s, 0] - centroids[t, 0]
+            dy = centroids[s, 1] - centroids[t, 1]
+            dz = centroids[s, 2] - centroids[t, 2]
+            reach = far_ratio * max(sizes[s], sizes[t])
+            if dx * dx + dy * dy + dz * dz > reach * reach:
+                xq, phi, w = far_x, far_phi, far_w
+            else:
+                xq, phi, w = near_x, near_phi, near_w
+            v[:] = 0.0
+            for p in range(w.shape[0]):
+                total = 0.0 + 0.0j
+                for q in range(w.shape[0]):
+                    r0 = xq[s, q, 0] - xq[t, p, 0]
+                    r1 = xq[s, q, 1] - xq[t, p, 1]
+                    r2 = xq[s, q, 2] - xq[t, p, 2]
+                    r = np.sqrt(r0 * r0 + r1 * r1 + r2 * r2)
+                    co, si = cis(k * r)
+                    g = complex(co, si) * (w[q] * inv4pi / r)
+                    # V: G;  K': ∂G/∂n_x = -G (ikr - 1)/r² (y - x)·n_t
+                    rt = r0 * normals[t, 0] + r1 * normals[t, 1] + r2 * normals[t, 2]
+                    dn = -g * complex(-1.0, k * r) * rt / (r * r)
+                    total += g + complex(eta_re, eta_im) * dn
+                for a in range(3):
+                    v[a] += w[p] * phi[p, a] * total
+            for a in range(3):
+                out[triangles[t, a], j] += areas[t] * areas[s] * v[a]
+
+
 def _rule_arrays(order):
     bary, w = _gauss(order)
     return np.ascontiguousarray(bary), np.ascontiguousarray(w)
@@ -306,49 +295,65 @@ def add_regular_part(out, surface, k, eta, far_ratio=FAR_RATIO):
         Pairs further apart than this many element sizes use the 3-point
         rule; ``numpy.inf`` uses the 6-point rule everywhere (as bempp-cl).
     """
-    pts = np.ascontiguousarray(surface.vertices[surface.triangles])
-    centroids = pts.mean(axis=1)
+    triangles, centroids, near, far = _points(surface)
     curls = np.ascontiguousarray(surface_curls(surface.vertices, surface.triangles, surface.normals))
-    near_phi, near_w = _rule_arrays(NEAR_ORDER)
-    far_phi, far_w = _rule_arrays(FAR_ORDER)
-    near_x = np.ascontiguousarray(np.einsum("qa,tai->tqi", near_phi, pts))
-    far_x = np.ascontiguousarray(np.einsum("qa,tai->tqi", far_phi, pts))
-    triangles = np.ascontiguousarray(surface.triangles, dtype=np.int64)
     behind = np.zeros_like(out)
     for members in colour_triangles(triangles):
         _regular(out, behind, triangles, surface.normals, surface.areas, surface.sizes, centroids, curls,
-                 near_x, near_phi, near_w, far_x, far_phi, far_w, members, float(k),
-                 float(np.real(eta)), float(np.imag(eta)), float(far_ratio))
+                 *near, *far, members, float(k), float(np.real(eta)), float(np.imag(eta)), float(far_ratio))
     out += behind.T
 
 
-def add_singular_part(out, p1, k, eta, device, order=SINGULAR_ORDER):
-    """Add the touching-pairs part of -K + ηW (bempp-cl's singular quadrature of ``order``) to ``out``."""
-    api = bempp()
-    helm = api.operators.boundary.helmholtz
-    parameters = api.DefaultParameters()
-    parameters.quadrature.singular = order
-    opts = {"assembler": "only_singular_part", "device_interface": device, "precision": "double", "parameters": parameters}
-    for op, factor in ((helm.double_layer, -1.0), (helm.hypersingular, eta)):
-        if factor == 0:
-            continue
-        part = op(p1, p1, p1, k, **opts).weak_form().A.tocoo()
-        np.add.at(out, (part.row, part.col), factor * part.data)
+def _points(surface):
+    """Triangles, centroids and both Gauss rules' points on every triangle."""
+    corners = surface.vertices[surface.triangles]
+    rules = []
+    for order in (NEAR_ORDER, FAR_ORDER):
+        phi, w = _rule_arrays(order)
+        rules.append((np.ascontiguousarray(np.einsum("qa,tai->tqi", phi, corners)), phi, w))
+    triangles = np.ascontiguousarray(surface.triangles, dtype=np.int64)
+    return triangles, corners.mean(axis=1), rules[0], rules[1]
 
 
-def burton_miller_matrix(surface, p1, k, eta, device, far_ratio=FAR_RATIO, singular_order=SINGULAR_ORDER):
+def velocity_matrix(surface, grid, support, k, eta, far_ratio=FAR_RATIO, singular_order=SINGULAR_ORDER):
+    """V + ηK' from a constant normal derivative on each support triangle to the P1 test functions.
+
+    Parameters
+    ----------
+    surface : Surface
+    grid : bempp-cl Grid of ``surface``
+    support : (n_sup,) array_like of int
+        Sorted triangle indices.
+    k : float
+        Wavenumber [rad/m].
+    eta : complex
+        Burton–Miller coupling η.
+
+    Returns
+    -------
+    (nv, n_sup) ndarray of complex128
+        Without the ½ηM term of ½I in the adjoint equation.
+    """
+    support = np.ascontiguousarray(support, dtype=np.int64)
+    out = np.zeros((surface.n_vertices, len(support)), dtype=np.complex128)
+    triangles, centroids, near, far = _points(surface)
+    _regular_velocity(out, support, triangles, surface.normals, surface.areas, surface.sizes, centroids,
+                      *near, *far, float(k), float(np.real(eta)), float(np.imag(eta)), float(far_ratio))
+    add_touching_velocity(out, surface, grid, support, k, eta, singular_order)
+    return out
+
+
+def burton_miller_matrix(surface, grid, k, eta, far_ratio=FAR_RATIO, singular_order=SINGULAR_ORDER):
     """The dense Galerkin matrix ½M - K + ηW of the hard-body Burton–Miller equation.
 
     Parameters
     ----------
     surface : Surface
-    p1 : bempp-cl P1 space on the same grid (vertex numbering as ``surface``)
+    grid : bempp-cl Grid of ``surface`` (same vertex and triangle numbering)
     k : float
         Wavenumber [rad/m].
     eta : complex
         Coupling η (i/k for Burton–Miller; 0 for the plain equation).
-    device : str
-        bempp-cl device for the singular part.
     far_ratio : float
         See :func:`add_regular_part`.
     singular_order : int
@@ -361,7 +366,7 @@ def burton_miller_matrix(surface, p1, k, eta, device, far_ratio=FAR_RATIO, singu
     nv = surface.n_vertices
     out = np.zeros((nv, nv), dtype=np.complex128)
     add_regular_part(out, surface, k, eta, far_ratio)
-    add_singular_part(out, p1, k, eta, device, singular_order)
+    add_touching_pairs(out, surface, grid, k, eta, singular_order)
     mass = surface.mass_matrix().tocoo()
     np.add.at(out, (mass.row, mass.col), 0.5 * mass.data)
     return out

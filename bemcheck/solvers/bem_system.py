@@ -11,22 +11,21 @@ prescribed normal derivative ∂p/∂n = iωρ v_n (zero on rigid parts):
 for bempp-cl's operators was measured on a rigid sphere, see
 /work/shared/design.md).  Outside, p = p_inc + DL(u) - SL(g).
 
-The matrix is assembled by :mod:`bemcheck.solvers.bem_assembly` (regular
-pairs in one fused pass, touching pairs by bempp-cl's singular quadrature);
-V and K' for prescribed velocities come from bempp-cl; the mass matrices and
-all right-hand sides are built with numpy.
+The matrix and the velocity operators V and K' are assembled by
+:mod:`bemcheck.solvers.bem_assembly` (regular pairs) and
+:mod:`bemcheck.solvers.bem_touching` (touching pairs, with bempp-cl's
+Sauter–Schwab rules); bempp-cl provides the grid and its adjacency; the
+mass matrices and all right-hand sides are built with numpy.
 """
 
 import time
-import warnings
 from dataclasses import dataclass
 
 import numpy as np
-from numba.core.errors import NumbaPerformanceWarning
 from scipy.linalg import lu_factor, lu_solve
 from scipy.sparse import coo_matrix
 
-from bemcheck.solvers.bem_assembly import burton_miller_matrix
+from bemcheck.solvers.bem_assembly import burton_miller_matrix, velocity_matrix
 from bemcheck.solvers.bem_device import bempp, current_device
 
 
@@ -43,7 +42,7 @@ class System:
     lu : tuple
         ``scipy.linalg.lu_factor`` of the (nv, nv) Galerkin matrix.
     surface : Surface
-    grid, p1 : bempp-cl objects
+    grid : bempp-cl Grid
         Kept to assemble the velocity operators on the same grid.
     device : str
         ``"numba"`` or ``"opencl"``.
@@ -56,7 +55,6 @@ class System:
     lu: tuple
     surface: object
     grid: object
-    p1: object
     device: str
     seconds: dict
 
@@ -66,23 +64,15 @@ class System:
 
 
 def _grid(surface):
-    api = bempp()
-    grid = api.Grid(
+    """bempp-cl's grid of ``surface``: its adjacency lists the touching pairs."""
+    grid = bempp().Grid(
         surface.vertices.T.copy(),
         surface.triangles.T.astype(np.uint32),
         surface.domains.astype(np.uint32),
     )
-    p1 = api.function_space(grid, "P", 1)
-    if not np.array_equal(p1.local2global, surface.triangles):
-        raise RuntimeError("bempp-cl numbered the P1 unknowns unlike the mesh vertices; this version is not supported")
-    return grid, p1
-
-
-def _dense(operator):
-    with warnings.catch_warnings():
-        # numba's notes on non-contiguous arrays inside bempp-cl: not ours to act on.
-        warnings.simplefilter("ignore", NumbaPerformanceWarning)
-        return operator.weak_form().to_dense()
+    if not np.array_equal(grid.elements, surface.triangles.T):
+        raise RuntimeError("bempp-cl numbered the triangles unlike the mesh; this version is not supported")
+    return grid
 
 
 def assemble(surface, k, coupling=None):
@@ -105,12 +95,12 @@ def assemble(surface, k, coupling=None):
     device = current_device()
     eta = 1j / k if coupling is None else complex(coupling)
     t0 = time.perf_counter()
-    grid, p1 = _grid(surface)
-    a = burton_miller_matrix(surface, p1, k, eta, device)
+    grid = _grid(surface)
+    a = burton_miller_matrix(surface, grid, k, eta)
     t1 = time.perf_counter()
     lu = lu_factor(a, overwrite_a=True, check_finite=False)
     t2 = time.perf_counter()
-    return System(k, eta, lu, surface, grid, p1, device, {"assembly": t1 - t0, "lu": t2 - t1})
+    return System(k, eta, lu, surface, grid, device, {"assembly": t1 - t0, "lu": t2 - t1})
 
 
 def velocity_rhs(system, support, g):
@@ -128,15 +118,10 @@ def velocity_rhs(system, support, g):
     -------
     (nv, V) ndarray of complex
     """
-    api = bempp()
     surface = system.surface
     support = np.asarray(support, dtype=int)
-    dp0 = api.function_space(system.grid, "DP", 0, support_elements=support)
-    helm = api.operators.boundary.helmholtz
-    opts = {"assembler": "dense", "device_interface": system.device, "precision": "double"}
-    op = _dense(helm.single_layer(dp0, system.p1, system.p1, system.k, **opts))
+    op = velocity_matrix(surface, system.grid, support, system.k, system.coupling)
     if system.coupling != 0:
-        op += system.coupling * _dense(helm.adjoint_double_layer(dp0, system.p1, system.p1, system.k, **opts))
         op += system.coupling * 0.5 * mixed_mass(surface, support).toarray()
     return -(op @ np.asarray(g))
 

@@ -9,9 +9,11 @@ a small fraction of the discretisation error.
 """
 
 import functools
+import warnings
 
 import numpy as np
 import pytest
+from numba.core.errors import NumbaPerformanceWarning
 
 from bemcheck.case.model import Medium
 from bemcheck.solvers import freefield
@@ -24,13 +26,31 @@ from bemcheck.solvers.bem_surface import surface_from_mesh
 from tests.support.icosphere import icosphere, voxel_body
 
 
-def _bempp_matrix(surface, p1, k, eta):
+def _dense(operator):
+    with warnings.catch_warnings():
+        # numba's notes on non-contiguous arrays inside bempp-cl
+        warnings.simplefilter("ignore", NumbaPerformanceWarning)
+        return operator.weak_form().to_dense()
+
+
+def _bempp_matrix(grid, surface, k, eta):
+    p1 = bempp().function_space(grid, "P", 1)
+    assert np.array_equal(p1.local2global, surface.triangles)
     helm = bempp().operators.boundary.helmholtz
     opts = {"assembler": "dense", "device_interface": current_device(), "precision": "double"}
-    a = -bem_system._dense(helm.double_layer(p1, p1, p1, k, **opts))
-    a += eta * bem_system._dense(helm.hypersingular(p1, p1, p1, k, **opts))
+    a = -_dense(helm.double_layer(p1, p1, p1, k, **opts))
+    a += eta * _dense(helm.hypersingular(p1, p1, p1, k, **opts))
     mass = surface.mass_matrix().toarray()
     return a + 0.5 * mass
+
+
+def _bempp_velocity(grid, support, k, eta):
+    """bempp-cl's V + ηK' from DP0 on ``support`` to P1 (no mass term)."""
+    p1 = bempp().function_space(grid, "P", 1)
+    dp0 = bempp().function_space(grid, "DP", 0, support_elements=support)
+    helm = bempp().operators.boundary.helmholtz
+    opts = {"assembler": "dense", "device_interface": current_device(), "precision": "double"}
+    return _dense(helm.single_layer(dp0, p1, p1, k, **opts)) + eta * _dense(helm.adjoint_double_layer(dp0, p1, p1, k, **opts))
 
 
 MEDIUM = Medium(343.0, 1.2)
@@ -48,9 +68,23 @@ BODIES = {
 @pytest.mark.parametrize("k, eta", [(10.0, 0.1j), (25.0, 0.0), (3.0, 0.2 - 0.5j)])
 def test_six_point_rule_everywhere_is_bempp_cl_to_round_off(body, k, eta):
     surface = surface_from_mesh(BODIES[body]())
-    _, p1 = bem_system._grid(surface)
-    ours = bem_assembly.burton_miller_matrix(surface, p1, k, eta, current_device(), far_ratio=np.inf, singular_order=4)
-    ref = _bempp_matrix(surface, p1, k, eta)
+    grid = bem_system._grid(surface)
+    ours = bem_assembly.burton_miller_matrix(surface, grid, k, eta, far_ratio=np.inf, singular_order=4)
+    ref = _bempp_matrix(grid, surface, k, eta)
+    assert np.linalg.norm(ours - ref) <= 1e-12 * np.linalg.norm(ref)
+
+
+@pytest.mark.parametrize("body", sorted(BODIES))
+def test_velocity_operators_are_bempp_cl_to_round_off(body):
+    """V + ηK' for a piston on a patch of triangles (bempp-cl: single layer and adjoint
+    double layer from DP0 on the patch to P1)."""
+    surface = surface_from_mesh(BODIES[body]())
+    grid = bem_system._grid(surface)
+    support = np.flatnonzero(surface.normals[:, 2] > 0.5)
+    k, eta = 12.0, 1j / 12.0
+    ours = bem_assembly.velocity_matrix(surface, grid, support, k, eta, far_ratio=np.inf, singular_order=4)
+    ref = _bempp_velocity(grid, support, k, eta)
+    assert ours.shape == ref.shape == (surface.n_vertices, len(support))
     assert np.linalg.norm(ours - ref) <= 1e-12 * np.linalg.norm(ref)
 
 
