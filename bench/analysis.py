@@ -9,11 +9,9 @@ import numpy as np
 GIB = 1024.0**3
 COMPLEX_BYTES = 16
 # N x N complex arrays bemcheck's assembly holds at its peak, read from
-# bemcheck/solvers/bem_system.py `assemble`: the matrix accumulated in place
-# (-K), the hypersingular W, and the temporary eta * W made before it is added.
-DENSE_HELD = 3
-# What the method itself needs: the system matrix and one operator being added.
-DENSE_NEEDED = 2
+# bemcheck/solvers/bem_assembly.py `add_regular_part`: the matrix and the
+# blocks of each pair's second order, added transposed at the end.
+DENSE_HELD = 2
 MEMORY_LIMIT = 24.0 * GIB
 
 

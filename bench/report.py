@@ -176,11 +176,10 @@ def _cold(cold, sweep):
     out += [
         "",
         f"What \"warm\" can mean here: the mesh cache spares gmsh, and numba's on-disk cache ({cold['numba_cache_files']} files "
-        "after the cold run) keeps only the few helpers bempp-cl marks `cache=True`.  bempp-cl's assembly kernels "
-        "are compiled in every new process, so a warm process start still pays most of the compile time.  Only a "
-        "process that stays alive (one `bemcheck run` solving many frequencies, a `--workers` pool or a Dask "
-        "worker) is warm in the sense that matters; its figure is the last row (the sweep's first frequency, "
-        "measured after compiling).",
+        "after the cold run) holds bemcheck's assembly kernels (`cache=True`), so a warm process start loads them "
+        "instead of compiling; what is left is bempp-cl's grid set-up and the imports.  A process that stays alive "
+        "(one `bemcheck run` solving many frequencies, a `--workers` pool or a Dask worker) pays even that once; "
+        "its figure is the last row (the sweep's first frequency, measured after compiling).",
     ]
     return out
 
@@ -189,21 +188,16 @@ def _improve(machine):
     return [
         "## What would improve it (not done here: bemcheck's solver code is not changed by the benchmark)",
         "",
-        f"- The device is {machine['device']}: on numba, the dense assembly of K and W is almost all of the cost "
-        "for both codes, so bemcheck's savings (one LU for all sources, no compiled callable per source) are a small "
-        "share.  Most of it is the hypersingular W (profiled once while building this benchmark, a 252-vertex "
-        "sphere: W's regular part 4.9 s, K's 0.46 s).  An OpenCL CPU runtime (Debian `pocl-opencl-icd` + pip `pyopencl`) was measured earlier on this "
-        "machine type at K 18 s + W 17 s for N = 3,116 (/work/shared/design.md; not measured in this run); with "
-        "assembly that cheap, the per-source costs bemcheck avoids become the larger share of the reference's time.",
-        "- Single precision assembly (`precision=\"single\"`) roughly halves assembly time and memory; its accuracy "
-        "against the 0.05 dB check would have to be measured first.",
+        "- Assembly: bemcheck assembles -K + ηW in one pass of its own numba kernels (one evaluation of e^{ikr} per "
+        "point pair for both operators and both orders of a pair, a 3-point rule on far pairs); the regular pairs "
+        "are now most of the per-frequency time at large N.  Beyond this, SIMD evaluation of the kernel (numba "
+        "vectorises sin and cos only with Intel's SVML, absent from the PyPI llvmlite) or a fast multipole or "
+        "low-rank compression of the far pairs would be the next steps.",
         "- Frequency parallelism: frequencies are independent; `--workers 2` on 2 cores gives no gain while numba "
         "already uses both cores for assembly, but on a machine with more cores, or a Dask cluster, the sweep "
-        "scales with the workers (each pays the compile once).",
-        f"- Memory: scaling W in place (`W *= eta; A += W`) in `bem_system.assemble` would drop the peak from "
-        f"{analysis.DENSE_HELD} to {analysis.DENSE_NEEDED} N × N arrays.",
-        "- Cold start: compile once per long-lived worker (as the sweep already does); a process start cannot avoid "
-        "bempp-cl's numba compile unless its kernels were cached on disk.",
+        "scales with the workers.",
+        f"- Memory: the assembly holds {analysis.DENSE_HELD} N × N arrays at its peak (the matrix and the transposed "
+        "half of the pair blocks); adding the second half row by row would leave one.",
     ]
 
 

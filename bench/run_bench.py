@@ -28,7 +28,7 @@ import report
 HERE = Path(__file__).resolve().parent
 ROOT = HERE.parent
 # Icosphere subdivisions for the scaling: N = 10 n^2 + 2 = 492, 1,002, 1,442, 1,962, 2,892, 4,002.
-FULL_SIZES = (7, 10, 12, 14, 17, 20)
+FULL_SIZES = (7, 10, 12, 14, 17, 20, 24)
 QUICK_SIZES = (3, 5)
 FULL_SCALING_BUDGET_S = 20 * 60.0
 
