@@ -42,7 +42,7 @@ def _parser():
     r.add_argument("--frequencies", metavar="LIST|LO:HI", help="run a subset of the case's frequencies: '200,400' or '200:800' [Hz]")
     r.add_argument("--workers", type=int, default=1, metavar="N", help="local worker processes for the BEM sweep (default 1)")
     r.add_argument("--scheduler", metavar="ADDRESS", help="run the BEM sweep on a Dask distributed scheduler, e.g. tcp://10.0.0.5:8786")
-    r.add_argument("--device", choices=("auto", "numba", "opencl"), default="auto", help="bempp-cl device (default auto: OpenCL when a CPU runtime works, else numba)")
+    r.add_argument("--device", choices=("auto", "numba"), default="auto", help="compute device: numba kernels on the CPU, the only one (auto picks it)")
     r.add_argument("--mesh-cache", type=Path, metavar="DIR", help="folder of cached meshes (default ~/.cache/bemcheck/meshes)")
     r.add_argument("--no-report", action="store_true", help="skip the HTML report")
     talk = r.add_mutually_exclusive_group()

@@ -69,7 +69,7 @@ def bem_task(case, task, device="auto", cache_dir=None):
     case : Case
     task : Task
         Frequency [Hz] and element size [m] of the mesh to solve on.
-    device : {"auto", "numba", "opencl"}
+    device : {"auto", "numba"}
     cache_dir : path, optional
         Mesh cache folder.
     """

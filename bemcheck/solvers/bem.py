@@ -81,7 +81,7 @@ class BemSolution:
     elements_per_wavelength : float
         Wavelength / element_size (inf without bodies).
     device : str
-        ``"numba"``, ``"opencl"`` or ``"none"`` (no bodies, nothing assembled).
+        ``"numba"`` or ``"none"`` (no bodies, nothing assembled).
     seconds : dict
         Wall time [s]: ``assembly``, ``lu``, ``solve``, ``fields``.
     """

@@ -1,9 +1,9 @@
-"""Where bempp-cl runs its kernels: the one place that chooses and records it.
+"""Where the BEM runs: the one place that chooses and records it.
 
-bempp-cl can assemble with OpenCL (needs a CPU OpenCL runtime such as
-Debian's ``pocl-opencl-icd`` plus the ``pyopencl`` package) or with numba.
-OpenCL is much faster for the hypersingular operator; numba always works.
-The matrices agree to about 1e-14 (measured, see /work/shared/design.md).
+bemcheck assembles its matrices with its own numba kernels on the CPU
+(:mod:`bemcheck.solvers.bem_assembly`); bempp-cl, which builds the grid and
+the touching-pair quadrature, is set to numba as well.  bempp-cl's OpenCL
+interface is not used: its assembly is not on bemcheck's path any more.
 
 bempp-cl is imported lazily, here only, with its "Could not find Gmsh" print
 kept out of our output: importing :mod:`bemcheck` never imports it.
@@ -13,17 +13,9 @@ import contextlib
 import io
 import os
 
-from bemcheck.errors import EnvironmentProblem
-
-DEVICES = ("auto", "numba", "opencl")
+DEVICES = ("auto", "numba")
 
 _state = {"device": None}
-
-_OPENCL_HINT = (
-    "a CPU OpenCL runtime for bempp-cl: install it with "
-    "`sudo apt-get install pocl-opencl-icd` and `pip install pyopencl`, "
-    "or choose the numba device"
-)
 
 
 def bempp():
@@ -49,38 +41,23 @@ def bempp():
     return api
 
 
-def opencl_available():
-    """Whether bempp-cl found an OpenCL CPU runtime at import.
-
-    A runtime that is found but crashes on use cannot be caught here; choose
-    ``"numba"`` explicitly on such a machine.
-
-    Returns
-    -------
-    bool
-    """
-    return bool(getattr(bempp(), "CPU_OPENCL_DRIVER_FOUND", False))
-
-
 def configure_device(choice="auto"):
-    """Choose the device bempp-cl assembles on, for the whole process.
+    """Choose the device for the whole process.
 
     Parameters
     ----------
-    choice : {"auto", "numba", "opencl"}
-        ``"auto"`` takes OpenCL when a CPU runtime is present, numba otherwise.
+    choice : {"auto", "numba"}
+        ``"auto"`` is numba, the only device.
 
     Returns
     -------
     str
-        The device now in use, ``"numba"`` or ``"opencl"``.
+        The device now in use, ``"numba"``.
 
     Raises
     ------
     ValueError
         For a choice not in :data:`DEVICES`.
-    EnvironmentProblem
-        For ``"opencl"`` on a machine without a CPU OpenCL runtime.
 
     Examples
     --------
@@ -89,14 +66,8 @@ def configure_device(choice="auto"):
     """
     if choice not in DEVICES:
         raise ValueError(f"device: expected one of {', '.join(DEVICES)}, got {choice!r}")
-    api = bempp()
-    if choice == "auto":
-        device = "opencl" if opencl_available() else "numba"
-    elif choice == "opencl" and not opencl_available():
-        raise EnvironmentProblem(f"device 'opencl' asked for, but bempp-cl found no {_OPENCL_HINT}")
-    else:
-        device = choice
-    api.DEFAULT_DEVICE_INTERFACE = device
+    device = "numba"
+    bempp().DEFAULT_DEVICE_INTERFACE = device
     _state["device"] = device
     return device
 
@@ -107,7 +78,7 @@ def current_device():
     Returns
     -------
     str
-        ``"numba"`` or ``"opencl"``.
+        ``"numba"``.
     """
     if _state["device"] is None:
         return configure_device("auto")

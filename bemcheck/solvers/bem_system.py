@@ -45,7 +45,7 @@ class System:
     grid : bempp-cl Grid
         Kept to assemble the velocity operators on the same grid.
     device : str
-        ``"numba"`` or ``"opencl"``.
+        ``"numba"``.
     seconds : dict
         Wall time [s] of ``"assembly"`` and ``"lu"``.
     """
