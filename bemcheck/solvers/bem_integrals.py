@@ -22,10 +22,12 @@ for a point inside a body and 0 outside: the inside test.
 
 from dataclasses import dataclass
 
+import numba
 import numpy as np
 from scipy.sparse import coo_matrix
 
 from bemcheck.solvers import bem_quadrature as quad
+from bemcheck.solvers.bem_kernel import cis
 
 FOUR_PI = 4.0 * np.pi
 # Targets closer than this fraction of the nearest triangle's size are on the surface.
@@ -290,6 +292,27 @@ def solid_angles(points, corners):
     return -2.0 * np.arctan2(num, den)
 
 
+@numba.njit(parallel=True, fastmath=True, cache=True)
+def _far_field(out_d, out_s, d, y, w, normals, triangles, bary, support, k):
+    """Fill D and S of :func:`far_field_moments`, one direction per thread at a time."""
+    for i in numba.prange(d.shape[0]):
+        for t in range(y.shape[0]):
+            dn = d[i, 0] * normals[t, 0] + d[i, 1] * normals[t, 1] + d[i, 2] * normals[t, 2]
+            for q in range(y.shape[1]):
+                c, s = cis(k * (d[i, 0] * y[t, q, 0] + d[i, 1] * y[t, q, 1] + d[i, 2] * y[t, q, 2]))
+                # e^{-ik d·y} w (-ik d·n)
+                e_re = c * w[t, q]
+                e_im = -s * w[t, q]
+                v = complex(k * dn * e_im, -k * dn * e_re)
+                for a in range(3):
+                    out_d[i, triangles[t, a]] += v * bary[q, a]
+        for j in range(support.shape[0]):
+            t = support[j]
+            for q in range(y.shape[1]):
+                c, s = cis(k * (d[i, 0] * y[t, q, 0] + d[i, 1] * y[t, q, 1] + d[i, 2] * y[t, q, 2]))
+                out_s[i, j] += complex(c, -s) * w[t, q]
+
+
 def far_field_moments(surface, directions, k, p0_support=None):
     """Far-field integrals: p_scat ≈ (D @ u - S @ g) e^{ikr}/r in direction d̂.
 
@@ -315,21 +338,14 @@ def far_field_moments(surface, directions, k, p0_support=None):
     S : (D, n_sup) ndarray of complex or None
         [m^2].
     """
-    d = np.atleast_2d(np.asarray(directions, dtype=float))
+    d = np.ascontiguousarray(np.atleast_2d(np.asarray(directions, dtype=float)))
     base = quad.rule(0)
-    y = np.einsum("qa,tab->tqb", base.bary, surface.corners())
-    w = surface.areas[:, None] * base.weights[None, :]
-    incidence = surface.incidence()
-    support = None if p0_support is None else np.asarray(p0_support, dtype=int)
+    y = np.ascontiguousarray(np.einsum("qa,tab->tqb", base.bary, surface.corners()))
+    w = np.ascontiguousarray(surface.areas[:, None] * base.weights[None, :] / FOUR_PI)
+    support = np.zeros(0, dtype=np.int64) if p0_support is None else np.asarray(p0_support, dtype=np.int64)
     out_d = np.zeros((len(d), surface.n_vertices), complex)
-    out_s = None if support is None else np.zeros((len(d), len(support)), complex)
-    chunk = max(1, _BATCH_POINTS // y[..., 0].size)
-    for start in range(0, len(d), chunk):
-        dd = d[start : start + chunk]
-        e = np.exp(-1j * k * np.einsum("di,tqi->dtq", dd, y)) * w / FOUR_PI
-        dn = -1j * k * (dd @ surface.normals.T)
-        corner = np.einsum("dtq,qa->dta", e * dn[:, :, None], base.bary)
-        out_d[start : start + chunk] = (incidence.T @ corner.reshape(len(dd), -1).T).T
-        if out_s is not None:
-            out_s[start : start + chunk] = e[:, support].sum(axis=2)
+    out_s = np.zeros((len(d), len(support)), complex)
+    _far_field(out_d, out_s, d, y, w, np.ascontiguousarray(surface.normals), np.ascontiguousarray(surface.triangles, dtype=np.int64),
+               np.ascontiguousarray(base.bary), support, float(k))
+    out_s = None if p0_support is None else out_s
     return out_d, out_s

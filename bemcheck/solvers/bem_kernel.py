@@ -9,12 +9,12 @@ _PI_OVER_2 = np.pi / 2.0
 
 @numba.njit(inline="always", fastmath=True, cache=True)
 def cis(x):
-    """(cos x, sin x) for x >= 0, about twice as fast as the two libm calls.
+    """(cos x, sin x) for real x, about twice as fast as the two libm calls.
 
     The argument is reduced by multiples of π/2 to y in [-π/4, π/4], where
     the Taylor series stopped after y^15 (sine) and y^16 (cosine) has a
     remainder below (π/4)^17/17! = 4e-17.  The reduction loses about
-    x/(π/2) units in the last place: 1e-14 absolute at x = 100 rad, far
+    |x|/(π/2) units in the last place: 1e-14 absolute at |x| = 100 rad, far
     below the quadrature error.
 
     Examples

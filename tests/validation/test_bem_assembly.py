@@ -26,6 +26,14 @@ from bemcheck.solvers.bem_surface import surface_from_mesh
 from tests.support.icosphere import icosphere, voxel_body
 
 
+def _options():
+    """bempp-cl's default rules, stated rather than read from its global parameters."""
+    parameters = bempp().DefaultParameters()
+    parameters.quadrature.regular = 4
+    parameters.quadrature.singular = 4
+    return {"assembler": "dense", "device_interface": current_device(), "precision": "double", "parameters": parameters}
+
+
 def _dense(operator):
     with warnings.catch_warnings():
         # numba's notes on non-contiguous arrays inside bempp-cl
@@ -37,7 +45,7 @@ def _bempp_matrix(grid, surface, k, eta):
     p1 = bempp().function_space(grid, "P", 1)
     assert np.array_equal(p1.local2global, surface.triangles)
     helm = bempp().operators.boundary.helmholtz
-    opts = {"assembler": "dense", "device_interface": current_device(), "precision": "double"}
+    opts = _options()
     a = -_dense(helm.double_layer(p1, p1, p1, k, **opts))
     a += eta * _dense(helm.hypersingular(p1, p1, p1, k, **opts))
     mass = surface.mass_matrix().toarray()
@@ -49,7 +57,7 @@ def _bempp_velocity(grid, support, k, eta):
     p1 = bempp().function_space(grid, "P", 1)
     dp0 = bempp().function_space(grid, "DP", 0, support_elements=support)
     helm = bempp().operators.boundary.helmholtz
-    opts = {"assembler": "dense", "device_interface": current_device(), "precision": "double"}
+    opts = _options()
     return _dense(helm.single_layer(dp0, p1, p1, k, **opts)) + eta * _dense(helm.adjoint_double_layer(dp0, p1, p1, k, **opts))
 
 
