@@ -103,9 +103,132 @@ def _greedy_colours(triangles, n_vertices):
     return colours
 
 
-@numba.njit(parallel=True, fastmath=True, cache=True)
+# Trial triangles whose far-rule kernels are evaluated together, in loops
+# over the block that the compiler turns into vector instructions.
+_BLOCK = 128
+
+
+@numba.njit(inline="always", fastmath=True, error_model="numpy", cache=True)
+def _touching(triangles, t, s):
+    for a in range(3):
+        for b in range(3):
+            if triangles[t, a] == triangles[s, b]:
+                return True
+    return False
+
+
+@numba.njit(fastmath=True, error_model="numpy", cache=True)
+def _pair_sums(t, s, xq, phi, w, k, normals, sums):
+    """One pair's integrals with the rule (xq, phi, w), into sums (6, 3, 3):
+    Re and Im of ∫∫ φ_a φ_b G, of ∫∫ φ_a φ_b ∂_r G (y-x)·n_s / r, and of the same with n_t."""
+    inv4pi = 1.0 / (4.0 * np.pi)
+    sums[:] = 0.0
+    for p in range(w.shape[0]):
+        for q in range(w.shape[0]):
+            r0 = xq[s, q, 0] - xq[t, p, 0]
+            r1 = xq[s, q, 1] - xq[t, p, 1]
+            r2 = xq[s, q, 2] - xq[t, p, 2]
+            r = np.sqrt(r0 * r0 + r1 * r1 + r2 * r2)
+            inv_r = 1.0 / r
+            kr = k * r
+            co, si = cis(kr)
+            gw = w[p] * w[q] * inv4pi * inv_r
+            g_re = co * gw
+            g_im = si * gw
+            # ∂_r G / r = G (ikr - 1) / r²
+            d_re = -(g_re + kr * g_im) * inv_r * inv_r
+            d_im = (kr * g_re - g_im) * inv_r * inv_r
+            rs = r0 * normals[s, 0] + r1 * normals[s, 1] + r2 * normals[s, 2]
+            rt = r0 * normals[t, 0] + r1 * normals[t, 1] + r2 * normals[t, 2]
+            for a in range(3):
+                for b in range(3):
+                    f = phi[p, a] * phi[q, b]
+                    sums[0, a, b] += g_re * f
+                    sums[1, a, b] += g_im * f
+                    sums[2, a, b] += d_re * rs * f
+                    sums[3, a, b] += d_im * rs * f
+                    sums[4, a, b] += d_re * rt * f
+                    sums[5, a, b] += d_im * rt * f
+
+
+@numba.njit(fastmath=True, error_model="numpy", cache=True)
+def _far_block(t, s0, n, fx, nrm, phi, w, k, kern, folded, sums):
+    """The sums of :func:`_pair_sums` with the 3-point rule for trial triangles s0 .. s0+n-1,
+    into sums[:, :, :, j] (6, 3, 3, n); ``fx`` (3 points, 3 axes, nt) and ``nrm`` (3, nt)
+    are laid out so that consecutive trial triangles are consecutive in memory."""
+    inv4pi = 1.0 / (4.0 * np.pi)
+    nt0, nt1, nt2 = nrm[0, t], nrm[1, t], nrm[2, t]
+    sums[:, :, :, :n] = 0.0
+    for p in range(3):
+        xp0 = fx[p, 0, t]
+        xp1 = fx[p, 1, t]
+        xp2 = fx[p, 2, t]
+        for q in range(3):
+            wq = w[p] * w[q] * inv4pi
+            for j in range(n):
+                s = s0 + j
+                r0 = fx[q, 0, s] - xp0
+                r1 = fx[q, 1, s] - xp1
+                r2 = fx[q, 2, s] - xp2
+                r = np.sqrt(r0 * r0 + r1 * r1 + r2 * r2)
+                inv_r = 1.0 / r
+                kr = k * r
+                co, si = cis(kr)
+                g_re = co * wq * inv_r
+                g_im = si * wq * inv_r
+                d_re = -(g_re + kr * g_im) * inv_r * inv_r
+                d_im = (kr * g_re - g_im) * inv_r * inv_r
+                rs = r0 * nrm[0, s] + r1 * nrm[1, s] + r2 * nrm[2, s]
+                rt = r0 * nt0 + r1 * nt1 + r2 * nt2
+                kern[0, q, j] = g_re
+                kern[1, q, j] = g_im
+                kern[2, q, j] = d_re * rs
+                kern[3, q, j] = d_im * rs
+                kern[4, q, j] = d_re * rt
+                kern[5, q, j] = d_im * rt
+        # fold the trial points onto the trial functions, then the test point onto the test functions
+        for i in range(6):
+            for b in range(3):
+                f0 = phi[0, b]
+                f1 = phi[1, b]
+                f2 = phi[2, b]
+                for j in range(n):
+                    folded[i, b, j] = kern[i, 0, j] * f0 + kern[i, 1, j] * f1 + kern[i, 2, j] * f2
+            for a in range(3):
+                fa = phi[p, a]
+                for b in range(3):
+                    for j in range(n):
+                        sums[i, a, b, j] += fa * folded[i, b, j]
+
+
+@numba.njit(inline="always", fastmath=True, error_model="numpy", cache=True)
+def _add_pair(ahead, behind, t, s, sums, j, triangles, normals, areas, curls, k2, eta_re, eta_im):
+    """Write the blocks (t, s) of -K + ηW into ``ahead`` and (s, t)ᵀ into ``behind`` from sums[..., j]."""
+    s0_re = 0.0
+    s0_im = 0.0
+    for a in range(3):
+        for b in range(3):
+            s0_re += sums[0, a, b, j]
+            s0_im += sums[1, a, b, j]
+    nn = normals[t, 0] * normals[s, 0] + normals[t, 1] * normals[s, 1] + normals[t, 2] * normals[s, 2]
+    scale = areas[t] * areas[s]
+    for a in range(3):
+        row = triangles[t, a]
+        for b in range(3):
+            col = triangles[s, b]
+            cc = curls[t, a, 0] * curls[s, b, 0] + curls[t, a, 1] * curls[s, b, 1] + curls[t, a, 2] * curls[s, b, 2]
+            wr = cc * s0_re - k2 * nn * sums[0, a, b, j]
+            wi = cc * s0_im - k2 * nn * sums[1, a, b, j]
+            # η W with η = eta_re + i eta_im
+            ew_re = eta_re * wr - eta_im * wi
+            ew_im = eta_re * wi + eta_im * wr
+            ahead[row, col] += scale * complex(ew_re - sums[2, a, b, j], ew_im - sums[3, a, b, j])
+            behind[row, col] += scale * complex(ew_re + sums[4, a, b, j], ew_im + sums[5, a, b, j])
+
+
+@numba.njit(parallel=True, fastmath=True, error_model="numpy", cache=True)
 def _regular(ahead, behind, triangles, normals, areas, sizes, centroids, curls, near_x, near_phi, near_w,
-             far_x, far_phi, far_w, members, k, eta_re, eta_im, far_ratio):
+             far_x, far_phi, far_w, fx, nrm, members, k, eta_re, eta_im, far_ratio):
     """Add the regular part of -K + ηW for the pairs (t, s) of test triangles t in ``members``.
 
     Each unordered pair is visited once, from the triangle whose partners
@@ -115,118 +238,43 @@ def _regular(ahead, behind, triangles, normals, areas, sizes, centroids, curls, 
     while W(s, t) = W(t, s)ᵀ.  Block (t, s) goes to ``ahead`` and block
     (s, t), transposed, to ``behind``, both in the rows of t's vertices, so
     test triangles of one colour never write the same row; the matrix is
-    ahead + behindᵀ.
+    ahead + behindᵀ.  Partners are taken in blocks with the far rule, and the
+    few near ones are done again with the near rule.
     """
     nt = triangles.shape[0]
     half = nt // 2
-    inv4pi = 1.0 / (4.0 * np.pi)
     k2 = k * k
     for m in numba.prange(members.shape[0]):
         t = members[m]
-        ta0, ta1, ta2 = triangles[t, 0], triangles[t, 1], triangles[t, 2]
-        # Real and imaginary parts kept apart: numba's complex temporaries were slower.
-        s_re = np.zeros((3, 3))
-        s_im = np.zeros((3, 3))
-        ks_re = np.zeros((3, 3))
-        ks_im = np.zeros((3, 3))
-        kt_re = np.zeros((3, 3))
-        kt_im = np.zeros((3, 3))
-        acc = np.zeros((6, 3))
+        kern = np.empty((6, 3, _BLOCK))
+        folded = np.empty((6, 3, _BLOCK))
+        sums = np.empty((6, 3, 3, _BLOCK))
+        one = np.empty((6, 3, 3, 1))
         # with nt even the partner half-way round is reached from both sides: keep one
-        last = half if (nt % 2 == 1 or t < half) else half - 1
-        for step in range(1, last + 1):
-            s = t + step
-            if s >= nt:
-                s -= nt
-            if (triangles[s, 0] == ta0 or triangles[s, 0] == ta1 or triangles[s, 0] == ta2
-                    or triangles[s, 1] == ta0 or triangles[s, 1] == ta1 or triangles[s, 1] == ta2
-                    or triangles[s, 2] == ta0 or triangles[s, 2] == ta1 or triangles[s, 2] == ta2):
-                continue
-            dx = centroids[s, 0] - centroids[t, 0]
-            dy = centroids[s, 1] - centroids[t, 1]
-            dz = centroids[s, 2] - centroids[t, 2]
-            reach = far_ratio * max(sizes[s], sizes[t])
-            if dx * dx + dy * dy + dz * dz > reach * reach:
-                xq, phi, w = far_x, far_phi, far_w
-            else:
-                xq, phi, w = near_x, near_phi, near_w
-            nq = w.shape[0]
-            ns0, ns1, ns2 = normals[s, 0], normals[s, 1], normals[s, 2]
-            nt0, nt1, nt2 = normals[t, 0], normals[t, 1], normals[t, 2]
-            s_re[:, :] = 0.0
-            s_im[:, :] = 0.0
-            ks_re[:, :] = 0.0
-            ks_im[:, :] = 0.0
-            kt_re[:, :] = 0.0
-            kt_im[:, :] = 0.0
-            for p in range(nq):
-                xp0 = xq[t, p, 0]
-                xp1 = xq[t, p, 1]
-                xp2 = xq[t, p, 2]
-                acc[:, :] = 0.0
-                for q in range(nq):
-                    r0 = xq[s, q, 0] - xp0
-                    r1 = xq[s, q, 1] - xp1
-                    r2 = xq[s, q, 2] - xp2
-                    rr = r0 * r0 + r1 * r1 + r2 * r2
-                    r = np.sqrt(rr)
-                    inv_r = 1.0 / r
-                    kr = k * r
-                    gw = w[q] * inv4pi * inv_r
-                    co, si = cis(kr)
-                    g_re = co * gw
-                    g_im = si * gw
-                    # ∂_r G / r = G (ikr - 1) / r², times (y - x)·n
-                    inv_rr = inv_r * inv_r
-                    d_re = -(g_re + kr * g_im) * inv_rr
-                    d_im = (kr * g_re - g_im) * inv_rr
-                    rs = r0 * ns0 + r1 * ns1 + r2 * ns2
-                    rt = r0 * nt0 + r1 * nt1 + r2 * nt2
-                    ds_re = d_re * rs
-                    ds_im = d_im * rs
-                    dt_re = d_re * rt
-                    dt_im = d_im * rt
-                    for b in range(3):
-                        f = phi[q, b]
-                        acc[0, b] += g_re * f
-                        acc[1, b] += g_im * f
-                        acc[2, b] += ds_re * f
-                        acc[3, b] += ds_im * f
-                        acc[4, b] += dt_re * f
-                        acc[5, b] += dt_im * f
-                for a in range(3):
-                    wa = w[p] * phi[p, a]
-                    for b in range(3):
-                        s_re[a, b] += wa * acc[0, b]
-                        s_im[a, b] += wa * acc[1, b]
-                        ks_re[a, b] += wa * acc[2, b]
-                        ks_im[a, b] += wa * acc[3, b]
-                        kt_re[a, b] += wa * acc[4, b]
-                        kt_im[a, b] += wa * acc[5, b]
-            s0_re = 0.0
-            s0_im = 0.0
-            for a in range(3):
-                for b in range(3):
-                    s0_re += s_re[a, b]
-                    s0_im += s_im[a, b]
-            nn = nt0 * ns0 + nt1 * ns1 + nt2 * ns2
-            scale = areas[t] * areas[s]
-            for a in range(3):
-                row = triangles[t, a]
-                for b in range(3):
-                    col = triangles[s, b]
-                    cc = (curls[t, a, 0] * curls[s, b, 0] + curls[t, a, 1] * curls[s, b, 1]
-                          + curls[t, a, 2] * curls[s, b, 2])
-                    wr = cc * s0_re - k2 * nn * s_re[a, b]
-                    wi = cc * s0_im - k2 * nn * s_im[a, b]
-                    # η W with η = eta_re + i eta_im
-                    ew_re = eta_re * wr - eta_im * wi
-                    ew_im = eta_re * wi + eta_im * wr
-                    ahead[row, col] += scale * complex(ew_re - ks_re[a, b], ew_im - ks_im[a, b])
-                    behind[row, col] += scale * complex(ew_re + kt_re[a, b], ew_im + kt_im[a, b])
+        remaining = half if (nt % 2 == 1 or t < half) else half - 1
+        start = t + 1
+        while remaining > 0:
+            s0 = start if start < nt else start - nt
+            n = min(_BLOCK, remaining, nt - s0)
+            _far_block(t, s0, n, fx, nrm, far_phi, far_w, k, kern, folded, sums)
+            for j in range(n):
+                s = s0 + j
+                if _touching(triangles, t, s):
+                    continue
+                dx = centroids[s, 0] - centroids[t, 0]
+                dy = centroids[s, 1] - centroids[t, 1]
+                dz = centroids[s, 2] - centroids[t, 2]
+                reach = far_ratio * max(sizes[s], sizes[t])
+                if dx * dx + dy * dy + dz * dz > reach * reach:
+                    _add_pair(ahead, behind, t, s, sums, j, triangles, normals, areas, curls, k2, eta_re, eta_im)
+                else:
+                    _pair_sums(t, s, near_x, near_phi, near_w, k, normals, one[:, :, :, 0])
+                    _add_pair(ahead, behind, t, s, one, 0, triangles, normals, areas, curls, k2, eta_re, eta_im)
+            start = s0 + n
+            remaining -= n
 
 
-@numba.njit(parallel=True, fastmath=True, cache=True)
+@numba.njit(parallel=True, fastmath=True, error_model="numpy", cache=True)
 def _regular_velocity(out, support, triangles, normals, areas, sizes, centroids, near_x, near_phi, near_w,
                       far_x, far_phi, far_w, k, eta_re, eta_im, far_ratio):
     """Add the regular part of V + ηK' for a constant trial function on each support triangle.
@@ -298,9 +346,11 @@ def add_regular_part(out, surface, k, eta, far_ratio=FAR_RATIO):
     triangles, centroids, near, far = _points(surface)
     curls = np.ascontiguousarray(surface_curls(surface.vertices, surface.triangles, surface.normals))
     behind = np.zeros_like(out)
+    fx = np.ascontiguousarray(far[0].transpose(1, 2, 0))
+    nrm = np.ascontiguousarray(surface.normals.T)
     for members in colour_triangles(triangles):
         _regular(out, behind, triangles, surface.normals, surface.areas, surface.sizes, centroids, curls,
-                 *near, *far, members, float(k), float(np.real(eta)), float(np.imag(eta)), float(far_ratio))
+                 *near, *far, fx, nrm, members, float(k), float(np.real(eta)), float(np.imag(eta)), float(far_ratio))
     out += behind.T
 
 
