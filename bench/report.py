@@ -132,22 +132,21 @@ def _scaling(scaling, summary):
             f"assembly {s['exponent_assembly']:.2f}, LU floor {s['exponent_lu']:.2f}; total over N >= 1,400 only: "
             f"{s['exponent_large']:.2f}.",
             "",
-            "Assembly is nearly all of the time.  It evaluates every pair of triangles (N² work); "
-            + ("yet its cost grew more slowly than N² here: the cost per pair fell as the mesh grew (not profiled "
-               "further; the O(N) singular pairs and fixed per-call costs weigh more on small meshes).  "
+            f"At N = {s['largest']:,} assembly is {100 * big['parts']['assembly'] / analysis.row_total(big):.0f} % of "
+            f"the time and the LU {100 * big['parts']['lu'] / analysis.row_total(big):.0f} %.  Assembly evaluates every "
+            "pair of triangles (N² work); "
+            + ("its cost grew more slowly than N² over these sizes because the O(N) touching pairs and fixed "
+               "per-call costs weigh more on small meshes.  "
                if s["exponent_assembly"] < 2.0 else f"its cost grew as N^{s['exponent_assembly']:.2f} here.  ")
-            + "The LU is N³ but small: "
-            f"{100 * big['parts']['lu'] / analysis.row_total(big):.1f} % of the total at N = {s['largest']:,}; "
-            f"scaling the largest size's assembly as N² and LU as N³, the LU would match the assembly only near "
-            f"N ~ {float(f'{crossing:.2g}'):,.0f}, far beyond what dense matrices allow.  The LU floor's fitted exponent "
-            "is well below 3 because BLAS runs far below its peak speed on small matrices and the small-N times "
-            "are noisy (other jobs were running).",
+            + f"Scaling the largest size's assembly as N² and its LU as N³, the LU overtakes the assembly near "
+            f"N ~ {float(f'{crossing:.2g}'):,.0f}.  The LU floor's fitted exponent is below 3 because BLAS runs "
+            "below its peak speed on small matrices and the small-N times are noisy.",
             "",
             f"Memory model (least squares fit of peak RSS = base + m · 16 N²): base {mem['base'] / MIB:,.0f} MiB, "
             f"m = {mem['matrices']:.2f} N × N complex arrays.  **Largest N that fits in 24 GiB, from this model: "
             f"{mem['largest_n']:,.0f}** (a model figure, not a measured run; at that size one frequency would take "
-            f"about {analysis.row_total(big) * (mem['largest_n'] / s['largest']) ** s['exponent_total'] / 3600:.1f} h "
-            "on this machine by the fitted exponent).  Below about "
+            f"about {_largest_hours(big, mem['largest_n']):.1f} h on this machine, scaling the largest measured "
+            "size's assembly and fields as N² and its LU as N³).  Below about "
             f"N = {s['rss_within_2x_from']:,.0f} the fixed {mem['base'] / MIB:,.0f} MiB of libraries and compiled code "
             f"outweighs the matrices, so peak RSS is more than 2 × the {analysis.DENSE_HELD} dense matrices there.",
         ]
@@ -182,6 +181,13 @@ def _cold(cold, sweep):
         "its figure is the last row (the sweep's first frequency, measured after compiling).",
     ]
     return out
+
+
+def _largest_hours(row, n):
+    """Hours for one frequency at ``n`` unknowns from a measured row: LU as N³, the rest as N²."""
+    ratio = n / row["unknowns"]
+    lu = row["parts"]["lu"]
+    return ((analysis.row_total(row) - lu) * ratio**2 + lu * ratio**3) / 3600.0
 
 
 def _improve(machine):
