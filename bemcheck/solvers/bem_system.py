@@ -25,6 +25,7 @@ import numpy as np
 from scipy.linalg import lu_factor, lu_solve
 from scipy.sparse import coo_matrix
 
+from bemcheck.errors import BemcheckInputError
 from bemcheck.solvers.bem_assembly import burton_miller_matrix, velocity_matrix
 from bemcheck.solvers.bem_device import bempp, current_device
 
@@ -75,6 +76,56 @@ def _grid(surface):
     return grid
 
 
+# N x N complex arrays held at the peak of a solve (the matrix, and either the
+# transposed pair blocks during assembly or the LU's copy); measured 2.1 in bench/.
+DENSE_ARRAYS = 2
+
+
+def available_memory():
+    """Memory the system could give this process now [bytes], or None where unknown.
+
+    Linux's MemAvailable (free memory plus what the page cache can yield).
+    """
+    try:
+        with open("/proc/meminfo") as fh:
+            for line in fh:
+                if line.startswith("MemAvailable:"):
+                    return int(line.split()[1]) * 1024
+    except (OSError, ValueError, IndexError):
+        return None
+    return None
+
+
+def check_memory(n_unknowns, available=None):
+    """Refuse a solve whose dense matrices would not fit in memory, before allocating them.
+
+    Parameters
+    ----------
+    n_unknowns : int
+        P1 unknowns N (mesh vertices).
+    available : int, optional
+        Bytes free; default :func:`available_memory`.
+
+    Raises
+    ------
+    BemcheckInputError
+        When DENSE_ARRAYS · 16 N² bytes exceed what is available.
+
+    Examples
+    --------
+    >>> check_memory(1_000, available=10**9)   # 32 MB needed: fine
+    """
+    available = available_memory() if available is None else available
+    needed = DENSE_ARRAYS * 16.0 * float(n_unknowns) ** 2
+    if available is not None and needed > available:
+        gib = 1024.0**3
+        raise BemcheckInputError(
+            f"a mesh of {n_unknowns:,} unknowns needs about {needed / gib:.1f} GiB for its dense BEM matrices, "
+            f"but {available / gib:.1f} GiB of memory is available: lower the top frequency of the band, "
+            "split the sweep into more bands, or run on a machine with more memory"
+        )
+
+
 def assemble(surface, k, coupling=None):
     """Assemble and LU-factorise the Burton–Miller matrix of ``surface`` at wavenumber ``k``.
 
@@ -92,6 +143,7 @@ def assemble(surface, k, coupling=None):
     -------
     System
     """
+    check_memory(surface.n_vertices)
     device = current_device()
     eta = 1j / k if coupling is None else complex(coupling)
     t0 = time.perf_counter()
