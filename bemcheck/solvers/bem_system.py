@@ -41,7 +41,9 @@ class System:
     coupling : complex
         η of the combination.
     lu : tuple
-        ``scipy.linalg.lu_factor`` of the (nv, nv) Galerkin matrix.
+        ``scipy.linalg.lu_factor`` of the transpose of the (nv, nv) Galerkin
+        matrix (the matrix is built row-major; its transpose is column-major,
+        which LAPACK factorises in place without a copy).
     surface : Surface
     grid : bempp-cl Grid
         Kept to assemble the velocity operators on the same grid.
@@ -61,7 +63,7 @@ class System:
 
     def solve(self, rhs):
         """Solve for all right-hand sides at once: (nv, S) -> (nv, S) surface pressures."""
-        return lu_solve(self.lu, rhs, check_finite=False)
+        return lu_solve(self.lu, rhs, trans=1, check_finite=False)
 
 
 def _grid(surface):
@@ -76,8 +78,9 @@ def _grid(surface):
     return grid
 
 
-# N x N complex arrays held at the peak of a solve (the matrix, and either the
-# transposed pair blocks during assembly or the LU's copy); measured 2.1 in bench/.
+# N x N complex arrays held at the peak of a solve: the matrix and the
+# transposed pair blocks during assembly (the LU works in place); measured
+# 2.1 in bench/.
 DENSE_ARRAYS = 2
 
 
@@ -150,7 +153,7 @@ def assemble(surface, k, coupling=None):
     grid = _grid(surface)
     a = burton_miller_matrix(surface, grid, k, eta)
     t1 = time.perf_counter()
-    lu = lu_factor(a, overwrite_a=True, check_finite=False)
+    lu = lu_factor(a.T, overwrite_a=True, check_finite=False)
     t2 = time.perf_counter()
     return System(k, eta, lu, surface, grid, device, {"assembly": t1 - t0, "lu": t2 - t1})
 
