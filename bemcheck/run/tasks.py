@@ -99,7 +99,8 @@ def bem_task(case, task, device="auto", cache_dir=None):
         "device": sol.device,
         "seconds": seconds,
         "timings": {k: float(v) for k, v in sol.seconds.items()},
-        "summary": f"{mesh.n_triangles} elements, {sol.elements_per_wavelength:.1f}/λ, {seconds:.1f} s",
+        "summary": (f"{mesh.n_triangles} elements, {sol.elements_per_wavelength:.1f}/λ, {seconds:.1f} s"
+                    if mesh.n_triangles else f"no bodies (free field), {seconds:.1f} s"),
     }
     return arrays, meta
 
