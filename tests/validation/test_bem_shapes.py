@@ -111,7 +111,6 @@ def test_non_convex_body_gives_the_monopole_field():
     assert level < 0.3 and phase < 2.0
 
 
-@pytest.mark.slow
 def test_cube_converges_under_refinement():
     """Halving the element size divides the cube's error by at least 3 (O(h²) expected; edges
     and corners may slow it: common practice, no source)."""
