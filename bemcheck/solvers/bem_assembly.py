@@ -77,29 +77,43 @@ def colour_triangles(triangles):
     >>> [g.tolist() for g in groups]
     [[0, 2], [1]]
     """
-    triangles = np.asarray(triangles, dtype=np.int64)
-    colours = _greedy_colours(triangles, int(triangles.max(initial=-1)) + 1)
+    triangles = np.asarray(triangles, dtype=np.int64).reshape(-1, 3)
+    if not len(triangles):
+        return []
+    # triangles through each vertex, as compressed rows
+    corner_owner = np.repeat(np.arange(len(triangles)), 3)
+    by_vertex = np.argsort(triangles.reshape(-1), kind="stable")
+    indptr = np.searchsorted(triangles.reshape(-1)[by_vertex], np.arange(triangles.max() + 2))
+    colours = _greedy_colours(triangles, indptr, corner_owner[by_vertex])
     order = np.argsort(colours, kind="stable")
     cuts = np.flatnonzero(np.diff(colours[order])) + 1
-    return np.split(order, cuts) if len(order) else []
+    return np.split(order, cuts)
 
 
 @numba.njit(cache=True)
-def _greedy_colours(triangles, n_vertices):
-    # A vertex's mask holds the colours already taken by triangles through it.
-    used = np.zeros(n_vertices, dtype=np.uint64)
-    colours = np.empty(len(triangles), dtype=np.int64)
+def _greedy_colours(triangles, indptr, through):
+    """Smallest colour not taken by an already coloured triangle sharing a vertex.
+
+    A triangle has at most 3·(m - 1) such neighbours where m triangles meet
+    at a vertex, so 3·m + 1 colours always suffice (a fan of a hundred
+    triangles round one vertex included).
+    """
+    most = 0
+    for v in range(len(indptr) - 1):
+        most = max(most, indptr[v + 1] - indptr[v])
+    stamp = np.full(3 * most + 1, -1, dtype=np.int64)
+    colours = np.full(len(triangles), -1, dtype=np.int64)
     for t in range(len(triangles)):
-        taken = used[triangles[t, 0]] | used[triangles[t, 1]] | used[triangles[t, 2]]
-        c = 0
-        while taken & (np.uint64(1) << np.uint64(c)):
-            c += 1
-        if c >= 64:
-            raise ValueError("more than 64 triangles meet at one vertex")
-        colours[t] = c
-        bit = np.uint64(1) << np.uint64(c)
         for a in range(3):
-            used[triangles[t, a]] |= bit
+            v = triangles[t, a]
+            for i in range(indptr[v], indptr[v + 1]):
+                c = colours[through[i]]
+                if c >= 0:
+                    stamp[c] = t
+        c = 0
+        while stamp[c] == t:
+            c += 1
+        colours[t] = c
     return colours
 
 

@@ -58,3 +58,13 @@ def test_cosine_and_sine_against_numpy():
     got = np.array([cis(v) for v in x])
     assert np.abs(got[:, 0] - np.cos(x)).max() < 5e-14
     assert np.abs(got[:, 1] - np.sin(x)).max() < 5e-14
+
+
+def test_colouring_of_a_fan_of_a_hundred_triangles():
+    """A disk triangulated as a fan round its centre (as some CAD exports do): all
+    hundred triangles share the centre vertex, so each needs its own colour."""
+    n = 100
+    fan = np.array([[0, 1 + i, 1 + (i + 1) % n] for i in range(n)])
+    groups = colour_triangles(fan)
+    assert len(groups) == n
+    _check_colouring(fan)
