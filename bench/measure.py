@@ -203,7 +203,7 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
         Also time the finer self-check solve of each band.
     cache_dir : str, optional
         Mesh cache; every mesh is made before anything is timed.
-    device : {"auto", "numba", "opencl"}
+    device : {"auto", "numba"}
 
     Returns
     -------

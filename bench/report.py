@@ -22,7 +22,8 @@ def _machine(m):
         "",
         f"- CPU: {m['cpu']}, {m['cores']} cores; memory {m['memory_gib']:.1f} GiB",
         f"- Python {m['python']}; bempp-cl {m['bempp-cl']}, numba {m['numba']}, numpy {m['numpy']}, scipy {m['scipy']}",
-        f"- bempp-cl device: **{m['device']}** (OpenCL CPU runtime found: {m['opencl']})",
+        f"- bemcheck's device: **{m['device']}**; the reference's bempp-cl found an OpenCL CPU runtime: {m['opencl']} "
+        "(with one, the reference would assemble on it)",
         f"- bemcheck at commit {m['commit']}" + (f", with uncommitted changes in {', '.join(m['dirty'])}" if m["dirty"] else ""),
         f"- 1-minute load average: {load['start']:.1f} at the start, {load['min']:.1f}-{load['max']:.1f} during the "
         f"solves, {load['end']:.1f} at the end.  The machine was shared with other jobs whenever the load is above "
