@@ -1,5 +1,5 @@
 """`python -m bemcheck` is the `bemcheck` command."""
 
-from bemcheck.cli import main
+from bemcheck.cli import command
 
-raise SystemExit(main())
+raise SystemExit(command())

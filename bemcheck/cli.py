@@ -20,6 +20,8 @@ from pathlib import Path
 from bemcheck.errors import BemcheckInputError, EnvironmentProblem
 
 EXIT_OK, EXIT_FAILURE, EXIT_BAD_INPUT = 0, 1, 2
+# 128 + SIGINT, as shells report a command stopped by Ctrl-C
+EXIT_INTERRUPTED = 130
 # Storage problems are the user's to fix (space, quota, file-size limit, permissions), not internal failures.
 _STORAGE_ERRORS = {errno.ENOSPC, errno.EDQUOT, errno.EFBIG, errno.EACCES, errno.EROFS, errno.EPERM}
 
@@ -242,7 +244,7 @@ def main(argv=None):
         return EXIT_FAILURE
     except KeyboardInterrupt:
         print("bemcheck: interrupted; finished frequencies are kept: run the same command again to resume", file=sys.stderr)
-        return 130
+        return EXIT_INTERRUPTED
     except OSError as exc:
         if exc.errno in _STORAGE_ERRORS:
             where = exc.filename or "the output folder"
@@ -251,6 +253,23 @@ def main(argv=None):
         return _internal_failure()
     except Exception:
         return _internal_failure()
+
+
+def command():
+    """Entry point of the installed ``bemcheck`` command: run :func:`main`, leave with its code.
+
+    After Ctrl-C the process ends without Python's finalisation: the
+    interrupt can land inside numba's compiler, and its half-built native
+    objects were then freed twice at exit (glibc aborted the process, seen
+    here), which turned exit 130 into a crash.  Everything bemcheck writes is
+    already complete or removed by then.
+    """
+    code = main()
+    if code == EXIT_INTERRUPTED:
+        sys.stdout.flush()
+        sys.stderr.flush()
+        os._exit(code)
+    return code
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None):

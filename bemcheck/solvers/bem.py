@@ -26,6 +26,7 @@ from bemcheck.solvers import freefield
 from bemcheck.solvers.bem_fields import Fields, check_targets, directions_array, points_array, velocity_columns
 from bemcheck.solvers.bem_power import power_directions
 from bemcheck.solvers.bem_surface import surface_from_mesh
+from bemcheck.solvers.bem_device import first_solve_guard
 from bemcheck.solvers.bem_system import assemble, mixed_mass, velocity_rhs
 
 # A monopole closer to a surface than this many times the nearest triangle's
@@ -165,63 +166,64 @@ def solve_frequency(
     >>> round(float(abs(sol.far_field[0, 0])), 1), sol.device
     (60.2, 'none')
     """
-    if not (np.isfinite(frequency) and frequency > 0):
-        raise CaseError(f"frequency: expected a positive number of Hz, got {frequency!r}")
-    surface = surface_from_mesh(mesh)
-    x_src = points_array(monopoles, "monopoles")
-    dirs = directions_array(directions)
-    obs = points_array(points, "points")
-    if surface.n_triangles == 0:
-        if len(pistons) or velocities is not None:
-            raise GeometryError("pistons/velocities: the mesh has no triangles to move")
-        return _free_solution(frequency, medium, x_src, dirs, obs)
-    v, names = velocity_columns(surface, pistons, velocities)
-    flds = Fields.build(surface, frequency, medium, x_src, v)
-    # Positions are checked before the costly assembly.
-    at_src = flds.moments(x_src, single=True)
-    check_targets(at_src, x_src, "monopoles", MIN_SOURCE_GAP)
-    at_obs = flds.moments(obs)
-    check_targets(at_obs, obs, "points")
+    with first_solve_guard():
+        if not (np.isfinite(frequency) and frequency > 0):
+            raise CaseError(f"frequency: expected a positive number of Hz, got {frequency!r}")
+        surface = surface_from_mesh(mesh)
+        x_src = points_array(monopoles, "monopoles")
+        dirs = directions_array(directions)
+        obs = points_array(points, "points")
+        if surface.n_triangles == 0:
+            if len(pistons) or velocities is not None:
+                raise GeometryError("pistons/velocities: the mesh has no triangles to move")
+            return _free_solution(frequency, medium, x_src, dirs, obs)
+        v, names = velocity_columns(surface, pistons, velocities)
+        flds = Fields.build(surface, frequency, medium, x_src, v)
+        # Positions are checked before the costly assembly.
+        at_src = flds.moments(x_src, single=True)
+        check_targets(at_src, x_src, "monopoles", MIN_SOURCE_GAP)
+        at_obs = flds.moments(obs)
+        check_targets(at_obs, obs, "points")
 
-    system = assemble(surface, flds.k, coupling)
-    t1 = time.perf_counter()
-    iwr = 1j * 2.0 * np.pi * frequency * medium.density
-    rhs = -iwr * (at_src.single + system.coupling * at_src.double).T
-    if flds.n_velocity:
-        rhs = np.concatenate([rhs, velocity_rhs(system, flds.support, flds.g[:, len(x_src) :])], axis=1)
-    u = system.solve(rhs)
+        system = assemble(surface, flds.k, coupling)
+        t1 = time.perf_counter()
+        iwr = 1j * 2.0 * np.pi * frequency * medium.density
+        rhs = -iwr * (at_src.single + system.coupling * at_src.double).T
+        if flds.n_velocity:
+            rhs = np.concatenate([rhs, velocity_rhs(system, flds.support, flds.g[:, len(x_src) :])], axis=1)
+        u = system.solve(rhs)
 
-    t2 = time.perf_counter()
-    z_mono = flds.pad(freefield.impedance_matrix(frequency, medium, x_src)) + flds.scattered(at_src, u)
-    weights = mixed_mass(surface, flds.support) @ v[flds.support]
-    impedance = np.concatenate([z_mono, weights.T @ u], axis=0)
-    field = flds.pad(freefield.transfer_matrix(frequency, medium, x_src, obs)) + flds.scattered(at_obs, u)
-    # On the surface the trace of the total field is u itself.
-    on = np.flatnonzero(at_obs.on_surface)
-    field[on] = at_obs.nearest[on] @ u
-    far = flds.far_field(dirs, u)
-    p_mat = _power_matrix(flds, surface, x_src, u, medium) if power else np.full(impedance.shape, np.nan + 0j)
-    t3 = time.perf_counter()
+        t2 = time.perf_counter()
+        z_mono = flds.pad(freefield.impedance_matrix(frequency, medium, x_src)) + flds.scattered(at_src, u)
+        weights = mixed_mass(surface, flds.support) @ v[flds.support]
+        impedance = np.concatenate([z_mono, weights.T @ u], axis=0)
+        field = flds.pad(freefield.transfer_matrix(frequency, medium, x_src, obs)) + flds.scattered(at_obs, u)
+        # On the surface the trace of the total field is u itself.
+        on = np.flatnonzero(at_obs.on_surface)
+        field[on] = at_obs.nearest[on] @ u
+        far = flds.far_field(dirs, u)
+        p_mat = _power_matrix(flds, surface, x_src, u, medium) if power else np.full(impedance.shape, np.nan + 0j)
+        t3 = time.perf_counter()
 
-    pressure = np.full((len(mesh.vertices), u.shape[1]), np.nan + 0j)
-    pressure[surface.mesh_vertex] = u
-    h = surface.element_size
-    return BemSolution(
-        frequency=float(frequency),
-        far_field=far,
-        points=field,
-        impedance=impedance,
-        power_matrix=p_mat,
-        surface_pressure=pressure,
-        normal_velocity=v,
-        monopoles=x_src,
-        source_gaps=at_src.gap,
-        velocity_sources=names,
-        element_size=h,
-        elements_per_wavelength=2.0 * np.pi / flds.k / h,
-        device=system.device,
-        seconds={**system.seconds, "solve": t2 - t1, "fields": t3 - t2},
-    )
+        pressure = np.full((len(mesh.vertices), u.shape[1]), np.nan + 0j)
+        pressure[surface.mesh_vertex] = u
+        h = surface.element_size
+        return BemSolution(
+            frequency=float(frequency),
+            far_field=far,
+            points=field,
+            impedance=impedance,
+            power_matrix=p_mat,
+            surface_pressure=pressure,
+            normal_velocity=v,
+            monopoles=x_src,
+            source_gaps=at_src.gap,
+            velocity_sources=names,
+            element_size=h,
+            elements_per_wavelength=2.0 * np.pi / flds.k / h,
+            device=system.device,
+            seconds={**system.seconds, "solve": t2 - t1, "fields": t3 - t2},
+        )
 
 
 def _power_matrix(flds, surface, x_src, u, medium):

@@ -122,7 +122,7 @@ def _greedy_colours(triangles, indptr, through):
 _BLOCK = 128
 
 
-@numba.njit(inline="always", fastmath=True, error_model="numpy", cache=True)
+@numba.njit(inline="always", fastmath=True, error_model="numpy")
 def _touching(triangles, t, s):
     for a in range(3):
         for b in range(3):
@@ -131,7 +131,7 @@ def _touching(triangles, t, s):
     return False
 
 
-@numba.njit(fastmath=True, error_model="numpy", cache=True)
+@numba.njit(inline="always", fastmath=True, error_model="numpy")
 def _pair_sums(t, s, xq, phi, w, k, normals, sums):
     """One pair's integrals with the rule (xq, phi, w), into sums (6, 3, 3):
     Re and Im of ∫∫ φ_a φ_b G, of ∫∫ φ_a φ_b ∂_r G (y-x)·n_s / r, and of the same with n_t."""
@@ -165,7 +165,7 @@ def _pair_sums(t, s, xq, phi, w, k, normals, sums):
                     sums[5, a, b] += d_im * rt * f
 
 
-@numba.njit(fastmath=True, error_model="numpy", cache=True)
+@numba.njit(inline="always", fastmath=True, error_model="numpy")
 def _far_block(t, s0, n, fx, nrm, phi, w, k, kern, folded, sums):
     """The sums of :func:`_pair_sums` with the 3-point rule for trial triangles s0 .. s0+n-1,
     into sums[:, :, :, j] (6, 3, 3, n); ``fx`` (3 points, 3 axes, nt) and ``nrm`` (3, nt)
@@ -215,7 +215,7 @@ def _far_block(t, s0, n, fx, nrm, phi, w, k, kern, folded, sums):
                         sums[i, a, b, j] += fa * folded[i, b, j]
 
 
-@numba.njit(inline="always", fastmath=True, error_model="numpy", cache=True)
+@numba.njit(inline="always", fastmath=True, error_model="numpy")
 def _add_pair(ahead, behind, t, s, sums, j, triangles, normals, areas, curls, k2, eta_re, eta_im):
     """Write the blocks (t, s) of -K + ηW into ``ahead`` and (s, t)ᵀ into ``behind`` from sums[..., j]."""
     s0_re = 0.0
@@ -240,7 +240,7 @@ def _add_pair(ahead, behind, t, s, sums, j, triangles, normals, areas, curls, k2
             behind[row, col] += scale * complex(ew_re + sums[4, a, b, j], ew_im + sums[5, a, b, j])
 
 
-@numba.njit(parallel=True, fastmath=True, error_model="numpy", cache=True)
+@numba.njit(parallel=True, fastmath=True, error_model="numpy")
 def _regular(ahead, behind, triangles, normals, areas, sizes, centroids, curls, near_x, near_phi, near_w,
              far_x, far_phi, far_w, fx, nrm, members, k, eta_re, eta_im, far_ratio):
     """Add the regular part of -K + ηW for the pairs (t, s) of test triangles t in ``members``.
@@ -288,7 +288,7 @@ def _regular(ahead, behind, triangles, normals, areas, sizes, centroids, curls, 
             remaining -= n
 
 
-@numba.njit(parallel=True, fastmath=True, error_model="numpy", cache=True)
+@numba.njit(parallel=True, fastmath=True, error_model="numpy")
 def _regular_velocity(out, support, triangles, normals, areas, sizes, centroids, near_x, near_phi, near_w,
                       far_x, far_phi, far_w, k, eta_re, eta_im, far_ratio):
     """Add the regular part of V + ηK' for a constant trial function on each support triangle.

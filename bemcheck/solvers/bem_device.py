@@ -12,10 +12,12 @@ kept out of our output: importing :mod:`bemcheck` never imports it.
 import contextlib
 import io
 import os
+import signal
+import threading
 
 DEVICES = ("auto", "numba")
 
-_state = {"device": None}
+_state = {"device": None, "solved": False, "assembled": False}
 
 
 def bempp():
@@ -83,3 +85,32 @@ def current_device():
     if _state["device"] is None:
         return configure_device("auto")
     return _state["device"]
+
+
+@contextlib.contextmanager
+def first_solve_guard():
+    """Hold Ctrl-C back during a process's first solve, while numba compiles the kernels.
+
+    An interrupt that lands inside the compiler's callbacks is swallowed
+    there (printed as an ignored exception), and the run would go on.  With
+    SIGINT blocked it stays pending and is delivered as soon as the first
+    solve with bodies ends, before its answer is stored.  Later solves are
+    not guarded.
+    Only the main thread of a POSIX process can do this; elsewhere it does
+    nothing.
+    """
+    if _state["solved"] or threading.current_thread() is not threading.main_thread() or not hasattr(signal, "pthread_sigmask"):
+        yield
+        return
+    previous = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
+    try:
+        yield
+        # a layout without bodies compiles nothing: keep guarding until one has
+        _state["solved"] = _state["assembled"]
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, previous)
+
+
+def note_assembly():
+    """Record that this process has assembled (and so compiled) the BEM kernels."""
+    _state["assembled"] = True

@@ -292,7 +292,7 @@ def solid_angles(points, corners):
     return -2.0 * np.arctan2(num, den)
 
 
-@numba.njit(parallel=True, fastmath=True, error_model="numpy", cache=True)
+@numba.njit(parallel=True, fastmath=True, error_model="numpy")
 def _far_field(out_d, out_s, d, y, w, normals, triangles, bary, support, k):
     """Fill D and S of :func:`far_field_moments`, one direction per thread at a time."""
     for i in numba.prange(d.shape[0]):

@@ -6,6 +6,13 @@ zero divisor, and those branches kept the compiler from vectorising the
 loops over points (the assembly took 60 % longer with them).  No divisor
 here can be zero: touching pairs, where r could vanish, go to the
 Sauter–Schwab rules, whose points never coincide.
+
+Every helper a kernel calls is ``inline="always"``, and the kernels are
+compiled in each process rather than loaded from numba's on-disk cache:
+code loaded from the cache gave results that differed in the last bit from
+the same code compiled in the process (measured here on the assembly), and
+a resumed sweep must equal an uninterrupted one bit for bit
+(tests/unit/test_interrupts.py).  Compiling costs about 10 s per process.
 """
 
 import math
@@ -20,7 +27,7 @@ _S1, _S2, _S3, _S4, _S5, _S6, _S7 = ((-1.0) ** j / math.factorial(2 * j + 1) for
 _C1, _C2, _C3, _C4, _C5, _C6, _C7, _C8 = ((-1.0) ** j / math.factorial(2 * j) for j in range(1, 9))
 
 
-@numba.njit(inline="always", fastmath=True, error_model="numpy", cache=True)
+@numba.njit(inline="always", fastmath=True, error_model="numpy")
 def cis(x):
     """(cos x, sin x) for real x, a few times faster than the two libm calls.
 

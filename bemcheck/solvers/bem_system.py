@@ -27,7 +27,7 @@ from scipy.sparse import coo_matrix
 
 from bemcheck.errors import BemcheckInputError
 from bemcheck.solvers.bem_assembly import burton_miller_matrix, velocity_matrix
-from bemcheck.solvers.bem_device import bempp, current_device
+from bemcheck.solvers.bem_device import bempp, current_device, note_assembly
 
 
 @dataclass(frozen=True, eq=False)
@@ -155,6 +155,7 @@ def assemble(surface, k, coupling=None):
     t1 = time.perf_counter()
     lu = lu_factor(a.T, overwrite_a=True, check_finite=False)
     t2 = time.perf_counter()
+    note_assembly()
     return System(k, eta, lu, surface, grid, device, {"assembly": t1 - t0, "lu": t2 - t1})
 
 

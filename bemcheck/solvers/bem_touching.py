@@ -30,13 +30,13 @@ def _rule(grid, order, test_support, trial_support):
     return [np.ascontiguousarray(a) for a in rule.get_arrays()]
 
 
-@numba.njit(inline="always", fastmath=True, error_model="numpy", cache=True)
+@numba.njit(inline="always", fastmath=True, error_model="numpy")
 def _point(corners, e, u, v, out):
     for i in range(3):
         out[i] = corners[e, 0, i] + u * (corners[e, 1, i] - corners[e, 0, i]) + v * (corners[e, 2, i] - corners[e, 0, i])
 
 
-@numba.njit(parallel=True, fastmath=True, error_model="numpy", cache=True)
+@numba.njit(parallel=True, fastmath=True, error_model="numpy")
 def _pairs(corners, normals, areas, curls, test_points, trial_points, weights, test_elements, trial_elements,
            test_offsets, trial_offsets, weight_offsets, counts, k, eta_re, eta_im, with_curls, result):
     """Per pair p, result[p, a, b] = (-K + ηW)(t, s)[a, b] for P1 test a and P1 trial b;
