@@ -12,24 +12,26 @@ the surface curl n × ∇φ, constant on a triangle).  Both share the kernel, so
 one pass over the triangle pairs evaluates e^{ikr} once per point pair for
 both, on every core, and writes -K + ηW straight into the matrix.
 
-Pairs that share a vertex (the singular ones) are left to bempp-cl's
-singular quadrature (Sauter & Schwab 2011, Boundary Element Methods, ch. 5),
-added afterwards.  Other pairs use a symmetric Gauss rule on each triangle:
-the 6-point rule bempp-cl uses for its regular part (degree 4) when the
+Pairs that share a vertex (the singular ones) are left to
+:mod:`bemcheck.solvers.bem_touching` (Sauter–Schwab rules), added
+afterwards.  Other pairs use a symmetric Gauss rule on each triangle: the
+6-point rule bempp-cl uses for its regular part (degree 4) when the
 triangles are near each other, the 3-point rule (degree 2) when they are far
-apart, where the kernel is smooth on the scale of a triangle
-(``FAR_RATIO``; the effect on the field is measured in
-tests/validation/test_bem_assembly.py and bench/).
+apart (``FAR_RATIO``; the effect on the field is measured in
+tests/validation/test_bem_assembly.py).  The same machinery gives the
+piston operators V + ηK' (:func:`velocity_matrix`).
 
 Why not bempp-cl's dense assembler: its hypersingular regular kernel runs on
-one core and evaluates the kernel separately from the double layer; on this
-2-core machine the two took 11.5 s at 1,002 unknowns (see bench/RESULTS.md).
+one core and evaluates the kernel apart from the double layer; at 1,002
+unknowns the two took 11.4 s here against 2.8 s for the first, unvectorised
+version of this pass with the same rules (measured while writing it;
+bench/RESULTS.md has the current figures).
 """
 
 import numba
 import numpy as np
 
-from bemcheck.solvers.bem_device import bempp
+from bemcheck.solvers.bem_quadrature import gauss
 from bemcheck.solvers.bem_kernel import cis, surface_curls
 from bemcheck.solvers.bem_touching import add_touching_pairs, add_touching_velocity
 
@@ -45,15 +47,6 @@ FAR_ORDER = 2
 # 4).  Order 3 takes a third of the time and moves the touching-pairs part
 # by 2e-4 of its norm; in the sphere check above the far field is unchanged.
 SINGULAR_ORDER = 3
-
-
-def _gauss(order):
-    """Symmetric Gauss rule of ``order``: ((nq, 3) barycentric points, (nq,) weights summing to 1)."""
-    bempp()  # first import of bempp-cl must be the quiet one
-    from bempp_cl.api.integration.triangle_gauss import rule
-
-    st, w = rule(order)
-    return np.stack([1.0 - st[0] - st[1], st[0], st[1]], axis=1), 2.0 * w
 
 
 def colour_triangles(triangles):
@@ -129,6 +122,16 @@ def _touching(triangles, t, s):
             if triangles[t, a] == triangles[s, b]:
                 return True
     return False
+
+
+@numba.njit(inline="always", fastmath=True, error_model="numpy")
+def _far_apart(centroids, sizes, t, s, far_ratio):
+    """Whether the centroids are more than far_ratio times the larger longest edge apart."""
+    dx = centroids[s, 0] - centroids[t, 0]
+    dy = centroids[s, 1] - centroids[t, 1]
+    dz = centroids[s, 2] - centroids[t, 2]
+    reach = far_ratio * max(sizes[s], sizes[t])
+    return dx * dx + dy * dy + dz * dz > reach * reach
 
 
 @numba.njit(inline="always", fastmath=True, error_model="numpy")
@@ -275,11 +278,7 @@ def _regular(ahead, behind, triangles, normals, areas, sizes, centroids, curls, 
                 s = s0 + j
                 if _touching(triangles, t, s):
                     continue
-                dx = centroids[s, 0] - centroids[t, 0]
-                dy = centroids[s, 1] - centroids[t, 1]
-                dz = centroids[s, 2] - centroids[t, 2]
-                reach = far_ratio * max(sizes[s], sizes[t])
-                if dx * dx + dy * dy + dz * dz > reach * reach:
+                if _far_apart(centroids, sizes, t, s, far_ratio):
                     _add_pair(ahead, behind, t, s, sums, j, triangles, normals, areas, curls, k2, eta_re, eta_im)
                 else:
                     _pair_sums(t, s, near_x, near_phi, near_w, k, normals, one[:, :, :, 0])
@@ -300,18 +299,11 @@ def _regular_velocity(out, support, triangles, normals, areas, sizes, centroids,
     inv4pi = 1.0 / (4.0 * np.pi)
     for j in numba.prange(support.shape[0]):
         s = support[j]
-        sa0, sa1, sa2 = triangles[s, 0], triangles[s, 1], triangles[s, 2]
         v = np.zeros(3, dtype=np.complex128)
         for t in range(nt):
-            if (triangles[t, 0] == sa0 or triangles[t, 0] == sa1 or triangles[t, 0] == sa2
-                    or triangles[t, 1] == sa0 or triangles[t, 1] == sa1 or triangles[t, 1] == sa2
-                    or triangles[t, 2] == sa0 or triangles[t, 2] == sa1 or triangles[t, 2] == sa2):
+            if _touching(triangles, t, s):
                 continue
-            dx = centroids[s, 0] - centroids[t, 0]
-            dy = centroids[s, 1] - centroids[t, 1]
-            dz = centroids[s, 2] - centroids[t, 2]
-            reach = far_ratio * max(sizes[s], sizes[t])
-            if dx * dx + dy * dy + dz * dz > reach * reach:
+            if _far_apart(centroids, sizes, t, s, far_ratio):
                 xq, phi, w = far_x, far_phi, far_w
             else:
                 xq, phi, w = near_x, near_phi, near_w
@@ -333,11 +325,6 @@ def _regular_velocity(out, support, triangles, normals, areas, sizes, centroids,
                     v[a] += w[p] * phi[p, a] * total
             for a in range(3):
                 out[triangles[t, a], j] += areas[t] * areas[s] * v[a]
-
-
-def _rule_arrays(order):
-    bary, w = _gauss(order)
-    return np.ascontiguousarray(bary), np.ascontiguousarray(w)
 
 
 def add_regular_part(out, surface, k, eta, far_ratio=FAR_RATIO):
@@ -373,8 +360,8 @@ def _points(surface):
     corners = surface.vertices[surface.triangles]
     rules = []
     for order in (NEAR_ORDER, FAR_ORDER):
-        phi, w = _rule_arrays(order)
-        rules.append((np.ascontiguousarray(np.einsum("qa,tai->tqi", phi, corners)), phi, w))
+        rule = gauss(order)
+        rules.append((np.ascontiguousarray(np.einsum("qa,tai->tqi", rule.bary, corners)), rule.bary, rule.weights))
     triangles = np.ascontiguousarray(surface.triangles, dtype=np.int64)
     return triangles, corners.mean(axis=1), rules[0], rules[1]
 

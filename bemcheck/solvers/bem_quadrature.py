@@ -78,15 +78,39 @@ def rule(level=0):
     >>> r.bary.shape, round(float(r.weights.sum()), 12)
     ((24, 3), 1.0)
     """
-    bempp()  # first import of bempp-cl must be the quiet one
-    from bempp_cl.api.integration.triangle_gauss import rule as gauss
-
-    st, w = gauss(BASE_ORDER)
-    base = np.stack([1.0 - st[0] - st[1], st[0], st[1]], axis=1)
+    base = gauss(BASE_ORDER)
     corners = _lattice(2**level)
-    bary = np.einsum("qa,sab->sqb", base, corners).reshape(-1, 3)
-    weights = np.tile(2.0 * w, len(corners)) / len(corners)
+    bary = np.einsum("qa,sab->sqb", base.bary, corners).reshape(-1, 3)
+    weights = np.tile(base.weights, len(corners)) / len(corners)
     return Rule(bary, weights)
+
+
+@cache
+def gauss(order):
+    """bempp-cl's symmetric Gauss rule of ``order`` on a triangle, in barycentric form.
+
+    Parameters
+    ----------
+    order : int
+        Degree of polynomials integrated exactly, 1 .. 20.
+
+    Returns
+    -------
+    Rule
+        Contiguous arrays, weights summing to 1.
+
+    Examples
+    --------
+    >>> g = gauss(2)
+    >>> g.bary.shape, round(float(g.weights.sum()), 12)
+    ((3, 3), 1.0)
+    """
+    bempp()  # first import of bempp-cl must be the quiet one
+    from bempp_cl.api.integration.triangle_gauss import rule as reference_rule
+
+    st, w = reference_rule(order)
+    bary = np.ascontiguousarray(np.stack([1.0 - st[0] - st[1], st[0], st[1]], axis=1))
+    return Rule(bary, np.ascontiguousarray(2.0 * w))
 
 
 def closest_points(points, a, b, c):
