@@ -6,12 +6,13 @@ return; :mod:`report` formats what these compute.
 
 import numpy as np
 
+from bemcheck.solvers.bem_system import DENSE_ARRAYS
+
 GIB = 1024.0**3
 COMPLEX_BYTES = 16
-# N x N complex arrays bemcheck's assembly holds at its peak, read from
-# bemcheck/solvers/bem_assembly.py `add_regular_part`: the matrix and the
-# blocks of each pair's second order, added transposed at the end.
-DENSE_HELD = 2
+# N x N complex arrays bemcheck's assembly holds at its peak: the solver's
+# own figure, which its memory check before each solve uses too.
+DENSE_HELD = DENSE_ARRAYS
 MEMORY_LIMIT = 24.0 * GIB
 
 
