@@ -17,7 +17,7 @@ import threading
 
 DEVICES = ("auto", "numba")
 
-_state = {"device": None, "solved": False, "assembled": False}
+_state = {"device": None, "assembled": False}
 
 
 def bempp():
@@ -99,14 +99,13 @@ def first_solve_guard():
     Only the main thread of a POSIX process can do this; elsewhere it does
     nothing.
     """
-    if _state["solved"] or threading.current_thread() is not threading.main_thread() or not hasattr(signal, "pthread_sigmask"):
+    if _state["assembled"] or threading.current_thread() is not threading.main_thread() or not hasattr(signal, "pthread_sigmask"):
         yield
         return
     previous = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
+    # a layout without bodies compiles nothing: guarding lasts until a solve has assembled
     try:
         yield
-        # a layout without bodies compiles nothing: keep guarding until one has
-        _state["solved"] = _state["assembled"]
     finally:
         signal.pthread_sigmask(signal.SIG_SETMASK, previous)
 
