@@ -90,9 +90,7 @@ def _cmd_check(args, out):
 
 
 def _subset(case, spec, file):
-    """The case with only the frequencies ``spec`` names ('200,400' or '200:800')."""
-    from dataclasses import replace
-
+    """The case frequencies ``spec`` names ('200,400' or '200:800'), as a tuple [Hz]."""
     from bemcheck.errors import CaseError
 
     f = case.frequencies
@@ -110,7 +108,7 @@ def _subset(case, spec, file):
         raise CaseError(f"--frequencies: expected '200,400' or '200:800' in Hz, got {spec!r}") from None
     if not keep:
         raise CaseError(f"--frequencies: {spec!r} selects none of the frequencies of {file}")
-    return replace(case, frequencies=keep)
+    return keep
 
 
 def _cmd_run(args, out):
@@ -118,15 +116,14 @@ def _cmd_run(args, out):
     from bemcheck.run.runner import run_case
 
     case = load_case(args.case)
-    if args.frequencies:
-        case = _subset(case, args.frequencies, args.case)
+    subset = _subset(case, args.frequencies, args.case) if args.frequencies else None
     if args.workers < 1:
         raise BemcheckInputError(f"--workers: expected a whole number ≥ 1, got {args.workers}")
     options = {}
     if args.model != "free":
         options = {"workers": args.workers, "scheduler": args.scheduler, "device": args.device, "cache_dir": args.mesh_cache, "quiet": args.quiet}
     bands = _verbose_before(case, args) if args.verbose else None
-    outcome = run_case(case, args.out, model=args.model, report=not args.no_report, **options)
+    outcome = run_case(case, args.out, model=args.model, report=not args.no_report, frequencies=subset, **options)
     if bands:
         _verbose_after(bands, outcome)
     for line in outcome.verdict_lines:

@@ -59,7 +59,7 @@ def sweep_summary(sweep):
     """
     both = [r for r in sweep["rows"] if "reference" in r]
     ratios = np.array([r["reference"]["wall"] / r["bemcheck"]["wall"] for r in both])
-    band = [r for r in sweep["rows"] if not r["refine"]]
+    band = [r for r in sweep["rows"] if r["kind"] == "solve"]
     median_bem = float(np.median([r["bemcheck"]["wall"] for r in band]))
     speedup = float(np.median(ratios)) if len(ratios) else float("nan")
     bem_measured = sum(r["bemcheck"]["wall"] for r in sweep["rows"])
@@ -70,7 +70,13 @@ def sweep_summary(sweep):
     sources = len(sweep["sources"])
     per_source_ref = [(r["reference"]["parts"]["sources"] + r["reference"]["parts"]["solve"]) / sources for r in both]
     per_source_bem = [(r["bemcheck"]["parts"]["solve"] + r["bemcheck"]["parts"]["fields"]) / sources for r in both]
+    solve_wall = {r["frequency"]: r["bemcheck"]["wall"] for r in band}
+    extra = {}
+    for r in sweep["rows"]:
+        if r["kind"] != "solve" and r["frequency"] in solve_wall:
+            extra.setdefault(r["kind"], []).append(r["bemcheck"]["wall"] / solve_wall[r["frequency"]])
     return {
+        "extra_cost_per_solve": {k: float(np.sum(v) / len(set(solve_wall))) for k, v in extra.items()},
         "speedup": speedup,
         "ratios": ratios.tolist(),
         "frequencies_compared": len(both),

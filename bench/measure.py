@@ -200,7 +200,8 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
     frequencies : sequence of float, optional
         Only these case frequencies (default: all).
     self_check : bool
-        Also time the finer self-check solve of each band.
+        Also time the error-check solve (second mesh) and the single-body
+        solves of each chosen frequency.
     cache_dir : str, optional
         Mesh cache; every mesh is made before anything is timed.
     device : {"auto", "numba"}
@@ -216,18 +217,23 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
     from bemcheck.case import load_case
     from bemcheck.mesh import mesh_scene, plan_bands
     from bemcheck.observers import for_observers
-    from bemcheck.run.sweep import SELF_CHECK_REFINE, plan_tasks
-    from bemcheck.run.tasks import bem_task
+    from bemcheck.run.sweep import CHECK, SOLVE, plan_tasks
+    from bemcheck.run.tasks import alone_case, bem_task, check_mesh
     from reference import reference_solve
 
     case = load_case(case_path)
     plan = plan_tasks(case, plan_bands(case), harmonics=[f for _, _, f in harmonic_plan(case)])
     chosen = case.frequencies if frequencies is None else frequencies
-    tasks = [t for t in plan if not t.harmonic and (self_check or not t.refine)
-             and (t.refine or np.isclose(t.frequency, chosen).any())]
+    tasks = [t for t in plan if not t.harmonic and (self_check or t.kind == SOLVE)
+             and np.isclose(t.frequency, chosen).any()]
+
+    def mesh_of(t):
+        if t.kind == CHECK:
+            return check_mesh(case, t.element_size, cache_dir)[0]
+        return mesh_scene(alone_case(case, t.body) if t.body else case, t.element_size, cache_dir=cache_dir)
+
     with Clock() as meshing:
-        meshes = {t.key: mesh_scene(case, t.element_size, cache_dir=cache_dir,
-                                    refine=SELF_CHECK_REFINE if t.refine else 1.0) for t in tasks}
+        meshes = {t.key: mesh_of(t) for t in tasks}
     warm = _warm_up(reference=True)
     directions = for_observers(case.observers.far_field).unit
     x_src, groups, back = _case_columns(case)
@@ -237,10 +243,10 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
     for t in tasks:
         with Clock() as c:
             arrays, meta = bem_task(case, t, device=device, cache_dir=cache_dir)
-        row = {"frequency": t.frequency, "refine": t.refine, "unknowns": meta["unknowns"], "elements": meta["elements"],
+        row = {"frequency": t.frequency, "kind": t.kind, "body": t.body, "unknowns": meta["unknowns"], "elements": meta["elements"],
                "device": meta["device"], "bemcheck": {"wall": c.wall, "cpu": c.cpu, "parts": meta["timings"]},
                "peak_rss": peak_rss()}
-        if not t.refine and np.isclose(t.frequency, reference_frequencies).any():
+        if t.kind == SOLVE and np.isclose(t.frequency, reference_frequencies).any():
             with Clock() as r:
                 ref = reference_solve(meshes[t.key], t.frequency, case.medium, x_src, directions, pistons=groups)
             f_ref, f_bem = ref.far_field[:, back], arrays["far_field"]
@@ -249,7 +255,8 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
             row["max_relative_difference"] = float((np.abs(f_bem - f_ref) / np.abs(f_ref).max(axis=0)).max())
         row["load"] = os.getloadavg()
         out["rows"].append(row)
-        print(f"sweep {t.frequency:.1f} Hz{' self-check' if t.refine else ''} N={meta['unknowns']}: {c.wall:.1f} s"
+        what = "" if t.kind == SOLVE else f" {t.kind} {t.body or ''}".rstrip()
+        print(f"sweep {t.frequency:.1f} Hz{what} N={meta['unknowns']}: {c.wall:.1f} s"
               + (f", reference {row['reference']['wall']:.1f} s" if "reference" in row else ""), file=sys.stderr, flush=True)
     out["peak_rss"] = peak_rss()
     return out

@@ -363,10 +363,13 @@ def _tolerance(r):
         return Tolerance()
     level = r.number("level_db", Tolerance.level_db, positive=True)
     phase = r.number("phase_deg", Tolerance.phase_deg, positive=True, high=180.0)
+    target = r.number("attenuation_target_db", Tolerance.attenuation_target_db, positive=True, high=60.0)
+    shortfall = r.number("attenuation_db", Tolerance.attenuation_db, positive=True, high=60.0)
     sectors = tuple(_sector(s) for s in r.subs("sectors")) or Tolerance().sectors
     _unique([s.name for s in sectors], "tolerance.sectors", r.file)
     r.done()
-    return Tolerance(level_db=level, phase_deg=phase, sectors=sectors)
+    return Tolerance(level_db=level, phase_deg=phase, sectors=sectors, attenuation_target_db=target,
+                     attenuation_db=shortfall)
 
 
 def _unique(names, what, file):

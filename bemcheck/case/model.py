@@ -177,11 +177,21 @@ class Control:
 
 @dataclass(frozen=True)
 class Tolerance:
-    """How far the monopole model may depart from the scattered field and still be trusted."""
+    """How far the monopole model may depart from the scattered field and still be trusted.
+
+    ``level_db`` and ``phase_deg`` bound the departure of each single
+    source's field.  The controlled system is judged by its attenuation: it
+    must reach min(predicted, ``attenuation_target_db``) to within a
+    shortfall of ``attenuation_db`` [dB].  Defaults: 10 dB of attenuation is
+    a reduction commonly taken as worth building for, and 3 dB (half the
+    power) the shortfall a design may lose (common practice, no source).
+    """
 
     level_db: float = 1.0
     phase_deg: float = 15.0
     sectors: tuple[Sector, ...] = (Sector("all", 0.0, 360.0),)
+    attenuation_target_db: float = 10.0
+    attenuation_db: float = 3.0
 
 
 @dataclass(frozen=True)

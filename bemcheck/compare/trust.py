@@ -41,6 +41,46 @@ def exceedance(level_db, phase_deg, error_db, error_deg, tol_db, tol_deg):
     return np.maximum((np.abs(level_db) - error_db) / tol_db, (np.abs(phase_deg) - error_deg) / tol_deg)
 
 
+def shortfall_db(predicted_db, achieved_db, target_db):
+    """min(predicted, target) − achieved [dB]: how far the achieved attenuation falls short.
+
+    Examples
+    --------
+    >>> shortfall_db(np.array([30.0, 5.0]), np.array([22.0, 6.0]), 10.0).tolist()
+    [-12.0, -1.0]
+    """
+    return np.minimum(predicted_db, target_db) - achieved_db
+
+
+def judge_shortfall(shortfall, error_db, tolerated_db, below_db=None):
+    """AGREES, NOT_RESOLVED or DEPARTS per point (arrays broadcast).
+
+    ``error_db`` bounds the achieved attenuation's error either way;
+    ``below_db`` (default ``error_db``) how much lower it may truly be, which
+    alone decides whether it surely agrees.
+
+    Examples
+    --------
+    >>> judge_shortfall(np.array([-5.0, 2.5, 6.0]), 1.0, 3.0).tolist()
+    [0, 1, 2]
+    """
+    below_db = error_db if below_db is None else below_db
+    departs = shortfall - error_db > tolerated_db
+    agrees = shortfall + below_db <= tolerated_db
+    return np.where(departs, DEPARTS, np.where(agrees, AGREES, NOT_RESOLVED))
+
+
+def shortfall_exceedance(shortfall, error_db, tolerated_db):
+    """How far beyond the tolerated shortfall it surely is: > 1 departs (same rule as :func:`judge_shortfall`).
+
+    Examples
+    --------
+    >>> float(shortfall_exceedance(7.0, 1.0, 3.0))
+    2.0
+    """
+    return (np.asarray(shortfall) - error_db) / tolerated_db
+
+
 def crossing_frequency(frequencies, metric):
     """Lowest frequency where ``metric`` rises above 1, interpolated linearly in log f.
 
@@ -84,51 +124,91 @@ def significant(p_a, p_b):
     return (a >= floor * a.max(axis=-1, keepdims=True)) | (b >= floor * b.max(axis=-1, keepdims=True))
 
 
-def trust_tables(cmp, tolerance, error_db, error_deg, mask):
-    """Trust limits and diffraction figures per sector and signal.
+def judged(cmp, tolerance):
+    """Status and exceedance of every signal, and which quantity decides.
+
+    Single sources are judged field against field (:func:`judge`, with their
+    ``level_error_db`` and ``phase_error_deg``); the controlled system by its
+    directional attenuation as designed
+    (:func:`bemcheck.compare.attenuation.judge_shortfall`).
+
+    Returns
+    -------
+    (ndarray, ndarray, ndarray)
+        ``status`` (F, G, D) of int; ``metric`` (F, G, D), > 1 where a
+        departure is sure, −inf where not judged; ``by_phase`` (F, G, D) of
+        bool, true where the phase term is the larger.
+    """
+    level = cmp["level_departure_db"].values
+    phase = cmp["phase_departure_deg"].values
+    e_db, e_deg = cmp["level_error_db"].values, cmp["phase_error_deg"].values
+    status = judge(level, phase, e_db, e_deg, tolerance.level_db, tolerance.phase_deg)
+    level_term = (np.abs(level) - e_db) / tolerance.level_db
+    phase_term = (np.abs(phase) - e_deg) / tolerance.phase_deg
+    metric = np.maximum(level_term, phase_term)
+    by_phase = phase_term > level_term
+    short = shortfall_db(cmp["directional_attenuation_predicted_db"].values,
+                         cmp["directional_attenuation_as_designed_db"].values, tolerance.attenuation_target_db)
+    e_att = cmp["directional_attenuation_as_designed_error_db"].values
+    status[:, -1] = judge_shortfall(short, e_att, tolerance.attenuation_db,
+                                    cmp["directional_attenuation_as_designed_below_db"].values)
+    metric[:, -1] = shortfall_exceedance(short, e_att, tolerance.attenuation_db)
+    by_phase[:, -1] = False
+    mask = cmp["significant"].values
+    return np.where(mask, status, AGREES), np.where(mask, metric, -np.inf), by_phase
+
+
+def power_judgement(cmp, tolerance, design):
+    """Status per frequency (F,) of the power attenuation ``design`` ("as_designed" or "reoptimised"), and its exceedance."""
+    short = shortfall_db(cmp["attenuation_as_designed_db"].values + cmp["attenuation_loss_db"].values,
+                         cmp[f"attenuation_{design}_db"].values, tolerance.attenuation_target_db)
+    error = cmp[f"attenuation_{design}_error_db"].values
+    return (judge_shortfall(short, error, tolerance.attenuation_db, cmp[f"attenuation_{design}_below_db"].values),
+            shortfall_exceedance(short, error, tolerance.attenuation_db))
+
+
+def trust_tables(cmp, tolerance):
+    """Trust limits and diffraction figures per sector and signal, and the power judgement.
 
     Parameters
     ----------
     cmp : xarray.Dataset
-        Output of :func:`bemcheck.compare.departures.compare`.
+        Output of :func:`bemcheck.compare.departures.compare`, with
+        ``direction_weight``.
     tolerance : Tolerance
-    error_db, error_deg : (F, D) array_like
-        BEM numerical error estimates of level [dB] and phase [deg].
-    mask : (F, G, D) array_like of bool
-        Directions that count (see :func:`significant`).
 
     Returns
     -------
     xarray.Dataset
-        ``status`` (frequency, signal, direction); ``trust_limit_hz`` and
-        ``trust_limit_found`` (sector, signal); ``diffraction_rms_db``,
-        ``diffraction_max_db``, ``diffraction_max_azimuth_deg`` and
-        ``not_resolved_fraction`` (frequency, sector, signal).
+        ``status`` (frequency, signal, direction); ``trust_limit_hz``,
+        ``trust_limit_found`` and ``trust_limit_set_by`` (sector, signal);
+        ``diffraction_rms_db``, ``diffraction_max_db``,
+        ``diffraction_max_azimuth_deg`` and ``not_resolved_fraction``
+        (frequency, sector, signal); ``attenuation_<design>_status``
+        (frequency), ``attenuation_<design>_limit_hz`` and ``_limit_found``
+        for the power attenuation as designed and re-optimised.
     """
+    status, metric, by_phase = judged(cmp, tolerance)
+    mask = cmp["significant"].values
     level = cmp["level_departure_db"].values
-    phase = cmp["phase_departure_deg"].values
-    e_db = np.asarray(error_db)[:, None, :]
-    e_deg = np.asarray(error_deg)[:, None, :]
-    status = judge(level, phase, e_db, e_deg, tolerance.level_db, tolerance.phase_deg)
-    status = np.where(mask, status, AGREES)
-    metric = np.where(mask, exceedance(level, phase, e_db, e_deg, tolerance.level_db, tolerance.phase_deg), -np.inf)
     az = cmp["azimuth_deg"].values
-    w = cmp["direction_weight"].values if "direction_weight" in cmp else np.ones(az.shape)
+    w = cmp["direction_weight"].values
     freqs = cmp["frequency"].values
     n_f, n_g, _ = level.shape
     n_s = len(tolerance.sectors)
     limit = np.zeros((n_s, n_g))
     found = np.zeros((n_s, n_g), dtype=bool)
-    rms = np.zeros((n_f, n_s, n_g))
-    worst = np.zeros((n_f, n_s, n_g))
-    worst_az = np.zeros((n_f, n_s, n_g))
-    unresolved = np.zeros((n_f, n_s, n_g))
+    set_by = np.full((n_s, n_g), "", dtype=object)
+    rms, worst, worst_az, unresolved = (np.zeros((n_f, n_s, n_g)) for _ in range(4))
     for s, sector in enumerate(tolerance.sectors):
         inside = in_sector(az, sector.from_deg, sector.to_deg)
         for g in range(n_g):
             m = mask[:, g, :] & inside
-            per_f = np.where(m, metric[:, g, :], -np.inf).max(axis=1)
-            limit[s, g], found[s, g] = crossing_frequency(freqs, per_f)
+            per_dir = np.where(m, metric[:, g, :], -np.inf)
+            limit[s, g], found[s, g] = crossing_frequency(freqs, per_dir.max(axis=1))
+            if found[s, g]:
+                i = int(np.argmax(per_dir.max(axis=1) > 1.0))
+                set_by[s, g] = ("phase" if by_phase[i, g, int(np.argmax(per_dir[i]))] else "level") if g < n_g - 1 else "attenuation"
             a = np.where(m, np.abs(level[:, g, :]), 0.0)
             wm = np.where(m, w, 0.0)
             rms[:, s, g] = np.sqrt((wm * a**2).sum(axis=1) / np.maximum(wm.sum(axis=1), 1e-300))
@@ -138,11 +218,13 @@ def trust_tables(cmp, tolerance, error_db, error_deg, mask):
             unresolved[:, s, g] = ((status[:, g, :] == NOT_RESOLVED) & m).sum(axis=1) / np.maximum(m.sum(axis=1), 1)
     coords = {"frequency": freqs, "signal": cmp["signal"].values, "sector": [s.name for s in tolerance.sectors]}
     fsg = ("frequency", "sector", "signal")
-    return xr.Dataset(
+    flags = {"flag_values": np.array([AGREES, NOT_RESOLVED, DEPARTS], dtype=np.int8), "flag_meanings": "agrees not_resolved departs"}
+    out = xr.Dataset(
         {
-            "status": (("frequency", "signal", "direction"), status.astype(np.int8), {"flag_values": "0 agrees, 1 not resolved, 2 departs"}),
+            "status": (("frequency", "signal", "direction"), status.astype(np.int8), {"long_name": "judgement per direction: a single source field against field, the controlled system by its attenuation as designed", **flags}),
             "trust_limit_hz": (("sector", "signal"), limit, {"units": "Hz", "long_name": "lowest frequency where the departure surely exceeds the tolerance (top frequency where trust_limit_found is false)"}),
-            "trust_limit_found": (("sector", "signal"), found),
+            "trust_limit_found": (("sector", "signal"), found, {"long_name": "a departure beyond the tolerance was found in the band"}),
+            "trust_limit_set_by": (("sector", "signal"), set_by.astype(str), {"long_name": "what set the trust limit: level, phase or attenuation (empty: none found)"}),
             "diffraction_rms_db": (fsg, rms, {"units": "dB", "long_name": "RMS over the sector's directions of |level departure|"}),
             "diffraction_max_db": (fsg, worst, {"units": "dB", "long_name": "largest |level departure| in the sector"}),
             "diffraction_max_azimuth_deg": (fsg, worst_az, {"units": "degree", "long_name": "azimuth of the largest departure"}),
@@ -150,3 +232,10 @@ def trust_tables(cmp, tolerance, error_db, error_deg, mask):
         },
         coords=coords,
     )
+    for design in ("as_designed", "reoptimised"):
+        st, ex = power_judgement(cmp, tolerance, design)
+        f_lim, f_found = crossing_frequency(freqs, ex)
+        out[f"attenuation_{design}_status"] = ("frequency", st.astype(np.int8), {"long_name": f"judgement of the power attenuation {design.replace('_', ' ')} against min(predicted, target)", **flags})
+        out[f"attenuation_{design}_limit_hz"] = ((), f_lim, {"units": "Hz", "long_name": f"lowest frequency where the power attenuation {design.replace('_', ' ')} surely falls short"})
+        out[f"attenuation_{design}_limit_found"] = ((), f_found)
+    return out

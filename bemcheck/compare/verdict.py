@@ -1,10 +1,25 @@
-"""The verdict on a layout: where the monopole model holds, what breaks above, pass or fail."""
+"""The verdict on a layout: does the design achieve what it promised, and where does the monopole model hold.
+
+With control sources the verdict is the attenuation's: the controlled system
+as designed, per direction in every sector and in power, against
+min(predicted, target) with the tolerated shortfall
+(:mod:`bemcheck.compare.attenuation`).  Without control sources it is the
+field's: every source's far field against the monopole's.  Either way the
+trust limits of each source's monopole model are reported, with whether
+level or phase set them and how much of the departure is the source model
+(the source with its own body) and how much the diffraction by the other
+bodies.  Outcomes: PASS (agrees everywhere), FAIL (surely departs somewhere,
+the first frequency given), NOT RESOLVED (no sure departure, but the mesh
+cannot tell everywhere).
+"""
 
 import numpy as np
 
-from bemcheck.compare.trust import DEPARTS, NOT_RESOLVED
+from bemcheck.compare.trust import DEPARTS, NOT_RESOLVED, crossing_frequency
 from bemcheck.observers import in_sector
 from bemcheck.solvers.strengths import source_indices
+
+PASS, FAIL, UNRESOLVED = "PASS", "FAIL", "NOT RESOLVED"
 
 
 def bounding_radius(body):
@@ -19,156 +34,270 @@ def bounding_radius(body):
     return None
 
 
-def rules_of_thumb(case):
-    """Frequencies that rules of thumb flag, with their labels.
+def _where_in_band(f, lo, hi):
+    return "below the band" if f < lo else "above the band" if f > hi else "in the band"
 
-    * ka = 0.5 of each body, a its bounding radius: a body scatters little
-      below it (common practice, no source).
-    * kd = nπ of each control source to its nearest primary, within the
-      swept band: minimum-power control gains nothing there (Nelson, Curtis,
-      Elliott & Bullmore 1987, J. Sound Vib. 116(3) 397–414).
+
+def rules_of_thumb(case):
+    """Frequencies that rules of thumb flag, with their labels and where they fall.
+
+    * ka = 0.5 of each body, a its bounding radius (the smallest sphere about
+      the body's origin holding it): a body scatters little below it (common
+      practice, no source).
+    * kd = nπ of each control source to its nearest primary, d that distance:
+      minimum-power control gains nothing there (Nelson, Curtis, Elliott &
+      Bullmore 1987, J. Sound Vib. 116(3) 397–414).
 
     Returns
     -------
     list of dict
+        ``rule``, ``what``, ``length_m`` and ``length`` (what the length is),
+        ``frequency_hz``, ``in_band`` ("below the band", "in the band",
+        "above the band"), ``source``.
     """
     c = case.medium.speed_of_sound
+    lo, hi = min(case.frequencies), max(case.frequencies)
     rows = []
+
+    def add(rule, what, length, meaning, f, source):
+        rows.append({"rule": rule, "what": what, "length_m": float(length), "length": meaning,
+                     "frequency_hz": float(f), "in_band": _where_in_band(f, lo, hi), "source": source})
+
     for body in case.bodies:
         a = bounding_radius(body)
         if a:
-            rows.append({
-                "rule": "ka = 0.5",
-                "what": body.name,
-                "frequency_hz": 0.5 * c / (2.0 * np.pi * a),
-                "source": "common practice, no source",
-            })
+            add("ka = 0.5", body.name, a, "a = bounding radius", 0.5 * c / (2.0 * np.pi * a),
+                "common practice, no source")
     primaries = np.array([s.position for s in case.primaries])
-    top = max(case.frequencies)
     for s in case.controls:
         d = float(np.min(np.linalg.norm(primaries - np.array(s.position), axis=1)))
         n = 1
-        while n * c / (2.0 * d) <= top:
-            rows.append({
-                "rule": "kd = π" if n == 1 else f"kd = {n}π",
-                "what": s.name,
-                "frequency_hz": n * c / (2.0 * d),
-                "source": "Nelson et al. 1987, J. Sound Vib. 116(3) 397-414",
-            })
+        while n == 1 or n * c / (2.0 * d) <= hi:
+            add("kd = π" if n == 1 else f"kd = {n}π", s.name, d, "d = distance to the nearest primary",
+                n * c / (2.0 * d), "Nelson et al. 1987, J. Sound Vib. 116(3) 397-414")
             n += 1
-        if n == 1:
-            rows.append({
-                "rule": "kd = π",
-                "what": s.name,
-                "frequency_hz": c / (2.0 * d),
-                "source": "Nelson et al. 1987, J. Sound Vib. 116(3) 397-414 (above the swept band)",
-            })
     return rows
 
 
-def _band(values):
+def _band(values, errors=None):
     v = np.asarray(values, dtype=float)
-    return {"mean": float(v.mean()), "min": float(v.min()), "max": float(v.max())}
+    out = {"mean": float(v.mean()), "min": float(v.min()), "max": float(v.max())}
+    if errors is not None:
+        # the error of a mean is at most the mean of the errors
+        out["error_of_mean"] = float(np.mean(errors))
+        out["error_max"] = float(np.max(errors))
+    return out
 
 
-def verdict(case, cmp, trust):
+def _first(freqs, status):
+    """Lowest frequency whose status departs, or None."""
+    hit = np.flatnonzero(status == DEPARTS)
+    return float(freqs[hit[0]]) if hit.size else None
+
+
+def _sector(ds, s, sector, freqs):
+    """The verdict of one sector: attenuation as designed, and each source's field."""
+    az = ds["azimuth_deg"].values
+    inside = in_sector(az, sector.from_deg, sector.to_deg)
+    signals = [str(g) for g in ds["signal"].values]
+    status = ds["status"].values[:, :, inside]
+    limits, found = ds["trust_limit_hz"].values[s], ds["trust_limit_found"].values[s]
+    set_by = ds["trust_limit_set_by"].values[s]
+    fields = {g: {"trust_limit_hz": float(limits[i]) if found[i] else None, "set_by": str(set_by[i]) or None,
+                  "worst_departure_db": float(ds["diffraction_max_db"].values[:, s, i].max())}
+              for i, g in enumerate(signals[:-1])}
+    ctl = status[:, -1, :]
+    row = {
+        "sector": sector.name, "from_deg": sector.from_deg, "to_deg": sector.to_deg,
+        "fields": fields,
+        "attenuation_limit_hz": float(limits[-1]) if found[-1] else None,
+        "attenuation_departs_from_hz": _first(freqs, ctl.max(axis=1)),
+        "attenuation_not_resolved_at_hz": [float(f) for f in freqs[(ctl == NOT_RESOLVED).any(axis=1)]],
+        "field_departs": bool((status[:, :-1, :] == DEPARTS).any()),
+        "field_not_resolved_at_hz": [float(f) for f in freqs[(status[:, :-1, :] == NOT_RESOLVED).any(axis=(1, 2))]],
+    }
+    if "sector_attenuation_db" in ds:
+        att = ds["sector_attenuation_db"].values[:, s, :]
+        worlds = [str(w) for w in ds["world"].values]
+        row["mean_square_attenuation_db"] = {w: [float(a) for a in att[:, i]] for i, w in enumerate(worlds)}
+        row["mean_square_attenuation_error_db"] = {
+            w: [float(e) for e in ds[f"sector_attenuation_{w}_error_db"].values[:, s]]
+            for w in ("as_designed", "reoptimised")}
+    return row
+
+
+def _decomposition(ds, tolerance, freqs):
+    """Per source: how far the source model and the other bodies move its field, and up to where within tolerance."""
+    if "source_model_level_db" not in ds:
+        return None
+    mask = ds["significant"].values[:, :-1, :]
+    out = {}
+    for i, name in enumerate(str(s) for s in ds["source"].values):
+        row = {}
+        for term in ("source_model", "other_bodies"):
+            level = np.where(mask[:, i], np.abs(ds[f"{term}_level_db"].values[:, i]), 0.0)
+            phase = np.where(mask[:, i], np.abs(ds[f"{term}_phase_deg"].values[:, i]), 0.0)
+            per_f = np.maximum(level.max(axis=1) / tolerance.level_db, phase.max(axis=1) / tolerance.phase_deg)
+            limit, found = crossing_frequency(freqs, per_f)
+            fi, di = np.unravel_index(int(np.argmax(level)), level.shape)
+            row[term] = {"max_level_db": float(level.max()), "max_phase_deg": float(phase.max()),
+                         "max_at_hz": float(freqs[fi]), "max_at_azimuth_deg": float(ds["azimuth_deg"].values[di]),
+                         "within_tolerance_up_to_hz": float(limit) if found else None}
+        out[name] = row
+    return out
+
+
+def verdict(case, ds):
     """Build the verdict as a JSON-ready dict.
 
     Parameters
     ----------
     case : Case
-    cmp : xarray.Dataset
-        From :func:`bemcheck.compare.departures.compare`.
-    trust : xarray.Dataset
-        From :func:`bemcheck.compare.trust.trust_tables`.
+    ds : xarray.Dataset
+        The comparison (:func:`bemcheck.compare.departures.compare`) merged
+        with its trust tables (:func:`bemcheck.compare.trust.trust_tables`).
 
     Returns
     -------
     dict
-        ``sectors`` (per sector: trust limit, worst departure above it,
-        pass/fail with margin, frequencies to refine), ``attenuation``
-        (predicted, as designed, re-optimised over the band), ``rules_of_thumb``
-        and ``passed``.
+        ``outcome`` (PASS, FAIL, NOT RESOLVED), ``passed``, ``judged_by``
+        ("attenuation" or "field"), ``first_departure_hz`` and ``reason``;
+        ``sectors`` (per sector: attenuation limit, each source's field trust
+        limit and what set it, mean-square attenuation per world);
+        ``attenuation`` (power: predicted, as designed, re-optimised with
+        errors, over the band and per frequency, and the limits);
+        ``decomposition`` (per source: source model and other bodies);
+        ``rules_of_thumb``; ``tolerance``.
     """
     tol = case.tolerance
-    freqs = trust["frequency"].values
-    signals = [str(s) for s in trust["signal"].values]
-    status = trust["status"].values
-    az = cmp["azimuth_deg"].values
-    sectors = []
-    for s, sector in enumerate(tol.sectors):
-        inside = in_sector(az, sector.from_deg, sector.to_deg)
-        limits = trust["trust_limit_hz"].values[s]
-        found = trust["trust_limit_found"].values[s]
-        limit = float(limits[found].min()) if found.any() else None
-        worst = trust["diffraction_max_db"].values[:, s, :]
-        above = freqs >= (limit if limit is not None else freqs[-1])
-        w = np.where(above[:, None], worst, -1.0)
-        fi, gi = np.unravel_index(int(np.argmax(w)), w.shape)
-        st = status[:, :, inside]
-        departs = bool((st == DEPARTS).any())
-        unresolved_f = freqs[(st == NOT_RESOLVED).any(axis=(1, 2))]
-        level = np.abs(cmp["level_departure_db"].values[:, :, inside])
-        margin = float(tol.level_db - level.max()) if level.size else float(tol.level_db)
-        sectors.append({
-            "sector": sector.name,
-            "from_deg": sector.from_deg,
-            "to_deg": sector.to_deg,
-            "trust_limit_hz": limit,
-            "trust_limit_by_signal_hz": {g: (float(limits[i]) if found[i] else None) for i, g in enumerate(signals)},
-            "worst_departure_db": float(worst[fi, gi]),
-            "worst_at": {
-                "frequency_hz": float(freqs[fi]),
-                "azimuth_deg": float(trust["diffraction_max_azimuth_deg"].values[fi, s, gi]),
-                "signal": signals[gi],
-            },
-            "passed": not departs,
-            "level_margin_db": margin,
-            "refine_mesh_at_hz": [float(f) for f in unresolved_f],
-        })
+    freqs = ds["frequency"].values
+    sectors = [_sector(ds, s, sector, freqs) for s, sector in enumerate(tol.sectors)]
     _, controls = source_indices(case)
-    attenuation = None
-    attenuation_ok = True
+    attenuation = _power(ds, freqs) if controls else None
     if controls:
-        loss = cmp["attenuation_loss_db"].values
-        attenuation = {
-            "predicted_free_db": _band(cmp["attenuation_as_designed_db"].values + loss),
-            "as_designed_db": _band(cmp["attenuation_as_designed_db"].values),
-            "reoptimised_db": _band(cmp["attenuation_reoptimised_db"].values),
-            "worst_loss_db": float(loss.max()),
-            "worst_loss_at_hz": float(freqs[int(np.argmax(loss))]),
-            "passed": bool(loss.max() <= tol.level_db),
-        }
-        attenuation_ok = attenuation["passed"]
+        judged_by = "attenuation"
+        candidates = [(s["attenuation_departs_from_hz"], f"attenuation as designed in sector {s['sector']}") for s in sectors]
+        candidates.append((attenuation["as_designed"]["departs_from_hz"], "power attenuation as designed"))
+        unresolved = any(s["attenuation_not_resolved_at_hz"] for s in sectors) or attenuation["as_designed"]["not_resolved_at_hz"]
+    else:
+        judged_by = "field"
+        candidates = [(_first(freqs, ds["status"].values[:, :-1, in_sector(ds["azimuth_deg"].values, t.from_deg, t.to_deg)].max(axis=(1, 2))),
+                       f"a source's field in sector {s['sector']}") for s, t in zip(sectors, tol.sectors)]
+        unresolved = any(s["field_not_resolved_at_hz"] for s in sectors)
+    fails = sorted((f, why) for f, why in candidates if f is not None)
+    outcome = FAIL if fails else UNRESOLVED if unresolved else PASS
     return {
-        "tolerance": {"level_db": tol.level_db, "phase_deg": tol.phase_deg},
+        "outcome": outcome,
+        "passed": outcome == PASS,
+        "judged_by": judged_by,
+        "first_departure_hz": fails[0][0] if fails else None,
+        "reason": fails[0][1] if fails else None,
+        "tolerance": {"level_db": tol.level_db, "phase_deg": tol.phase_deg,
+                      "attenuation_target_db": tol.attenuation_target_db, "attenuation_db": tol.attenuation_db},
+        "frequencies_hz": [float(f) for f in freqs],
         "sectors": sectors,
         "attenuation": attenuation,
+        "decomposition": _decomposition(ds, tol, freqs),
         "rules_of_thumb": rules_of_thumb(case),
-        "passed": all(s["passed"] for s in sectors) and attenuation_ok,
     }
 
 
+def _power(ds, freqs):
+    """The power attenuation: predicted, as designed and re-optimised, with errors and judgement."""
+    predicted = ds["attenuation_as_designed_db"].values + ds["attenuation_loss_db"].values
+    out = {"predicted_db": _band(predicted), "predicted_by_frequency_db": [float(a) for a in predicted]}
+    for design in ("as_designed", "reoptimised"):
+        values = ds[f"attenuation_{design}_db"].values
+        errors = ds[f"attenuation_{design}_error_db"].values
+        status = ds[f"attenuation_{design}_status"].values
+        found = bool(ds[f"attenuation_{design}_limit_found"].values)
+        out[design] = {
+            "band_db": _band(values, errors),
+            "by_frequency_db": [float(a) for a in values],
+            "error_by_frequency_db": [float(e) for e in errors],
+            "departs_from_hz": _first(freqs, status),
+            "limit_hz": float(ds[f"attenuation_{design}_limit_hz"].values) if found else None,
+            "not_resolved_at_hz": [float(f) for f in freqs[status == NOT_RESOLVED]],
+        }
+    loss = ds["attenuation_loss_db"].values
+    out["worst_loss_db"] = float(loss.max())
+    out["worst_loss_at_hz"] = float(freqs[int(np.argmax(loss))])
+    return out
+
+
+def _hz(f):
+    return f"{f:.0f} Hz"
+
+
+def _pm(value, error):
+    return f"{value:.1f} ± {error:.1f} dB" if error < 59.0 else f"{value:.1f} dB (error not bounded)"
+
+
 def verdict_lines(v):
-    """The verdict as short plain-text lines for the terminal."""
-    lines = [f"Verdict: {'PASS' if v['passed'] else 'FAIL'} (tolerance {v['tolerance']['level_db']:g} dB, {v['tolerance']['phase_deg']:g} deg)"]
-    for s in v["sectors"]:
-        limit = f"{s['trust_limit_hz']:.0f} Hz" if s["trust_limit_hz"] is not None else "none up to the top frequency"
-        w = s["worst_at"]
-        lines.append(
-            f"  sector {s['sector']} ({s['from_deg']:g} to {s['to_deg']:g} deg): trust limit {limit}; "
-            f"worst departure {s['worst_departure_db']:.1f} dB at {w['frequency_hz']:.0f} Hz, {w['azimuth_deg']:.0f} deg ({w['signal']}); "
-            f"{'pass' if s['passed'] else 'fail'}, margin {s['level_margin_db']:+.1f} dB"
-        )
-        if s["refine_mesh_at_hz"]:
-            lines.append(f"    not resolved by the mesh at {', '.join(f'{f:.0f}' for f in s['refine_mesh_at_hz'])} Hz: refine there to decide")
+    """The verdict as short plain-text lines for the terminal, the decision first."""
+    t = v["tolerance"]
+    if v["judged_by"] == "attenuation":
+        crit = (f"judged on attenuation: target {t['attenuation_target_db']:g} dB or the prediction if lower, "
+                f"shortfall tolerated {t['attenuation_db']:g} dB")
+    else:
+        crit = f"judged on the field: tolerance {t['level_db']:g} dB, {t['phase_deg']:g} deg"
+    head = f"Verdict: {v['outcome']} ({crit})"
+    if v["outcome"] == FAIL:
+        head += f"; first falls short at {_hz(v['first_departure_hz'])}: {v['reason']}"
+    lines = [head]
     a = v["attenuation"]
     if a:
+        d, r = a["as_designed"], a["reoptimised"]
         lines.append(
-            f"  attenuation over the band (mean): predicted {a['predicted_free_db']['mean']:.1f} dB, "
-            f"as designed {a['as_designed_db']['mean']:.1f} dB, re-optimised {a['reoptimised_db']['mean']:.1f} dB; "
-            f"worst loss {a['worst_loss_db']:.1f} dB at {a['worst_loss_at_hz']:.0f} Hz ({'pass' if a['passed'] else 'fail'})"
-        )
+            f"  power attenuation, band mean: predicted {a['predicted_db']['mean']:.1f} dB, "
+            f"as designed {_pm(d['band_db']['mean'], d['band_db']['error_of_mean'])}, "
+            f"re-optimised {_pm(r['band_db']['mean'], r['band_db']['error_of_mean'])}")
+        f0 = v["frequencies_hz"][0]
+        lines.append(
+            f"  at {_hz(f0)}: predicted {a['predicted_by_frequency_db'][0]:.1f} dB, "
+            f"as designed {_pm(d['by_frequency_db'][0], d['error_by_frequency_db'][0])}, "
+            f"re-optimised {_pm(r['by_frequency_db'][0], r['error_by_frequency_db'][0])}")
+        for name, x in (("as designed", d), ("re-optimised", r)):
+            where = f"falls short from {_hz(x['departs_from_hz'])}" if x["departs_from_hz"] else "holds over the band"
+            if x["not_resolved_at_hz"]:
+                where += f"; not resolved at {', '.join(_hz(f) for f in x['not_resolved_at_hz'][:6])}"
+            lines.append(f"  power attenuation {name}: {where}")
+    for s in v["sectors"]:
+        parts = []
+        if v["judged_by"] == "attenuation":
+            att = s["attenuation_departs_from_hz"]
+            parts.append(f"attenuation {'falls short from ' + _hz(att) if att else 'holds over the band'}")
+        for name, f in s["fields"].items():
+            if f["trust_limit_hz"] is not None:
+                parts.append(f"{name} monopole trusted up to {_hz(f['trust_limit_hz'])} (set by {f['set_by']})")
+        if len(parts) == (1 if v["judged_by"] == "attenuation" else 0):
+            parts.append("every source's monopole trusted over the band")
+        lines.append(f"  sector {s['sector']} ({s['from_deg']:g} to {s['to_deg']:g} deg): " + "; ".join(parts))
+        pending = s["attenuation_not_resolved_at_hz"] if v["judged_by"] == "attenuation" else s["field_not_resolved_at_hz"]
+        if pending:
+            lines.append(f"    not resolved by the mesh at {', '.join(f'{f:.0f}' for f in pending)} Hz: refine there to decide")
+    for name, row in (v.get("decomposition") or {}).items():
+        sm, ob = row["source_model"], row["other_bodies"]
+        lines.append(
+            f"  {name}: source model up to {sm['max_level_db']:.1f} dB, {sm['max_phase_deg']:.0f} deg"
+            f" (within tolerance {'up to ' + _hz(sm['within_tolerance_up_to_hz']) if sm['within_tolerance_up_to_hz'] else 'over the band'}); "
+            f"other bodies up to {ob['max_level_db']:.1f} dB, {ob['max_phase_deg']:.0f} deg"
+            f" (within tolerance {'up to ' + _hz(ob['within_tolerance_up_to_hz']) if ob['within_tolerance_up_to_hz'] else 'over the band'})")
+    lines.extend(_loss_split_lines(v))
     for r in v["rules_of_thumb"]:
-        lines.append(f"  rule of thumb {r['rule']} for {r['what']}: {r['frequency_hz']:.0f} Hz ({r['source']})")
+        lines.append(f"  rule of thumb {r['rule']} for {r['what']} ({r['length']} {r['length_m']:.3g} m): "
+                     f"{r['frequency_hz']:.0f} Hz, {r['in_band']} ({r['source']})")
     return lines
+
+
+def _loss_split_lines(v):
+    """Where the loss of attenuation comes from, at the lowest frequency, in the first sector."""
+    if not v["attenuation"] or not v["sectors"] or "mean_square_attenuation_db" not in v["sectors"][0]:
+        return []
+    s = v["sectors"][0]
+    ms = s["mean_square_attenuation_db"]
+    if "own_body" not in ms:
+        return []
+    pred, own, full = ms["predicted"][0], ms["own_body"][0], ms["as_designed"][0]
+    return [f"  loss of mean-square attenuation at {_hz(v['frequencies_hz'][0])} in sector {s['sector']}: "
+            f"{pred - full:.1f} dB, of which {pred - own:.1f} dB source model and {own - full:.1f} dB other bodies"]

@@ -96,6 +96,7 @@ tbody tr:nth-child(even){background:#f7f6f2}
 .badge{display:inline-block;padding:.15rem .8rem;border-radius:3px;color:#fff;font-weight:700;letter-spacing:.06em}
 .badge.pass{background:var(--pass)}
 .badge.fail{background:var(--fail)}
+.badge.unresolved{background:#8a6d00}
 .headline{font-size:1.05rem;margin:.3rem 0 .6rem}
 .verdict-lines{font-family:"DejaVu Sans Mono",monospace;font-size:.82rem;background:#fff;border:1px solid var(--line);padding:.6rem 1rem;list-style:none}
 .note{color:var(--muted);font-style:italic}
@@ -161,15 +162,20 @@ def _verdict_body(ds, summary):
                          "is no comparison, no trust limit and no verdict. Run both models to get them.")
         return _note("The summary holds no verdict for this run.")
     lines = verdict_lines(v)
-    word = "pass" if v["passed"] else "fail"
+    word = {"PASS": "pass", "FAIL": "fail"}.get(v["outcome"], "unresolved")
     parts = [
-        f'<p class="headline"><span class="badge {word}">{word.upper()}</span> {_text(lines[0])}</p>',
-        '<ul class="verdict-lines">' + "".join(f"<li>{_text(line.strip())}</li>" for line in lines[1:]) + "</ul>",
-        "<h3>Per sector</h3>", _table(tables.verdict_sector_rows(v)),
+        f'<p class="headline"><span class="badge {word}">{_text(v["outcome"])}</span> {_text(lines[0])}</p>',
+        _table(tables.decision_rows(v, summary.get("before_build"))),
     ]
     att = tables.verdict_attenuation_rows(v)
     if att:
-        parts += ["<h3>Attenuation over the band</h3>", _table(att)]
+        parts += ["<h3>Power attenuation with its numerical error</h3>", _table(att)]
+    split = tables.decomposition_rows(v)
+    if split:
+        parts += ["<h3>Source model and diffraction by the other bodies</h3>", _table(split),
+                  _note("Source model: each source with only the body it sits on, against a free monopole. "
+                        "Other bodies: the full scene against that. A source on no body has no source-model term.")]
+    parts.append('<ul class="verdict-lines">' + "".join(f"<li>{_text(line.strip())}</li>" for line in lines[1:]) + "</ul>")
     rules = tables.rules_rows(v)
     if rules:
         parts += ["<h3>Rules of thumb</h3>", _table(rules)]
@@ -234,8 +240,8 @@ def render_report(ds, summary, figures, mesh=None, extra_sections=(), case_note=
     """
     a = ds.attrs
     title = a.get("title", summary.get("title", "bemcheck run"))
-    sections = [("summary", "What was run", _table(tables.summary_rows(ds, summary)))]
-    sections.append(("verdict", "Verdict", _verdict_body(ds, summary)))
+    sections = [("verdict", "Decision", _verdict_body(ds, summary))]
+    sections.append(("summary", "What was run", _table(tables.summary_rows(ds, summary))))
     trust = tables.trust_rows(ds)
     sections.append(("trust-limits", "Trust limits per sector and signal",
                      _table(trust) + _note("The trust limit is the lowest frequency where the departure surely "

@@ -57,43 +57,79 @@ def summary_rows(ds, summary):
     return rows
 
 
-def verdict_sector_rows(verdict):
-    """One row per tolerance sector of the verdict dict (:func:`bemcheck.compare.verdict`)."""
-    rows = [("sector", "azimuths", "trust limit", "worst departure", "where", "level margin", "result", "refine the mesh at")]
+def _pm(value, error):
+    return f"{value:.1f} ± {error:.1f} dB" if error < 59.0 else f"{value:.1f} dB (error not bounded)"
+
+
+def _holds(departs_from_hz, pending):
+    if departs_from_hz is not None:
+        return f"falls short from {hz(departs_from_hz)}"
+    return "not resolved at " + ", ".join(hz(f) for f in pending[:4]) if pending else "holds over the band"
+
+
+def decision_rows(verdict, before_build=None):
+    """The decision, one row per sector and one for the power (verdict dict of :func:`bemcheck.compare.verdict`)."""
+    rows = [("judged", "attenuation as designed", "first departure of a monopole field", "other bodies change a field by")]
+    decomposition = verdict.get("decomposition") or {}
+    worst_other = max(((r["other_bodies"]["max_level_db"], n) for n, r in decomposition.items()), default=None)
     for s in verdict["sectors"]:
-        w = s["worst_at"]
-        limit = hz(s["trust_limit_hz"]) if s["trust_limit_hz"] is not None else "none found in the band"
+        limits = [(f["trust_limit_hz"], n, f["set_by"]) for n, f in s["fields"].items() if f["trust_limit_hz"] is not None]
+        first = min(limits) if limits else None
         rows.append((
-            s["sector"],
-            f"{s['from_deg']:g}° to {s['to_deg']:g}°",
-            limit,
-            db(s["worst_departure_db"]),
-            f"{hz(w['frequency_hz'])}, {w['azimuth_deg']:.0f}°, {w['signal']}",
-            db(s["level_margin_db"], signed=True),
-            "pass" if s["passed"] else "fail",
-            ", ".join(hz(f) for f in s["refine_mesh_at_hz"]) or "-",
+            f"sector {s['sector']} ({s['from_deg']:g}° to {s['to_deg']:g}°)",
+            _holds(s["attenuation_departs_from_hz"], s["attenuation_not_resolved_at_hz"]) if verdict["attenuation"] else "no controls",
+            f"{hz(first[0])}: {first[1]} ({first[2]})" if first else "none in the band",
+            f"up to {db(worst_other[0])} ({worst_other[1]})" if worst_other else "-",
         ))
+    a = verdict.get("attenuation")
+    if a:
+        d = a["as_designed"]
+        rows.append(("power", _holds(d["departs_from_hz"], d["not_resolved_at_hz"]), "", ""))
+    if before_build is not None:
+        first = next((i["check"] for i in before_build.get("items", []) if not i["go"]), None)
+        rows.append(("before build", "GO" if before_build.get("go") else "NO-GO", first or "every check passed", ""))
     return rows
 
 
 def verdict_attenuation_rows(verdict):
-    """Attenuation over the band, as the verdict sums it up; None without control sources."""
+    """Power attenuation with its errors: over the band and at the lowest frequency; None without control sources."""
     a = verdict.get("attenuation")
     if not a:
         return None
-    rows = [("attenuation", "mean", "min", "max")]
-    for label, key in (("predicted (free field)", "predicted_free_db"), ("as designed", "as_designed_db"),
-                       ("re-optimised", "reoptimised_db")):
-        rows.append((label, db(a[key]["mean"]), db(a[key]["min"]), db(a[key]["max"])))
-    rows.append(("worst loss", f"{db(a['worst_loss_db'])} at {hz(a['worst_loss_at_hz'])}", "",
-                 "pass" if a["passed"] else "fail"))
+    d, r = a["as_designed"], a["reoptimised"]
+    f0 = hz(verdict["frequencies_hz"][0])
+    rows = [("power attenuation", "band mean", "min", "max", f"at {f0}")]
+    rows.append(("predicted (free field)", db(a["predicted_db"]["mean"]), db(a["predicted_db"]["min"]),
+                 db(a["predicted_db"]["max"]), db(a["predicted_by_frequency_db"][0])))
+    for label, x in (("as designed", d), ("re-optimised", r)):
+        b = x["band_db"]
+        rows.append((label, _pm(b["mean"], b["error_of_mean"]), db(b["min"]), db(b["max"]),
+                     _pm(x["by_frequency_db"][0], x["error_by_frequency_db"][0])))
+    rows.append(("worst loss (predicted − as designed)", f"{db(a['worst_loss_db'])} at {hz(a['worst_loss_at_hz'])}", "", "", ""))
+    return rows
+
+
+def decomposition_rows(verdict):
+    """Per source: the source model and the diffraction by the other bodies; None when not solved."""
+    d = verdict.get("decomposition")
+    if not d:
+        return None
+    rows = [("source", "source model: largest", "within tolerance", "other bodies: largest", "within tolerance")]
+    for name, row in d.items():
+        cells = []
+        for term in ("source_model", "other_bodies"):
+            t = row[term]
+            cells += [f"{db(t['max_level_db'])}, {t['max_phase_deg']:.0f}° ({hz(t['max_at_hz'])}, {t['max_at_azimuth_deg']:.0f}°)",
+                      f"up to {hz(t['within_tolerance_up_to_hz'])}" if t["within_tolerance_up_to_hz"] else "over the band"]
+        rows.append((name, *cells))
     return rows
 
 
 def rules_rows(verdict):
-    """The rules of thumb the verdict flags."""
-    rows = [("rule", "for", "frequency", "source")]
-    rows += [(r["rule"], r["what"], hz(r["frequency_hz"]), r["source"]) for r in verdict.get("rules_of_thumb", [])]
+    """The rules of thumb the verdict flags, with what each length is and where each falls."""
+    rows = [("rule", "for", "length", "frequency", "where", "source")]
+    rows += [(r["rule"], r["what"], f"{r['length']} = {r['length_m']:.3g} m", hz(r["frequency_hz"]), r["in_band"], r["source"])
+             for r in verdict.get("rules_of_thumb", [])]
     return rows if len(rows) > 1 else None
 
 
@@ -126,8 +162,10 @@ def attenuation_rows(ds):
         return rows + [(hz(x), f"{w:.3e} W", db(a)) for x, w, a in zip(f, w0, free)]
     rows = [("frequency", "primary power, scattered", "predicted (free field)", "as designed", "re-optimised", "loss")]
     cols = zip(f, ds["power_bem_primary"].values, free, ds["attenuation_as_designed_db"].values,
-               ds["attenuation_reoptimised_db"].values, ds["attenuation_loss_db"].values)
-    return rows + [(hz(x), f"{w:.3e} W", db(a), db(d), db(r), db(loss, signed=True)) for x, w, a, d, r, loss in cols]
+               ds["attenuation_as_designed_error_db"].values, ds["attenuation_reoptimised_db"].values,
+               ds["attenuation_reoptimised_error_db"].values, ds["attenuation_loss_db"].values)
+    return rows + [(hz(x), f"{w:.3e} W", db(a), _pm(d, ed), _pm(r, er), db(loss, signed=True))
+                   for x, w, a, d, ed, r, er, loss in cols]
 
 
 def numerical_error_rows(ds):

@@ -3,12 +3,11 @@
 import numpy as np
 import xarray as xr
 
-from bemcheck.compare import compare, trust_tables, verdict
+from bemcheck.compare import Models, compare, trust_tables, verdict
 from bemcheck.run.dataset import model_dataset
-from bemcheck.solvers.strengths import primary_strengths
 
 
-def combine(case, directions, free, bem=None, error_db=None, error_deg=None):
+def combine(case, directions, free, bem=None, check=None, check_ratio=None, own_body=None):
     """One results Dataset from the responses of the free-field model and, if given, the BEM.
 
     Parameters
@@ -17,9 +16,14 @@ def combine(case, directions, free, bem=None, error_db=None, error_deg=None):
     directions : Directions
     free, bem : sequence of FieldResponse
         One per frequency; ``bem`` may be None (free-field run only).
-    error_db, error_deg : (F, D) array_like, optional
-        BEM numerical error estimates per frequency and direction; zero if
-        not given.
+    check : sequence of FieldResponse, optional
+        The BEM on each frequency's error-estimate mesh; without it every
+        numerical error is zero.
+    check_ratio : (F,) array_like, optional
+        Size ratio of each check mesh to the band mesh.
+    own_body : (F, S, D) array_like, optional
+        Far field of each source with only its own body (see
+        :class:`bemcheck.compare.Models`).
 
     Returns
     -------
@@ -30,14 +34,16 @@ def combine(case, directions, free, bem=None, error_db=None, error_deg=None):
     if bem is None:
         return ds, None
     ds = ds.merge(model_dataset(case, bem, directions, "bem"), compat="override")
-    shape = (len(case.frequencies), len(directions))
-    e_db = np.zeros(shape) if error_db is None else np.asarray(error_db, dtype=float)
-    e_deg = np.zeros(shape) if error_deg is None else np.asarray(error_deg, dtype=float)
-    cmp = compare(ds, primary_strengths(case))
+    models = Models(tuple(free), tuple(bem), None if check is None else tuple(check),
+                    None if check_ratio is None else np.asarray(check_ratio, dtype=float),
+                    None if own_body is None else np.asarray(own_body))
+    cmp = compare(case, directions, models)
     cmp["direction_weight"] = ds["direction_weight"]
-    trust = trust_tables(cmp, case.tolerance, e_db, e_deg, cmp["significant"].values)
+    trust = trust_tables(cmp, case.tolerance)
     ds = xr.merge([ds, cmp.drop_vars("direction_weight"), trust], compat="override", combine_attrs="override")
-    ds["numerical_error_db"] = (("frequency", "direction"), e_db, {"units": "dB", "long_name": "BEM level error estimate from a 1.5x finer mesh at each band's top frequency"})
+    e_db = ds["level_error_db"].values[:, :-1].max(axis=1)
+    e_deg = ds["phase_error_deg"].values[:, :-1].max(axis=1)
+    ds["numerical_error_db"] = (("frequency", "direction"), e_db, {"units": "dB", "long_name": "BEM level error estimate at each frequency, worst source (band mesh against a second mesh of known size ratio)"})
     ds["numerical_error_deg"] = (("frequency", "direction"), e_deg, {"units": "degree", "long_name": "BEM phase error estimate, as numerical_error_db"})
     ds["q_control_bem"].attrs["long_name"] = "control strengths optimal with scattering included (re-optimised)"
-    return ds, verdict(case, cmp, trust)
+    return ds, verdict(case, ds)

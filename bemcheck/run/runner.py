@@ -4,20 +4,19 @@ import functools
 import hashlib
 import json
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 import numpy as np
 
 from bemcheck.compare import verdict_lines
-from bemcheck.compare.trust import NULL_DEPTH_DB
 from bemcheck.errors import BemcheckInputError
 from bemcheck.observers import for_observers
 from bemcheck.run.combine import combine
 from bemcheck.run.dataset import run_attributes
 from bemcheck.run.results import RESULTS_FILE, SUMMARY_FILE, read_dataset, write_dataset, write_summary
 from bemcheck.run.store import PartStore, RunLock
-from bemcheck.run.sweep import Progress, execute, plan_tasks
+from bemcheck.run.sweep import ALONE, CHECK, SOLVE, Progress, execute, plan_tasks
 from bemcheck.solvers.response import FieldResponse, free_response
 
 MODELS = ("free", "bem", "both")
@@ -66,42 +65,72 @@ def free_responses(case, directions):
     return [free_response(f, case.medium, sources, directions.unit, points) for f in case.frequencies]
 
 
-def _far_field_error(fine, coarse):
-    """Level [dB] and phase [deg] differences per direction, (D, S) -> (D,), worst source.
+@dataclass(frozen=True)
+class BemSweep:
+    """What a BEM sweep hands to the comparison and the before-build check.
 
-    In a source's deep nulls (NULL_DEPTH_DB below its loudest direction) a
-    ratio means nothing; there the source's worst error elsewhere stands in.
+    Attributes
+    ----------
+    responses : tuple of FieldResponse
+        The band-mesh solve at each run frequency.
+    check : tuple of FieldResponse or None
+        The error-estimate mesh's solve at each run frequency (None without bodies).
+    check_ratio : (F,) ndarray or None
+        Each check mesh's sizes over its band mesh's.
+    own_body : (F, S, D) ndarray or None
+        Far field of each source with only its own body (its free field if on
+        none); None when no source sits on a body.
+    metas : tuple of dict
+        Each run frequency's solve metadata (elements, timings, device).
+    solved : dict
+        Every band-mesh response by frequency, harmonics included.
+    stored : dict
+        Every band-mesh solve's stored arrays by frequency (surface solutions).
     """
-    floor = 10.0 ** (-NULL_DEPTH_DB / 20.0) * np.abs(coarse).max(axis=0, keepdims=True)
-    ok = np.abs(coarse) >= floor
-    ratio = np.where(ok, fine / np.where(ok, coarse, 1.0), 1.0)
-    level = np.abs(20.0 * np.log10(np.maximum(np.abs(ratio), 1e-300)))
-    phase = np.abs(np.degrees(np.angle(ratio)))
-    level = np.where(ok, level, level.max(axis=0, keepdims=True))
-    phase = np.where(ok, phase, phase.max(axis=0, keepdims=True))
-    return level.max(axis=1), phase.max(axis=1)
+
+    responses: tuple
+    check: tuple | None
+    check_ratio: np.ndarray | None
+    own_body: np.ndarray | None
+    metas: tuple
+    solved: dict
+    stored: dict
 
 
-def _numerical_error(tasks, parts):
-    """Level [dB] and phase [deg] error estimates (F, D): finer mesh vs band mesh at each band's top."""
-    by_band = {}
-    for t in (t for t in tasks if t.refine):
-        coarse = next(c for c in tasks if not c.refine and not c.harmonic and c.frequency == t.frequency)
-        by_band[t.band] = _far_field_error(parts[t.key][0]["far_field"], parts[coarse.key][0]["far_field"])
-    solves = [t for t in tasks if not t.refine and not t.harmonic]
-    return np.array([by_band[t.band][0] for t in solves]), np.array([by_band[t.band][1] for t in solves])
+def _response(task, arrays):
+    return FieldResponse(task.frequency, arrays["far_field"], arrays["points"], arrays["impedance"], arrays["power_matrix"])
 
 
-def bem_responses(case, directions, folder, *, solve=None, bands=None, workers=1, scheduler=None, device="auto", cache_dir=None, progress_stream=None, quiet=False):
-    """Run (or resume) the BEM sweep of ``case`` and return its responses and error estimates.
+def _own_body(case, frequencies, plan, parts, free):
+    """(F, S, D) far field of each source with its own body alone; a source on no body keeps its free field."""
+    alone = [t for t in plan if t.kind == ALONE]
+    if not alone:
+        return None
+    own = np.array([r.far_field.T for r in free])
+    index = {f: i for i, f in enumerate(frequencies)}
+    for t in alone:
+        columns = [j for j, s in enumerate(case.sources) if s.on == t.body]
+        own[index[t.frequency], columns] = parts[t.key][0]["far_field"].T
+    return own
+
+
+def bem_responses(case, directions, folder, *, solve=None, bands=None, frequencies=None, workers=1, scheduler=None,
+                  device="auto", cache_dir=None, progress_stream=None, quiet=False, free=None):
+    """Run (or resume) the BEM sweep of ``case`` and return what it solved.
+
+    Parameters
+    ----------
+    frequencies : sequence of float, optional
+        The case frequencies to run (default all); the band meshes are
+        planned from all of the case's frequencies, so a result does not
+        depend on which others were asked for.
+    free : sequence of FieldResponse, optional
+        The free field at the run frequencies (a source on no body keeps it
+        in ``own_body``); computed if not given.
 
     Returns
     -------
-    (list of FieldResponse, (F, D) ndarray, (F, D) ndarray, list of dict, dict, dict)
-        Responses per frequency, level and phase error estimates, each
-        solve's metadata (elements, elements per wavelength, device, timings),
-        every solved response by frequency (harmonics included), and every
-        solve's stored arrays by frequency (for the surface solutions).
+    BemSweep
     """
     if bands is None:
         from bemcheck.mesh import plan_bands
@@ -113,7 +142,8 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, workers=1
         check_file_bodies(case, cache_dir)  # before hours of solves, not at the top band
     from bemcheck.build.check import harmonic_plan
 
-    plan = plan_tasks(case, bands, harmonics=[f for _, _, f in harmonic_plan(case)])
+    run = tuple(case.frequencies if frequencies is None else frequencies)
+    plan = plan_tasks(case, bands, harmonics=[f for _, _, f in harmonic_plan(case)], frequencies=run)
     if solve is None:
         from bemcheck.run import tasks as bem_tasks
 
@@ -122,18 +152,28 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, workers=1
     progress = Progress(len(plan), stream=progress_stream, quiet=quiet)
     execute(plan, solve, store, workers=workers, scheduler=scheduler, progress=progress)
     parts = {t.key: store.load(t.key) for t in plan}
-    by_frequency, stored, metas = {}, {}, []
-    for t in (t for t in plan if not t.refine):
-        a, meta = parts[t.key]
-        by_frequency[t.frequency] = FieldResponse(t.frequency, a["far_field"], a["points"], a["impedance"], a["power_matrix"])
-        stored[t.frequency] = a
-        if not t.harmonic:
-            metas.append(meta)
-    err_db, err_deg = _numerical_error(plan, parts)
-    return [by_frequency[f] for f in case.frequencies], err_db, err_deg, metas, by_frequency, stored
+    solves = {t.frequency: t for t in plan if t.kind == SOLVE}
+    checks = {t.frequency: t for t in plan if t.kind == CHECK}
+    solved = {f: _response(t, parts[t.key][0]) for f, t in solves.items()}
+    stored = {f: parts[t.key][0] for f, t in solves.items()}
+    check = ratio = None
+    if checks:
+        check = tuple(_response(checks[f], parts[checks[f].key][0]) for f in run)
+        ratio = np.array([float(parts[checks[f].key][0]["size_ratio"]) for f in run])
+    if free is None:
+        free = free_responses(replace(case, frequencies=run), directions)
+    return BemSweep(
+        responses=tuple(solved[f] for f in run),
+        check=check,
+        check_ratio=ratio,
+        own_body=_own_body(case, run, plan, parts, free),
+        metas=tuple(parts[solves[f].key][1] for f in run),
+        solved=solved,
+        stored=stored,
+    )
 
 
-def run_case(case, out_dir, model="both", report=False, **options):
+def run_case(case, out_dir, model="both", report=False, frequencies=None, **options):
     """Evaluate ``case`` and write ``results.nc`` and ``summary.json`` in ``out_dir``.
 
     Parameters
@@ -146,6 +186,9 @@ def run_case(case, out_dir, model="both", report=False, **options):
         and compare.
     report : bool
         Also write ``report.html`` with its figures.
+    frequencies : sequence of float, optional
+        Run only these of the case's frequencies; every number at them is
+        the same as in a run of all of them (the meshes are planned from all).
     **options
         Passed to :func:`bem_responses`: ``workers``, ``scheduler``,
         ``device``, ``cache_dir``, ``quiet``, ``progress_stream``; tests may
@@ -167,6 +210,9 @@ def run_case(case, out_dir, model="both", report=False, **options):
     folder = prepare_folder(out_dir)
     directions = for_observers(case.observers.far_field)
     fingerprint = case_hash(case)
+    full = case
+    if frequencies is not None:
+        case = replace(case, frequencies=tuple(frequencies))
     with RunLock(folder):
         free = free_responses(case, directions)
         device = None
@@ -175,9 +221,11 @@ def run_case(case, out_dir, model="both", report=False, **options):
             ds, verdict = combine(case, directions, free)
             metas = []
         else:
-            bem, err_db, err_deg, metas, solved, stored = bem_responses(case, directions, folder, **options)
+            sweep = bem_responses(full, directions, folder, frequencies=case.frequencies, free=free, **options)
+            metas, solved, stored = sweep.metas, sweep.solved, sweep.stored
             device = metas[0].get("device") if metas else None
-            ds, verdict = combine(case, directions, free, bem, err_db, err_deg)
+            ds, verdict = combine(case, directions, free, sweep.responses, sweep.check, sweep.check_ratio,
+                                  sweep.own_body)
             ds["elements_per_wavelength"] = ("frequency", np.array([m["elements_per_wavelength"] for m in metas]), {"long_name": "wavelength over the mesh's largest element edge"})
             ds["elements"] = ("frequency", np.array([m["elements"] for m in metas]), {"long_name": "triangles in the mesh solved"})
         ds.attrs.update(run_attributes(case, fingerprint, device))
@@ -194,7 +242,7 @@ def run_case(case, out_dir, model="both", report=False, **options):
             # a results.nc without its summary would pass for a finished run
             results.unlink(missing_ok=True)
             raise
-        report_path = _write_report(case, folder, options) if report else None
+        report_path = _write_report(full, folder, options) if report else None
     lines = tuple(verdict_lines(verdict)) if verdict else ()
     if build is not None:
         lines += build.lines
@@ -266,6 +314,8 @@ def build_summary(case, ds, fingerprint, verdict, metas):
             "attenuation_reoptimised_db": [float(a) for a in ds["attenuation_reoptimised_db"].values],
             "attenuation_as_designed_db": [float(a) for a in ds["attenuation_as_designed_db"].values],
             "numerical_error_db_max": float(ds["numerical_error_db"].max()),
+            "attenuation_as_designed_error_db": [float(a) for a in ds["attenuation_as_designed_error_db"].values],
+            "attenuation_reoptimised_error_db": [float(a) for a in ds["attenuation_reoptimised_error_db"].values],
         }
         summary["verdict"] = verdict
     return summary

@@ -18,10 +18,13 @@ from dataclasses import dataclass
 
 from bemcheck.run.tasks import PART_FORMAT
 
-# The self-check solve at each band's top frequency is made on a mesh this
-# many times finer everywhere (the issue's figure; P1 errors fall as h², so
-# the difference estimates the coarse mesh's error to within about a factor 1.8).
-SELF_CHECK_REFINE = 1.5
+# Kinds of task.  SOLVE: a case frequency (or a played harmonic) on its
+# band's mesh.  CHECK: the same frequency on a second mesh whose sizes differ
+# from the band's by a known ratio, for the numerical error estimate at that
+# frequency (bemcheck.compare.errors).  ALONE: the sources sitting on one body,
+# solved with that body alone, to tell the source model from the diffraction by
+# the other bodies (bemcheck.compare.decomposition).
+SOLVE, CHECK, ALONE = "solve", "check", "alone"
 
 # What `bemcheck run --verbose` shows beyond the progress lines (each task's
 # mesh, timings, device and stored file) goes to this logger at INFO.
@@ -36,16 +39,17 @@ _THREAD_VARS = ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS", "N
 class Task:
     """One BEM solve: ``frequency`` [Hz] on the mesh of ``element_size`` [m].
 
-    ``refine`` marks the self-check solve at a band's top frequency on the
-    band's mesh refined SELF_CHECK_REFINE times everywhere; ``harmonic`` a solve at a played note's harmonic for the
-    before-build check.
+    ``kind`` is SOLVE, CHECK (the second mesh of the error estimate) or
+    ALONE (the sources on ``body``, with that body alone); ``harmonic`` marks
+    a SOLVE at a played note's harmonic for the before-build check.
     """
 
     key: str
     frequency: float
     band: int
     element_size: float
-    refine: bool = False
+    kind: str = SOLVE
+    body: str | None = None
     harmonic: bool = False
 
 
@@ -71,17 +75,27 @@ def physics_fingerprint(case):
     return h.hexdigest()
 
 
-def plan_tasks(case, bands, harmonics=()):
-    """Tasks for every frequency, one finer self-check solve at each band's top, and the harmonics.
+def bodies_with_sources(case):
+    """Names of the bodies that carry a source (a piston face or a point placed ``on`` it), in case order."""
+    carried = {s.on for s in case.sources if s.on is not None}
+    return [b.name for b in case.bodies if b.name in carried]
+
+
+def plan_tasks(case, bands, harmonics=(), frequencies=None):
+    """The tasks of a sweep: every frequency, its error-estimate solve, its single-body solves, the harmonics.
 
     Parameters
     ----------
     case : Case
     bands : sequence of Band
-        With ``index``, ``f_low``, ``f_high`` [Hz] and ``element_size`` [m].
+        With ``index``, ``f_low``, ``f_high`` [Hz] and ``element_size`` [m],
+        planned from all the case's frequencies, so that a frequency's tasks
+        do not depend on which others are run.
     harmonics : sequence of float
         Frequencies of played notes' harmonics [Hz]; those inside a band are
         solved on that band's mesh, the others left to the free-field model.
+    frequencies : sequence of float, optional
+        The case frequencies to run (default: all of them).
 
     Returns
     -------
@@ -89,24 +103,34 @@ def plan_tasks(case, bands, harmonics=()):
     """
     base = physics_fingerprint(case)
 
-    def key(f, h, refine):
-        scale = SELF_CHECK_REFINE if refine else 1.0
+    def task(f, band, kind=SOLVE, body=None, harmonic=False):
         # PART_FORMAT: parts stored in another layout get other keys, never misread.
-        return hashlib.sha256(f"{base}|{f!r}|{h!r}|{scale!r}|{PART_FORMAT}".encode()).hexdigest()[:24]
+        text = f"{base}|{f!r}|{band.element_size!r}|{kind}|{body}|{PART_FORMAT}"
+        key = hashlib.sha256(text.encode()).hexdigest()[:24]
+        return Task(key, f, band.index, band.element_size, kind, body, harmonic)
 
+    run = case.frequencies if frequencies is None else frequencies
     tasks = []
-    for f in case.frequencies:
+    for f in run:
         band = next(b for b in bands if b.f_low <= f <= b.f_high)
-        tasks.append(Task(key(f, band.element_size, False), f, band.index, band.element_size))
-    for band in bands:
-        top = max(f for f in case.frequencies if band.f_low <= f <= band.f_high)
-        tasks.append(Task(key(top, band.element_size, True), top, band.index, band.element_size, refine=True))
-    solved = set(case.frequencies)
-    for f in sorted(set(harmonics) - solved):
+        tasks.append(task(f, band))
+        if case.bodies:
+            tasks.append(task(f, band, CHECK))
+            tasks.extend(task(f, band, ALONE, name) for name in bodies_with_sources(case))
+    for f in sorted(set(harmonics) - set(run)):
         band = next((b for b in bands if b.f_low <= f <= b.f_high), None)
         if band is not None:
-            tasks.append(Task(key(f, band.element_size, False), f, band.index, band.element_size, harmonic=True))
+            tasks.append(task(f, band, harmonic=True))
     return tasks
+
+
+def task_label(task):
+    """What a task is, in a few words: "solve", "error check", "bell alone", "harmonic"."""
+    if task.kind == CHECK:
+        return "error check"
+    if task.kind == ALONE:
+        return f"{task.body} alone"
+    return "harmonic" if task.harmonic else "solve"
 
 
 class Progress:
@@ -130,8 +154,7 @@ class Progress:
             return
         elapsed = time.monotonic() - self.start
         eta = elapsed / self.done * (self.total - self.done)
-        what = "self-check" if task.refine else "solve"
-        line = f"[{self.done}/{self.total}] {what} {task.frequency:8.1f} Hz band {task.band} {info} ETA {eta:5.0f} s"
+        line = f"[{self.done}/{self.total}] {task_label(task)} {task.frequency:8.1f} Hz band {task.band} {info} ETA {eta:5.0f} s"
         self.stream.write(("\r" + line.ljust(100)) if self.live else line + "\n")
         if self.live and self.done == self.total:
             self.stream.write("\n")
@@ -253,7 +276,7 @@ def describe_task(task, meta, path, stored=False):
             what.append(f"largest edge {1e3 * meta['element_size']:.1f} mm")
         if meta.get("elements_per_wavelength"):
             what.append(f"{meta['elements_per_wavelength']:.1f} elements per wavelength")
-        lines.append("mesh: " + ", ".join(what) + (" (self-check, finer)" if task.refine else ""))
+        lines.append("mesh: " + ", ".join(what) + (f" ({task_label(task)})" if task.kind != SOLVE else ""))
     timings = meta.get("timings") or {}
     seconds = meta.get("seconds")
     if timings or seconds is not None:

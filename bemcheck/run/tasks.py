@@ -19,8 +19,20 @@ from bemcheck.observers import for_observers
 
 # Version of what a task stores.  It enters every task's key
 # (bemcheck.run.sweep.plan_tasks), so parts written in another format are
-# never read as this one: 3 added the surface solution and the mesh.
-PART_FORMAT = 3
+# never read as this one.
+PART_FORMAT = 4
+# The error-estimate mesh of a frequency has every size, the geometric bounds
+# included, this many times the band mesh's: P1 errors scale as h², so the
+# two solutions differ by (CHECK_COARSEN² − 1) times the band mesh's error
+# (bemcheck.compare.errors).  A coarser mesh costs a fraction of the solve.
+CHECK_COARSEN = 1.5
+# Where coarsening leaves the mesh nearly as it is (a small body already at
+# its fewest elements, a mesh file that cannot be re-meshed) the two answers
+# would agree whatever the error: the check mesh is then the band's mesh with
+# every triangle split in four (sizes times 1/2).  "Nearly": an effective size
+# ratio sqrt(N_band / N_check) below CHECK_MIN_RATIO.
+CHECK_SUBDIVIDED = 0.5
+CHECK_MIN_RATIO = 1.25
 SURFACE_ARRAYS = ("surface_pressure", "velocity_triangles", "velocity_values", "mesh_vertices", "mesh_triangles",
                   "mesh_domains")
 
@@ -61,6 +73,81 @@ def solve_case_frequency(case, mesh, frequency, directions, device="auto"):
     return arrays, sol
 
 
+def subdivided(mesh):
+    """``mesh`` with every triangle split in four at its edge midpoints (same surface, sizes halved).
+
+    Examples
+    --------
+    >>> from bemcheck.mesh.surface import SurfaceMesh
+    >>> m = SurfaceMesh(np.eye(3), np.array([[0, 1, 2]]), np.array([1]))
+    >>> s = subdivided(m)
+    >>> s.n_triangles, s.n_vertices, round(float(s.areas().sum() / m.areas().sum()), 12)
+    (4, 6, 1.0)
+    """
+    from bemcheck.mesh.surface import SurfaceMesh
+
+    tri = np.asarray(mesh.triangles)
+    edges = np.sort(np.concatenate([tri[:, [0, 1]], tri[:, [1, 2]], tri[:, [2, 0]]]), axis=1)
+    unique, inverse = np.unique(edges, axis=0, return_inverse=True)
+    mid = len(mesh.vertices) + inverse.reshape(3, -1).T  # (nt, 3): midpoints of edges 01, 12, 20
+    vertices = np.vstack([mesh.vertices, 0.5 * (mesh.vertices[unique[:, 0]] + mesh.vertices[unique[:, 1]])])
+    a, b, c = tri.T
+    ab, bc, ca = mid.T
+    children = np.stack([np.stack([a, ab, ca], 1), np.stack([ab, b, bc], 1), np.stack([ca, bc, c], 1),
+                         np.stack([ab, bc, ca], 1)], axis=1).reshape(-1, 3)
+    return SurfaceMesh(vertices, children, np.repeat(np.asarray(mesh.domains), 4), dict(mesh.groups))
+
+
+def check_mesh(case, element_size, cache_dir=None):
+    """The error-estimate mesh of a band and its size ratio to the band's mesh.
+
+    Returns
+    -------
+    (SurfaceMesh, float)
+        The band's mesh CHECK_COARSEN times coarser everywhere, with its
+        effective ratio sqrt(N_band / N_check) (the triangle counts of a
+        surface go as 1/h²); or, where that ratio stays below
+        CHECK_MIN_RATIO, the band's mesh subdivided (ratio CHECK_SUBDIVIDED).
+
+    Examples
+    --------
+    >>> from bemcheck.case import parse_case
+    >>> text = "\\n".join(['[case]', 'title = "t"', '[frequencies]', 'list = [300.0]', '[[body]]', 'name = "b"',
+    ...                   'kind = "box"', 'size = [0.2, 0.2, 0.2]', '[[source]]', 'name = "p"', 'role = "primary"',
+    ...                   'at = [0.4, 0.0, 0.0]', 'strength = 1e-3'])
+    >>> case = parse_case(text)
+    >>> mesh, ratio = check_mesh(case, 0.19)  # a box already at its fewest triangles
+    >>> ratio
+    0.5
+    """
+    from bemcheck.mesh import mesh_scene
+
+    band = mesh_scene(case, element_size, cache_dir=cache_dir)
+    if not any(b.kind == "file" for b in case.bodies):
+        coarse = mesh_scene(case, element_size, cache_dir=cache_dir, refine=1.0 / CHECK_COARSEN)
+        ratio = float(np.sqrt(band.n_triangles / coarse.n_triangles))
+        if ratio >= CHECK_MIN_RATIO:
+            return coarse, ratio
+    return subdivided(band), CHECK_SUBDIVIDED
+
+
+def alone_case(case, body_name):
+    """``case`` with only the body ``body_name`` and the sources on it.
+
+    Examples
+    --------
+    >>> import bemcheck
+    >>> case = bemcheck.load_case(bemcheck.example_path("demo"))
+    >>> sub = alone_case(case, "cab_up")
+    >>> [b.name for b in sub.bodies], [s.name for s in sub.sources]
+    (['cab_up'], ['ctl_up'])
+    """
+    import dataclasses
+
+    return dataclasses.replace(case, bodies=(case.body(body_name),),
+                               sources=tuple(s for s in case.sources if s.on == body_name))
+
+
 def bem_task(case, task, device="auto", cache_dir=None):
     """Solve one sweep task; the answer is ``(arrays, meta)`` for the part store.
 
@@ -68,28 +155,41 @@ def bem_task(case, task, device="auto", cache_dir=None):
     ----------
     case : Case
     task : Task
-        Frequency [Hz] and element size [m] of the mesh to solve on.
+        Frequency [Hz], element size [m] and kind (SOLVE, CHECK, ALONE) of the solve.
     device : {"auto", "numba"}
     cache_dir : path, optional
         Mesh cache folder.
+
+    Returns
+    -------
+    (dict, dict)
+        Arrays: ``far_field`` (D, S), ``points`` (P, S), and for SOLVE and
+        CHECK also ``impedance`` and ``power_matrix`` (S, S); a CHECK adds
+        ``size_ratio`` (its mesh's sizes over the band mesh's), a SOLVE the
+        surface solution (:func:`stored_solve`).  ALONE columns are the
+        sources on ``task.body`` in case order.  Meta: mesh and timings.
     """
     import time
 
     from bemcheck.mesh import SurfaceMesh, mesh_scene
-    from bemcheck.run.sweep import SELF_CHECK_REFINE
+    from bemcheck.run.sweep import ALONE, CHECK, SOLVE
 
     start = time.perf_counter()
-    if case.bodies:
-        refine = SELF_CHECK_REFINE if task.refine else 1.0
-        mesh = mesh_scene(case, task.element_size, cache_dir=cache_dir, refine=refine)
-    else:  # nothing scatters: the solver answers the free field
+    solved = alone_case(case, task.body) if task.kind == ALONE else case
+    if not case.bodies:  # nothing scatters: the solver answers the free field
         mesh = SurfaceMesh(np.zeros((0, 3)), np.zeros((0, 3), dtype=int), np.zeros(0, dtype=int))
-    directions = for_observers(case.observers.far_field)
-    arrays, sol = solve_case_frequency(case, mesh, task.frequency, directions, device)
-    if task.refine:
-        arrays = {"far_field": arrays["far_field"]}
+    elif task.kind == CHECK:
+        mesh, ratio = check_mesh(case, task.element_size, cache_dir)
     else:
+        mesh = mesh_scene(solved, task.element_size, cache_dir=cache_dir)
+    directions = for_observers(case.observers.far_field)
+    arrays, sol = solve_case_frequency(solved, mesh, task.frequency, directions, device)
+    if task.kind == SOLVE:
         arrays.update(_surface_arrays(sol, mesh))
+    elif task.kind == CHECK:
+        arrays["size_ratio"] = np.array(ratio)
+    else:
+        arrays = {"far_field": arrays["far_field"], "points": arrays["points"]}
     seconds = time.perf_counter() - start
     meta = {
         "elements": int(mesh.n_triangles),

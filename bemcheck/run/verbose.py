@@ -9,7 +9,7 @@ from pathlib import Path
 import numpy as np
 
 from bemcheck.errors import BemcheckInputError
-from bemcheck.run.sweep import SELF_CHECK_REFINE
+from bemcheck.run.tasks import CHECK_COARSEN
 
 
 def mesh_cache_lines(case, bands, cache_dir=None):
@@ -38,7 +38,7 @@ def mesh_cache_lines(case, bands, cache_dir=None):
     lines = [f"mesh cache {folder}:"]
     for band in bands:
         counts = []
-        for refine in (1.0, SELF_CHECK_REFINE):
+        for refine in (1.0, 1.0 / CHECK_COARSEN):
             try:
                 found = sum((folder / f"{mesh_key(b, band.element_size, base_dir, refine)}.npz").is_file()
                             for b in case.bodies)
@@ -49,7 +49,7 @@ def mesh_cache_lines(case, bands, cache_dir=None):
         lines.append(
             f"  band {band.index} ({band.f_low:g}-{band.f_high:g} Hz, h = {1e3 * band.element_size:.1f} mm): "
             f"{counts[0]} of {n} body meshes found, {n - counts[0]} to make; "
-            f"self-check ({SELF_CHECK_REFINE:g}x finer): {counts[1]} of {n} found, {n - counts[1]} to make"
+            f"error check ({CHECK_COARSEN:g}x coarser): {counts[1]} of {n} found, {n - counts[1]} to make"
         )
     return lines
 
@@ -57,10 +57,9 @@ def mesh_cache_lines(case, bands, cache_dir=None):
 def numerical_error_lines(bands, ds):
     """The BEM's numerical error estimate per band, from a run's results.
 
-    The estimate is the far-field difference between the band's mesh and a
-    mesh SELF_CHECK_REFINE times finer at the band's top frequency
-    (``numerical_error_db`` and ``numerical_error_deg`` in results.nc); it
-    stands for every frequency of the band.
+    The estimate is made at every frequency from the band's mesh and a
+    second mesh of known size ratio (:mod:`bemcheck.compare.errors`;
+    ``numerical_error_db`` and ``numerical_error_deg`` in results.nc).
 
     Parameters
     ----------
@@ -80,7 +79,7 @@ def numerical_error_lines(bands, ds):
     level = ds["numerical_error_db"].values
     phase = ds["numerical_error_deg"].values
     epw = ds["elements_per_wavelength"].values if "elements_per_wavelength" in ds else None
-    lines = [f"numerical error (band mesh against a {SELF_CHECK_REFINE:g}x finer one at each band's top frequency):"]
+    lines = ["numerical error (band mesh against a second mesh at every frequency), largest in each band:"]
     for band in bands:
         rows = np.isin(f, band.frequencies)
         if not rows.any():

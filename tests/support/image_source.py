@@ -36,7 +36,8 @@ def image_task(case, task, calls=None):
     """A sweep task answered by the image-source world instead of the BEM.
 
     The 'mesh' of a task only perturbs the answer by a known relative amount,
-    (element_size)², so the self-check sees a finite numerical error.
+    (element_size)², so an error check (a case with bodies) sees a finite
+    numerical error.
     """
     from bemcheck.observers import for_observers
 
@@ -46,9 +47,12 @@ def image_task(case, task, calls=None):
     x = np.array([s.position for s in case.sources])
     pts = np.array([p.at for p in case.observers.points]).reshape(-1, 3)
     r = image_response(task.frequency, case.medium, x, d.unit, pts)
-    h = task.element_size / (1.5 if task.refine else 1.0)
+    check = task.kind == "check"
+    h = task.element_size * (1.5 if check else 1.0)
     scale = 1.0 + h**2
     arrays = {"far_field": r.far_field * scale, "points": r.points * scale, "impedance": r.impedance, "power_matrix": r.power_matrix}
+    if check:
+        arrays["size_ratio"] = np.array(1.5)
     lam = case.medium.speed_of_sound / task.frequency
     return arrays, {"elements": 100, "elements_per_wavelength": lam / task.element_size, "device": "image-source", "seconds": 0.0}
 

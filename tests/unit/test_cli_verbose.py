@@ -72,22 +72,22 @@ def test_verbose_names_every_task_and_where_it_went(tmp_path, capsys):
     assert code == 0, err
     assert "Verdict:" in stdout and "    stored" not in stdout      # details go with the progress, not the results
     files = sorted((out / PARTS).glob("*.npz"))
-    assert len(files) == 4                                          # three frequencies and one self-check
+    assert len(files) == 3                                          # three frequencies; no bodies, no error check
     said = STORED.findall(err)
-    assert [kind for kind, _ in said] == ["stored"] * 4
+    assert [kind for kind, _ in said] == ["stored"] * 3
     assert sorted(Path(p) for _, p in said) == files
-    assert err.count("    mesh: none (no bodies: the BEM answers the free field)") == 4
-    assert err.count("    time: assembly ") == 4 and "s in all" in err
+    assert err.count("    mesh: none (no bodies: the BEM answers the free field)") == 3
+    assert err.count("    time: assembly ") == 3 and "s in all" in err
     assert "mesh cache: not used (no bodies to mesh)" in err
     assert re.search(r"  band 0 \(100-400 Hz\): up to \S+ dB and \S+ deg", err)
     # each task's details follow its own progress line
-    blocks = re.split(r"^\[\d/4\] ", err, flags=re.M)[1:]
-    assert len(blocks) == 4 and all("    stored: " in b for b in blocks)
+    blocks = re.split(r"^\[\d/3\] ", err, flags=re.M)[1:]
+    assert len(blocks) == 3 and all("    stored: " in b for b in blocks)
 
     code, _, err = _run(argv, capsys)                               # the same command again: all stored
     assert code == 0, err
-    assert [kind for kind, _ in STORED.findall(err)] == ["stored earlier"] * 4
-    assert err.count("(stored)") == 4
+    assert [kind for kind, _ in STORED.findall(err)] == ["stored earlier"] * 3
+    assert err.count("(stored)") == 3
 
 
 def test_quiet_and_plain_runs_print_no_details(tmp_path, capsys):
@@ -97,7 +97,7 @@ def test_quiet_and_plain_runs_print_no_details(tmp_path, capsys):
     assert code == 0 and err == ""
     code, _, err = _run(base + ["--out", str(tmp_path / "p")], capsys)
     assert code == 0
-    assert err.count("[") == 4 and "    stored" not in err and "mesh cache" not in err and "numerical error" not in err
+    assert err.count("[") == 3 and "    stored" not in err and "mesh cache" not in err and "numerical error" not in err
     assert main(base + ["--out", str(tmp_path / "both"), "--quiet", "--verbose"]) == 2    # one or the other
 
 
@@ -149,19 +149,22 @@ class _Capture:
 def test_verbose_box_mesh_figures_follow_from_the_mesh(box_runs):
     folder, err = box_runs[0]
     meshes = re.findall(r"^    mesh: (\d+) elements, (\d+) unknowns, largest edge ([\d.]+) mm, ([\d.]+) elements per wavelength", err, re.M)
-    solves = re.findall(r"^\[\d/4\] (solve|self-check) +([\d.]+) Hz", err, re.M)
-    assert len(meshes) == len(solves) == 4
+    solves = re.findall(r"^\[\d/6\] (solve|error check) +([\d.]+) Hz", err, re.M)
+    assert len(meshes) == len(solves) == 6
     for (kind, f), (elements, unknowns, edge_mm, epw) in zip(solves, meshes):
         elements, unknowns = int(elements), int(unknowns)
         assert unknowns == elements // 2 + 2, "a closed genus-0 surface has F/2 + 2 vertices"
         # both figures are printed rounded (0.1 and 0.1 mm): half a unit of each
         assert float(epw) == pytest.approx(343.0 / float(f) / (float(edge_mm) / 1e3), abs=0.05 + 0.05 * float(epw) / float(edge_mm))
-    assert [int(m[0]) for m in meshes[:3]] == [84] * 3 and int(meshes[3][0]) > 84   # the self-check is finer
+    elements = [int(m[0]) for (kind, _), m in zip(solves, meshes)]
+    assert [e for (kind, _), e in zip(solves, elements) if kind == "solve"] == [84] * 3
+    # the box is at its fewest triangles already: coarser would be the same mesh, so the check splits each in four
+    assert all(e == 4 * 84 for (kind, _), e in zip(solves, elements) if kind == "error check")
     ds = bemcheck.load_results(folder)
     np.testing.assert_array_equal(ds["elements"].values, [84, 84, 84])
     device = ds.attrs["device"]
     times = re.findall(r"^    time: (.*); ([\d.]+) s in all on (\w+)$", err, re.M)
-    assert len(times) == 4 and all(d == device for _, _, d in times)
+    assert len(times) == 6 and all(d == device for _, _, d in times)
     for parts, total, _ in times:
         named = {k: float(v) for k, v in re.findall(r"(\w[\w ,()-]*?) ([\d.]+) s", parts)}
         assert {"assembly", "lu"} <= set(named) and sum(named.values()) == pytest.approx(float(total), abs=0.02)
@@ -170,8 +173,8 @@ def test_verbose_box_mesh_figures_follow_from_the_mesh(box_runs):
 def test_verbose_box_reports_cache_hits_and_the_numerical_error(box_runs):
     (first, err1), (second, err2) = box_runs
     assert "1 of 1 body meshes found" not in err1 and "0 of 1 body meshes found, 1 to make" in err1
-    assert "self-check (1.5x finer): 0 of 1 found, 1 to make" in err1
-    assert "1 of 1 body meshes found, 0 to make" in err2 and "self-check (1.5x finer): 1 of 1 found, 0 to make" in err2
+    assert "error check (1.5x coarser): 0 of 1 found, 1 to make" in err1
+    assert "1 of 1 body meshes found, 0 to make" in err2 and "error check (1.5x coarser): 1 of 1 found, 0 to make" in err2
     for folder, err in box_runs:
         ds = bemcheck.load_results(folder)
         said = re.search(r"  band 0 \(200-400 Hz\): up to (\S+) dB and (\S+) deg .*; ([\d.]+) elements per wavelength there", err)

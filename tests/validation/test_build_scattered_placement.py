@@ -177,7 +177,7 @@ def stored_of(case, folder, frequency):
     from bemcheck.mesh import plan_bands
 
     plan = plan_tasks(case, plan_bands(case), harmonics=[f for _, _, f in harmonic_plan(case)])
-    task = next(t for t in plan if t.frequency == frequency and not t.refine)
+    task = next(t for t in plan if t.frequency == frequency and t.kind == "solve")
     arrays, _ = PartStore(folder).load(task.key)
     return stored_solve(case, frequency, arrays)
 

@@ -10,6 +10,7 @@ from bemcheck.compare import crossing_frequency
 from bemcheck.observers import for_observers
 from bemcheck.run.combine import combine
 from bemcheck.run.runner import free_responses
+from bemcheck.solvers.response import FieldResponse
 from tests.support.image_source import image_response
 
 CASE = """
@@ -39,13 +40,18 @@ sectors = [ {{ name = "upper", from_deg = 10.0, to_deg = 170.0 }} ]
 """
 
 
-def run_pair(zp=0.3, xc=0.15, zc=0.3, world=image_response, **kw):
+def run_pair(zp=0.3, xc=0.15, zc=0.3, world=image_response, check_scale=None):
+    """The pair in ``world``; with ``check_scale`` a check 'mesh' whose answers are that many times the world's."""
     case = parse_case(CASE.format(zp=zp, xc=xc, zc=zc))
     d = for_observers(case.observers.far_field)
     free = free_responses(case, d)
     x = np.array([s.position for s in case.sources])
     bem = [world(f, case.medium, x, d.unit, np.zeros((0, 3))) for f in case.frequencies]
-    return case, combine(case, d, free, bem, **kw)
+    if check_scale is None:
+        return case, combine(case, d, free, bem)
+    check = [FieldResponse(r.frequency, r.far_field * check_scale, r.points, r.impedance * check_scale,
+                           r.power_matrix * check_scale) for r in bem]
+    return case, combine(case, d, free, bem, check, np.full(len(bem), 1.5))
 
 
 def test_no_scatterer_means_no_departure():
@@ -63,7 +69,8 @@ def test_no_scatterer_means_no_departure():
     assert not ds["trust_limit_found"].values.any()
     np.testing.assert_allclose(ds["attenuation_as_designed_db"], ds["attenuation_free_db"], rtol=1e-12)
     np.testing.assert_allclose(ds["attenuation_reoptimised_db"], ds["attenuation_free_db"], rtol=1e-12)
-    assert v["passed"] and v["sectors"][0]["trust_limit_hz"] is None
+    assert v["outcome"] == "PASS" and v["sectors"][0]["attenuation_limit_hz"] is None
+    assert all(f["trust_limit_hz"] is None for f in v["sectors"][0]["fields"].values())
 
 
 def test_trust_limit_matches_the_exact_image_solution():
@@ -99,10 +106,11 @@ def test_crossing_interpolation_on_a_synthetic_departure():
 def test_not_resolved_is_neither_agreement_nor_departure():
     """A departure within the numerical error estimate of the tolerance is 'not resolved'
     and stops no trust limit (the issue's rule)."""
-    case, (ds, v) = run_pair(zp=0.3, error_db=np.full((31, 72), 61.0), error_deg=np.full((31, 72), 200.0))
+    case, (ds, v) = run_pair(zp=0.3, check_scale=50.0)
     assert not ds["trust_limit_found"].values.any()
-    assert v["sectors"][0]["refine_mesh_at_hz"]
+    assert v["sectors"][0]["field_not_resolved_at_hz"]
     assert (ds["status"].values != 2).all()
+    assert v["outcome"] == "NOT RESOLVED"
 
 
 def test_power_as_designed_equals_half_re_qzq():
