@@ -44,7 +44,7 @@ class Models:
         Its mesh sizes over the band mesh's.
     own_body : (F, S, D) ndarray of complex, optional
         Far field of each source with only the body it sits on (a source on
-        no body: its free field); None when no source sits on a body.
+        no body: its free field); None when not solved (no decomposition).
     """
 
     free: tuple

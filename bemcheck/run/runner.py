@@ -77,9 +77,9 @@ class BemSweep:
         The error-estimate mesh's solve at each run frequency (None without bodies).
     check_ratio : (F,) ndarray or None
         Each check mesh's sizes over its band mesh's.
-    own_body : (F, S, D) ndarray or None
+    own_body : (F, S, D) ndarray
         Far field of each source with only its own body (its free field if on
-        none); None when no source sits on a body.
+        none).
     metas : tuple of dict
         Each run frequency's solve metadata (elements, timings, device).
     solved : dict
@@ -91,7 +91,7 @@ class BemSweep:
     responses: tuple
     check: tuple | None
     check_ratio: np.ndarray | None
-    own_body: np.ndarray | None
+    own_body: np.ndarray
     metas: tuple
     solved: dict
     stored: dict
@@ -104,8 +104,6 @@ def _response(task, arrays):
 def _own_body(case, frequencies, plan, parts, free):
     """(F, S, D) far field of each source with its own body alone; a source on no body keeps its free field."""
     alone = [t for t in plan if t.kind == ALONE]
-    if not alone:
-        return None
     own = np.array([r.far_field.T for r in free])
     index = {f: i for i, f in enumerate(frequencies)}
     for t in alone:
