@@ -43,7 +43,7 @@ def richardson(main, other, ratio):
 
     Examples
     --------
-    >>> float(richardson(1.0, 1.0 + 1.25e-3, 1.5))
+    >>> round(float(richardson(1.0, 1.0 + 1.25e-3, 1.5)), 12)
     0.001
     """
     return np.abs(np.asarray(main) - np.asarray(other)) / abs(ratio**2 - 1.0)
@@ -54,7 +54,7 @@ def amplitude_error(main, other, ratio, axis=-1):
 
     Examples
     --------
-    >>> amplitude_error(np.array([[1.0, 2.0]]), np.array([[1.0, 2.0125]]), 1.5).tolist()
+    >>> amplitude_error(np.array([[1.0, 2.0]]), np.array([[1.0, 2.0125]]), 1.5).round(12).tolist()
     [[0.01]]
     """
     return richardson(main, other, ratio).max(axis=axis, keepdims=True) if np.size(main) else np.zeros(np.shape(main))

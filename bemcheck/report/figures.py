@@ -28,7 +28,6 @@ from bemcheck.report.signals import (
     polar_frequencies,
     primary_q_of,
     signal_fields,
-    trust_limit_hz,
 )
 
 # The departure map's colour scale never reaches beyond this [dB] unless the
@@ -79,8 +78,29 @@ def _circular_edges(az):
     return 0.5 * (ext[1:] + ext[:-1])
 
 
-def departure_map_figure(ds, signal=CONTROLLED, tolerance_db=None, sectors=()):
-    """Level departure over frequency and azimuth, with the tolerance contour and the masks.
+# What a map can show: the values' variable, its tolerance's name in the case,
+# the colour bar's label, whether the tolerance is one-sided, the title.
+_MAPS = {
+    "level": ("level_departure_db", "level_db", "20 log10 |p_BEM / p_free| [dB]", False,
+              "Level departure, BEM vs free field"),
+    "phase": ("phase_departure_deg", "phase_deg", "phase of p_BEM / p_free [°]", False,
+              "Phase departure, BEM vs free field"),
+    "shortfall": (None, "attenuation_db", "min(predicted, target) − attenuation as designed [dB]", True,
+                  "Attenuation shortfall of the free-field design, scattering included"),
+}
+
+
+def _map_values(ds, quantity, signal, tolerance):
+    """(values (F, D), one-sided) of a map; the shortfall is the controlled system's."""
+    name = _MAPS[quantity][0]
+    if name is not None:
+        return ds[name].sel(signal=signal).values
+    return (np.minimum(ds["directional_attenuation_predicted_db"].values, tolerance.attenuation_target_db)
+            - ds["directional_attenuation_as_designed_db"].values)
+
+
+def departure_map_figure(ds, signal=CONTROLLED, tolerance=None, sectors=(), quantity="level"):
+    """A departure over frequency and azimuth, with the tolerance contour and the masks.
 
     Parameters
     ----------
@@ -88,11 +108,14 @@ def departure_map_figure(ds, signal=CONTROLLED, tolerance_db=None, sectors=()):
         Results of a run holding both models.
     signal : str
         A source name or ``"controlled"``.
-    tolerance_db : float, optional
-        Level tolerance [dB]; default that of :class:`~bemcheck.case.model.Tolerance`.
+    tolerance : Tolerance, optional
+        The case's tolerances; default :class:`~bemcheck.case.model.Tolerance`.
     sectors : sequence of Sector, optional
         The case's tolerance sectors; each one's trust limit is marked
         across its azimuths.
+    quantity : {"level", "phase", "shortfall"}
+        Level [dB] or phase [°] departure of a signal's field, or the
+        controlled system's attenuation shortfall [dB] (what the verdict judges).
 
     Returns
     -------
@@ -102,17 +125,21 @@ def departure_map_figure(ds, signal=CONTROLLED, tolerance_db=None, sectors=()):
     idx = plane_directions(ds)
     if not has_bem(ds) or idx.size == 0:
         return None
-    tol = Tolerance().level_db if tolerance_db is None else float(tolerance_db)
+    tolerance = Tolerance() if tolerance is None else tolerance
+    _, tol_key, bar_label, one_sided, title = _MAPS[quantity]
+    tol = float(getattr(tolerance, tol_key))
+    unit = "°" if quantity == "phase" else " dB"
     f = ds["frequency"].values
     az = ds["azimuth_deg"].values[idx] % 360.0
-    level = ds["level_departure_db"].sel(signal=signal).values[:, idx]
+    level = _map_values(ds, quantity, signal, tolerance)[:, idx]
     judged = ds["significant"].sel(signal=signal).values[:, idx]
     unresolved = (ds["status"].sel(signal=signal).values[:, idx] == NOT_RESOLVED) & judged
     shown = np.ma.masked_where(~judged, level)
-    # The colour range follows the bulk of the departures but stays within a
-    # few tolerances, so that departures near the tolerance keep their shades.
+    # The colour range follows the bulk of the values but stays within a few
+    # tolerances, so that values near the tolerance keep their shades.
+    ceiling = 180.0 if quantity == "phase" else MAP_CEILING_DB
     span = float(np.percentile(np.abs(level[judged]), 90)) if judged.any() else tol
-    vmax = float(np.ceil(np.clip(span, 3.0 * tol, max(3.0 * tol, MAP_CEILING_DB))))
+    vmax = float(np.ceil(np.clip(span, 3.0 * tol, max(3.0 * tol, ceiling))))
 
     fig = style.new_figure(9.0, 5.0)
     ax = fig.add_subplot()
@@ -124,8 +151,9 @@ def departure_map_figure(ds, signal=CONTROLLED, tolerance_db=None, sectors=()):
     # Contours on the cell centres, with the circle closed on both sides.
     yy = np.concatenate([[az[-1] - 360.0], az, [az[0] + 360.0]])
     zz = np.ma.concatenate([shown[:, -1:], shown, shown[:, :1]], axis=1)
+    levels, styles = ([tol], ["-"]) if one_sided else ([-tol, tol], ["--", "-"])
     if f.size > 1 and judged.any():
-        ax.contour(f, yy, zz.T, levels=[-tol, tol], colors=[style.INK], linewidths=1.0, linestyles=["--", "-"])
+        ax.contour(f, yy, zz.T, levels=levels, colors=[style.INK], linewidths=1.0, linestyles=styles)
     _trust_marks(ax, ds, signal, y_edges, sectors)
     _frequency_axis(ax, f)
     ax.set_xlim(x_edges[0], x_edges[-1])
@@ -133,16 +161,18 @@ def departure_map_figure(ds, signal=CONTROLLED, tolerance_db=None, sectors=()):
     ax.set_yticks(np.arange(0.0, 361.0, 45.0))
     ax.grid(False)
     ax.set_ylabel("azimuth in the observers' plane [°]")
-    ax.set_title(f"Level departure, BEM vs free field: {signal_label(signal)}")
+    ax.set_title(f"{title}: {signal_label(signal)}")
     bar = fig.colorbar(mesh, ax=ax, extend="both", pad=0.01)
-    bar.set_label("20 log10 |p_BEM / p_free| [dB]")
+    bar.set_label(bar_label)
+    contour = (f"+{tol:g}{unit}: falls short beyond the tolerated shortfall" if one_sided
+               else f"+{tol:g}{unit} (solid), −{tol:g}{unit} (dashed)")
     handles = [
-        Line2D([], [], color=style.INK, lw=1.0, label=f"+{tol:g} dB (solid), −{tol:g} dB (dashed)"),
+        Line2D([], [], color=style.INK, lw=1.0, label=contour),
         Patch(facecolor=style.NULL_GREY, label="null in both models (not judged)"),
         Patch(facecolor="white", edgecolor=style.INK, hatch="////", label="mesh cannot tell (not resolved)"),
         Line2D([], [], color=style.INK, lw=3.0, solid_capstyle="butt", label="trust limit of a sector"),
     ]
-    fig.legend(handles=handles, loc="outside lower center", ncol=4, fontsize=7.5)
+    fig.legend(handles=handles, loc="outside lower center", ncol=2 if one_sided else 4, fontsize=7.5)
     return fig
 
 
@@ -239,12 +269,15 @@ def attenuation_figure(ds):
         ax.fill_between(f, designed, predicted, where=predicted > designed, color=style.SCATTERED, alpha=0.15,
                         lw=0, label="lost to scattering")
         ax.plot(f, designed, color=style.SCATTERED, lw=1.6, marker="s", ms=3, label="as designed, scattering included")
+        error = ds["attenuation_as_designed_error_db"].values
+        ax.fill_between(f, designed - error, designed + error, color=style.SCATTERED, alpha=0.3, lw=0,
+                        label="± its numerical error")
         ax.plot(f, ds["attenuation_reoptimised_db"].values, color=style.REOPTIMISED, lw=1.3, ls=(0, (5, 2)),
                 label="re-optimised with scattering")
-        limit = trust_limit_hz(ds, CONTROLLED)
-        if limit is not None:
+        if bool(ds["attenuation_as_designed_limit_found"]):
+            limit = float(ds["attenuation_as_designed_limit_hz"])
             ax.axvline(limit, color=style.INK, lw=0.9, ls=":")
-            ax.annotate("trust limit", (limit, 1.0), xycoords=("data", "axes fraction"), xytext=(3, -10),
+            ax.annotate("falls short", (limit, 1.0), xycoords=("data", "axes fraction"), xytext=(3, -10),
                         textcoords="offset points", fontsize=7.5)
     ax.axhline(0.0, color=style.MUTED, lw=0.8)
     _frequency_axis(ax, f)
@@ -467,7 +500,13 @@ def make_figures(ds, out_dir, *, case=None, mesh=None, signals=None, frequencies
         frequencies = polar_frequencies(ds, focus)
     sectors = case.tolerance.sectors if case is not None else ()
     drawers = {"layout": lambda: layout_figure(mesh, case) if mesh is not None else None}
-    drawers.update({f"departure_map_{g}": (lambda g=g: departure_map_figure(ds, g, tolerance_db, sectors)) for g in signals})
+    tolerance = case.tolerance if case is not None else Tolerance(level_db=tolerance_db or Tolerance.level_db)
+    for g in signals:
+        if g == CONTROLLED:
+            drawers["shortfall_map"] = lambda: departure_map_figure(ds, CONTROLLED, tolerance, sectors, "shortfall")
+        else:
+            drawers[f"departure_map_{g}"] = lambda g=g: departure_map_figure(ds, g, tolerance, sectors, "level")
+            drawers[f"phase_map_{g}"] = lambda g=g: departure_map_figure(ds, g, tolerance, sectors, "phase")
     drawers["departure_by_sector"] = lambda: sector_figure(ds, tolerance_db)
     drawers[f"polar_{focus}"] = lambda: polar_figure(ds, focus, frequencies, primary_q)
     drawers["attenuation"] = lambda: attenuation_figure(ds)

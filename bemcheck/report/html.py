@@ -40,6 +40,13 @@ CAPTIONS = {
                      "azimuth. Colour: 20 log10 |p_BEM/p_free|. Solid and dashed contours: the level tolerance. Grey: "
                      "nulls of both models (not judged). Hatched: the departure is within the BEM's own error of the "
                      "tolerance (refine the mesh to decide). Black bars: each sector's trust limit.",
+    "phase_map": "Phase departure of the scattered field (BEM) from the free-field prediction over frequency and "
+                 "azimuth, beside the level map: a trust limit can be set by either. Contours: the phase tolerance; "
+                 "grey, hatched and black bars as in the level map.",
+    "shortfall_map": "How far the controlled system's attenuation as designed, scattering included, falls short of "
+                     "what it must reach: the free-field prediction, capped by the target. Negative (blue): better "
+                     "than needed. Contour: the tolerated shortfall, beyond which a direction departs. Hatched: the "
+                     "BEM's own error cannot tell. Black bars: where the attenuation first surely falls short.",
     "polar": "Far-field level in the observers' plane at a few frequencies spread over the band (one near the trust "
              "limit), each model a curve, in dB relative to the loudest curve of the panel.",
     "attenuation": "Attenuation of the radiated power by the control sources: as the free-field model predicts it, as "
