@@ -49,7 +49,7 @@ import numpy as np
 SIZING_RULE = 2
 PER_SIZE = 1.0 / 50.0
 PER_RADIUS = 0.05
-PER_BODY = 0.01
+PER_BODY = 0.02
 DIAMETER_FRACTION = 1.0
 GRADING = 0.8
 # Area and volume of every mesh stay within TOLERANCE of the solid's; the
