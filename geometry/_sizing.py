@@ -36,10 +36,13 @@ refines only where that sagitta would exceed the allowed deviation
   apart and their near-singular pairs stay in the accurate quadrature
   (common practice, no source).
 
-``scale`` (1 for the first mesh) is lowered by ``bemcheck.mesh.bodies``
-when a mesh's measured area or volume misses the solid's by more than
-CHECKED_WITHIN; the band's size scales the deviation, so the 1.5x coarser
-self-check mesh is coarser in the curved parts too, within the same check.
+``bemcheck.mesh.bodies`` then moves the vertices out by the mean depth of
+their facets (``straddle``), which removes the leading volume loss, measures
+the mesh's area and volume against the solid's (each script's
+``solid_measures``), and lowers ``scale`` (1 for the first mesh) until both
+are within CHECKED_WITHIN.  Where the wavelength bound decides, a 1.5x
+coarser size gives a coarser mesh; where the geometric bounds decide (low
+bands), it gives the same mesh, held to the same tolerance.
 
 Change any figure here and raise SIZING_RULE: it enters every mesh's cache key.
 """
@@ -51,6 +54,7 @@ PER_SIZE = 1.0 / 50.0
 PER_RADIUS = 0.05
 PER_BODY = 0.02
 DIAMETER_FRACTION = 1.0
+# growth of the element size along a profile, metres per metre (common practice, no source)
 GRADING = 0.8
 # Area and volume of every mesh stay within TOLERANCE of the solid's; the
 # mesher aims at CHECKED_WITHIN to leave room for the reference's own error.
@@ -82,8 +86,8 @@ def allowed_deviation(size, curvature, local_radius, mean_radius, scale=1.0):
 
     Examples
     --------
-    >>> float(allowed_deviation(0.5, 10.0, 0.1, 0.1))   # a 0.1 m sphere at a coarse band: 1 % of its radius
-    0.001
+    >>> float(allowed_deviation(0.5, 10.0, 0.1, 0.1))   # a 0.1 m sphere at a coarse band: 2 % of its radius
+    0.002
     """
     kappa = np.asarray(curvature, dtype=float)
     body = PER_BODY * mean_radius * np.sqrt(np.maximum(kappa * mean_radius, 1.0))
@@ -123,7 +127,7 @@ def local_size(size, curvature, local_radius, thickness, mean_radius, scale=1.0)
     Examples
     --------
     >>> local_size(0.5, [10.0, 0.0], [0.1, 0.1], [0.2, 0.2], 0.1).round(4).tolist()
-    [0.0283, 0.2]
+    [0.04, 0.2]
     """
     chord = sagitta_size(allowed_deviation(size, curvature, local_radius, mean_radius, scale), curvature)
     return np.minimum(np.minimum(size, chord), DIAMETER_FRACTION * np.asarray(thickness, dtype=float))
@@ -138,7 +142,7 @@ def grade(s, h):
     Examples
     --------
     >>> grade([0.0, 0.1, 0.2], [0.01, 1.0, 1.0]).round(3).tolist()
-    [0.01, 0.05, 0.09]
+    [0.01, 0.09, 0.17]
     """
     h = np.array(h, dtype=float)
     s = np.asarray(s, dtype=float)

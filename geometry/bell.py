@@ -272,7 +272,7 @@ def solid_measures(mouth_radius, throat_radius, length, flare, rim_radius, cap_d
     --------
     >>> area, volume = solid_measures(0.1, 0.02, 0.3, 0.8, 0.005)
     >>> round(area, 4), round(volume * 1e3, 4)
-    (0.1224, 2.6216)
+    (0.103, 1.6733)
     """
     return _measures(section(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth))
 
