@@ -213,6 +213,25 @@ def _improve(machine):
     ]
 
 
+# bench/bell_sizing.py keeps its own section of RESULTS.md between these lines
+SECTION_START, SECTION_END = "<!-- bell_sizing.py -->", "<!-- /bell_sizing.py -->"
+
+
+def kept_section(path):
+    """The bell-sizing section of an existing RESULTS.md, or "" (kept when the page is rewritten)."""
+    text = path.read_text() if path.exists() else ""
+    start, end = text.find(SECTION_START), text.find(SECTION_END)
+    return text[start:end + len(SECTION_END)] if 0 <= start < end else ""
+
+
+def put_section(path, body):
+    """Replace (or append) the bell-sizing section of RESULTS.md by ``body``."""
+    text = path.read_text() if path.exists() else ""
+    old = kept_section(path)
+    new = f"{SECTION_START}\n{body.rstrip()}\n{SECTION_END}"
+    path.write_text(text.replace(old, new) if old else text.rstrip() + "\n\n" + new + "\n")
+
+
 def write(path, machine, sweep, scaling, cold, seconds, quick):
     """Write RESULTS.md; return the analysis it used."""
     sweep_sum = analysis.sweep_summary(sweep)
@@ -231,5 +250,6 @@ def write(path, machine, sweep, scaling, cold, seconds, quick):
     lines += _scaling(scaling, scaling_sum) + [""]
     lines += _cold(cold, sweep) + [""]
     lines += _improve(machine)
-    path.write_text("\n".join(lines) + "\n")
+    kept = kept_section(path)
+    path.write_text("\n".join(lines) + "\n" + ("\n" + kept + "\n" if kept else ""))
     return {"sweep": sweep_sum, "scaling": scaling_sum, "targets": [[t, v, bool(ok)] for t, v, ok in target_rows]}

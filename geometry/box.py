@@ -7,8 +7,9 @@ blends the corners into sphere octants), giving the parallel body of the inner
 box at distance edge_radius.
 
 Element size: the requested size h, at most THICKNESS_FRACTION of the smallest
-side (so a thin cabinet still has elements across it).  Rounded edges get
-2 pi r / ELEMENTS_PER_TURN, but no less than ROUND_FRACTION r (they hold little
+side (so a thin cabinet still has elements across it).  Rounded edges get the
+sagitta rule of ``_sizing.py`` with curvature 1/r and half the smallest side
+as the local radius, but no less than ROUND_FRACTION r (they hold little
 volume), graded into the flat faces at GRADING metres per metre with a
 Distance -> Threshold background field.  Run ``python geometry/box.py --help``.
 """
@@ -16,16 +17,39 @@ Distance -> Threshold background field.  Run ``python geometry/box.py --help``.
 import argparse
 import math
 
+from bemcheck.geometry_scripts._sizing import allowed_deviation, mean_radius, sagitta_size
 from bemcheck.geometry_scripts._standalone import write_msh
 
-ELEMENTS_PER_TURN = 24
 ROUND_FRACTION = 0.8
 THICKNESS_FRACTION = 0.5
-GRADING = 0.4
 MIN_ROUND = 0.02
+# gentler than a bell's profile: faster growth gave edges beyond the thickness bound
+GRADING = 0.4
 
 
-def build(depth, width, height, edge_radius=0.0, size=0.05):
+def solid_measures(depth, width, height, edge_radius=0.0):
+    """Area [m^2] and volume [m^3] of the cabinet solid.
+
+    The rounded box is the parallel body at distance r of the inner box
+    (sides a, b, c reduced by 2 r); Steiner's formula gives
+    V = abc + 2 (ab + bc + ca) r + pi (a + b + c) r^2 + 4/3 pi r^3 and
+    A = 2 (ab + bc + ca) + 2 pi (a + b + c) r + 4 pi r^2 (Santaló,
+    *Integral Geometry and Geometric Probability*, 1976, sec. 13.1; from memory).
+
+    Examples
+    --------
+    >>> [round(x, 6) for x in solid_measures(0.2, 0.2, 0.2, 0.1)]   # a sphere of radius 0.1
+    [0.125664, 0.004189]
+    """
+    r = edge_radius
+    a, b, c = depth - 2 * r, width - 2 * r, height - 2 * r
+    faces, edges = a * b + b * c + c * a, a + b + c
+    area = 2 * faces + 2 * math.pi * edges * r + 4 * math.pi * r**2
+    volume = a * b * c + 2 * faces * r + math.pi * edges * r**2 + 4 / 3 * math.pi * r**3
+    return area, volume
+
+
+def build(depth, width, height, edge_radius=0.0, size=0.05, scale=1.0):
     """Add the cabinet to the current gmsh model, with physical groups and mesh sizes.
 
     Parameters
@@ -36,6 +60,8 @@ def build(depth, width, height, edge_radius=0.0, size=0.05):
         Rounding of all edges [m], 0 <= edge_radius < half the smallest dimension.
     size : float
         Largest element size wanted [m].
+    scale : float
+        Factor on the allowed deviation of the rounded edges (``_sizing.py``).
 
     Returns
     -------
@@ -73,8 +99,12 @@ def build(depth, width, height, edge_radius=0.0, size=0.05):
     gmsh.option.setNumber("Mesh.MeshSizeMax", h)
     gmsh.option.setNumber("Mesh.Algorithm", 6)
     rounds = [t for t in surfaces if gmsh.model.getType(2, t) != "Plane"]
-    h_round = min(h, max(2.0 * math.pi * edge_radius / ELEMENTS_PER_TURN,
-                         ROUND_FRACTION * edge_radius))
+    h_round = h
+    if edge_radius > 0.0:
+        body = mean_radius(*solid_measures(depth, width, height, edge_radius))
+        deviation = allowed_deviation(size, 1.0 / edge_radius, 0.5 * smallest, body, scale)
+        h_round = min(h, max(float(sagitta_size(deviation, 1.0 / edge_radius)),
+                             scale * ROUND_FRACTION * edge_radius))
     if rounds and h_round < h:
         fields = gmsh.model.mesh.field
         dist = fields.add("Distance")

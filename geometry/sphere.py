@@ -1,21 +1,29 @@
 """A rigid sphere centred on the origin (gmsh, OpenCASCADE).
 
-One physical group, "wall".  Element size: the requested size h, but at most
-2 pi a / ELEMENTS_PER_TURN so that even a coarse request keeps the enclosed
-volume within 1 % (flat triangles inscribed in a sphere lose about
-0.3 (h/a)^2 of its volume; measured here -0.6 % at h = a/7).
+One physical group, "wall".  Element size: the requested size h, refined by
+the sagitta rule of ``_sizing.py`` with curvature 1/a and local radius a.
 Run ``python geometry/sphere.py --help``.
 """
 
 import argparse
 import math
 
+from bemcheck.geometry_scripts._sizing import local_size
 from bemcheck.geometry_scripts._standalone import write_msh
 
-ELEMENTS_PER_TURN = 44
+
+def solid_measures(radius):
+    """Area [m^2] and volume [m^3] of the sphere: 4 pi a^2 and 4/3 pi a^3.
+
+    Examples
+    --------
+    >>> [round(x, 6) for x in solid_measures(0.1)]
+    [0.125664, 0.004189]
+    """
+    return 4.0 * math.pi * radius**2, 4.0 / 3.0 * math.pi * radius**3
 
 
-def build(radius, size=0.02):
+def build(radius, size=0.02, scale=1.0):
     """Add the sphere to the current gmsh model, with its physical group and mesh size.
 
     Parameters
@@ -24,6 +32,8 @@ def build(radius, size=0.02):
         Sphere radius [m], > 0.
     size : float
         Largest element size wanted [m].
+    scale : float
+        Factor on the allowed deviation from the sphere (``_sizing.py``).
 
     Returns
     -------
@@ -34,7 +44,7 @@ def build(radius, size=0.02):
 
     if not radius > 0.0:
         raise ValueError(f"radius {radius} m: expected > 0")
-    h = min(size, 2.0 * math.pi * radius / ELEMENTS_PER_TURN)
+    h = float(local_size(size, 1.0 / radius, radius, 2.0 * radius, radius, scale))
     gmsh.model.occ.addSphere(0.0, 0.0, 0.0, radius)
     gmsh.model.occ.synchronize()
     gmsh.model.addPhysicalGroup(2, [t for _, t in gmsh.model.getEntities(2)], name="wall")

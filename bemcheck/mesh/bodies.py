@@ -10,6 +10,7 @@ import numpy as np
 
 from bemcheck.case.model import Bell, Box, MeshFile, Sphere
 from bemcheck.errors import GeometryError
+from bemcheck.geometry_scripts import _sizing
 from bemcheck.mesh import cache
 from bemcheck.mesh.checks import MeshNotice, check_surface
 from bemcheck.mesh.gmsh_session import session, triangles_by_group
@@ -20,6 +21,15 @@ from bemcheck.mesh.meshfile import read_mesh_file
 # target; a mesh with a longer edge is made again, finer, up to RETRIES times.
 GMSH_SIZE_FACTOR = 0.7
 RETRIES = 2
+# A mesh whose area or volume misses the solid's by more than
+# _sizing.CHECKED_WITHIN is made again with a smaller allowed deviation, up to
+# GEOMETRY_RETRIES times; the deviation is cut in proportion to the error
+# (both vary as the sagitta) with this margin.
+GEOMETRY_RETRIES = 4
+GEOMETRY_MARGIN = 0.95
+# Vertices where a face turns further than this from the vertex normal sit on
+# a crease (a bell's throat edge, a box's sharp edge) and are not moved.
+CREASE_DEG = 30.0
 
 
 @dataclass(frozen=True, eq=False)
@@ -51,44 +61,147 @@ def _script(name):
     return importlib.import_module(f"bemcheck.geometry_scripts.{name}")
 
 
-def _build_args(shape, size):
+def _shape_args(shape):
+    """The geometry script's name and its shape parameters (all but the size)."""
     if isinstance(shape, Bell):
         return "bell", (shape.mouth_radius, shape.throat_radius, shape.length, shape.flare,
-                        shape.rim_radius, shape.cap_depth, size)
+                        shape.rim_radius, shape.cap_depth)
     if isinstance(shape, Box):
         depth, width, height = shape.size
-        return "box", (depth, width, height, shape.edge_radius, size)
+        return "box", (depth, width, height, shape.edge_radius)
     if isinstance(shape, Sphere):
-        return "sphere", (shape.radius, size)
+        return "sphere", (shape.radius,)
     raise GeometryError(f"unknown body shape {type(shape).__name__}")
+
+
+@dataclass(frozen=True)
+class _Attempt:
+    """How one gmsh run went against its targets: longest edge [m], relative area and volume errors."""
+
+    longest: float
+    area_error: float
+    volume_error: float
+
+    @property
+    def geometry_error(self):
+        return max(abs(self.area_error), abs(self.volume_error))
+
+
+def _measure(vertices, triangles, exact):
+    p = vertices[triangles]
+    longest = float(np.linalg.norm(p[:, [1, 2, 0]] - p, axis=2).max())
+    area = 0.5 * float(np.linalg.norm(np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]), axis=1).sum())
+    # divergence theorem; outward gmsh triangles give a positive volume
+    volume = float(np.einsum("ij,ij->i", p[:, 0], np.cross(p[:, 1], p[:, 2])).sum()) / 6.0
+    return _Attempt(longest, area / exact[0] - 1.0, volume / exact[1] - 1.0)
+
+
+def straddle(vertices, triangles, parts):
+    """Move each vertex outward by the mean depth of its facets below a smooth surface.
+
+    Flat triangles with their corners on a curved surface lie inside it and
+    lose volume and area.  For a triangle of side s on a surface of principal
+    curvatures k1, k2 the linear interpolant lies (k1 + k2) s^2 / 16 below the
+    surface on average, while the mean of a vertex's six neighbours lies
+    (k1 + k2) s^2 / 4 below the vertex (second-order Taylor expansion of the
+    surface over an equilateral patch; derived here): moving every vertex out
+    by a quarter of the normal part of its umbrella vector (mean of the
+    neighbours minus the vertex) puts the facets across the surface, so the
+    mesh keeps the solid's volume to leading order.  Vertices on a crease
+    (CREASE_DEG) or on the border between two parts (a piston face and its
+    wall) stay where they are.
+
+    Parameters
+    ----------
+    vertices : (nv, 3) ndarray
+        On the surface [m].
+    triangles : (nt, 3) ndarray of int
+        Outward oriented.
+    parts : (nt,) ndarray of int
+        Part of each triangle.
+
+    Returns
+    -------
+    (nv, 3) ndarray
+        The moved vertices [m].
+
+    Examples
+    --------
+    >>> t = np.array([[0, 1, 2], [0, 2, 3], [0, 3, 4], [0, 4, 1]])
+    >>> v = np.array([[0, 0, 1], [1, 0, 0.8], [0, 1, 0.8], [-1, 0, 0.8], [0, -1, 0.8]])
+    >>> straddle(v, t, np.zeros(4, int))[0].round(3).tolist()   # the apex of a cap rises by 0.2 / 4
+    [0.0, 0.0, 1.05]
+    """
+    p = vertices[triangles]
+    face = np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0])
+    normal = np.zeros_like(vertices)
+    for k in range(3):
+        np.add.at(normal, triangles[:, k], face)
+    normal /= np.linalg.norm(normal, axis=1, keepdims=True)
+    edges = np.unique(np.sort(np.concatenate([triangles[:, [0, 1]], triangles[:, [1, 2]],
+                                              triangles[:, [2, 0]]]), axis=1), axis=0)
+    total, count = np.zeros_like(vertices), np.zeros(len(vertices))
+    for a, b in ((0, 1), (1, 0)):
+        np.add.at(total, edges[:, a], vertices[edges[:, b]])
+        np.add.at(count, edges[:, a], 1.0)
+    umbrella = total / count[:, None] - vertices
+    unit = face / np.linalg.norm(face, axis=1, keepdims=True)
+    turn = np.ones(len(vertices))
+    first_part = np.full(len(vertices), -1)
+    border = np.zeros(len(vertices), dtype=bool)
+    for k in range(3):
+        i = triangles[:, k]
+        np.minimum.at(turn, i, np.einsum("ij,ij->i", unit, normal[i]))
+        first_part[i] = parts
+    for k in range(3):
+        np.logical_or.at(border, triangles[:, k], first_part[triangles[:, k]] != parts)
+    fixed = border | (turn < np.cos(np.radians(CREASE_DEG)))
+    depth = -0.25 * np.einsum("ij,ij->i", umbrella, normal)
+    depth[fixed] = 0.0
+    return vertices + depth[:, None] * normal
 
 
 def _generate(body, element_size, refine=1.0):
     label = f"body '{body.name}' ({body.kind})"
-    factor = GMSH_SIZE_FACTOR
+    script_name, params = _shape_args(body.shape)
+    script = _script(script_name)
+    try:
+        exact = script.solid_measures(*params)
+    except ValueError as exc:
+        raise GeometryError(f"{label}: {exc}") from exc
+    factor, scale = GMSH_SIZE_FACTOR, 1.0
     target = element_size / refine
-    for attempt in range(RETRIES + 1):
-        vertices, triangles, group, names = _run_script(body, label, element_size * factor, refine)
-        p = vertices[triangles]
-        longest = float(np.linalg.norm(p[:, [1, 2, 0]] - p, axis=2).max())
-        if longest <= target:
+    for _ in range(RETRIES + GEOMETRY_RETRIES + 1):
+        vertices, triangles, group, names = _run_script(
+            script, params, body, element_size * factor, scale, refine)
+        vertices = straddle(vertices, triangles, group)
+        got = _measure(vertices, triangles, exact)
+        long_edge = got.longest > target
+        off_shape = got.geometry_error > _sizing.CHECKED_WITHIN
+        if not (long_edge or off_shape):
             break
-        factor *= 0.97 * target / longest
-    else:
-        warnings.warn(f"{label}: its longest edge is {longest:.3g} m, above the target "
-                      f"{element_size:.3g} m after {RETRIES} finer attempts", MeshNotice,
-                      stacklevel=3)
+        if long_edge:
+            factor *= 0.97 * target / got.longest
+        if off_shape:
+            scale *= GEOMETRY_MARGIN * _sizing.CHECKED_WITHIN / got.geometry_error
+    if got.longest > target:
+        warnings.warn(f"{label}: its longest edge is {got.longest:.3g} m, above the target "
+                      f"{target:.3g} m after {RETRIES} finer attempts", MeshNotice, stacklevel=3)
+    if got.geometry_error > _sizing.TOLERANCE:
+        warnings.warn(f"{label}: its mesh misses the solid's area by {100 * got.area_error:+.2f} % "
+                      f"and its volume by {100 * got.volume_error:+.2f} % after "
+                      f"{GEOMETRY_RETRIES} finer attempts (aimed within "
+                      f"{100 * _sizing.TOLERANCE:g} %)", MeshNotice, stacklevel=3)
     triangles = check_surface(vertices, triangles, label)
     part_names = tuple("" if n == "wall" else n for n in names)
     return vertices, triangles, group, part_names
 
 
-def _run_script(body, label, gmsh_size, refine=1.0):
-    script_name, args = _build_args(body.shape, gmsh_size)
-    script = _script(script_name)
+def _run_script(script, params, body, gmsh_size, scale, refine=1.0):
+    label = f"body '{body.name}' ({body.kind})"
     with session(body.name) as gmsh:
         try:
-            script.build(*args)
+            script.build(*params, gmsh_size, scale)
             # A uniform refinement scales every size the script set, the
             # geometric bounds included, so a self-check mesh is finer everywhere.
             gmsh.option.setNumber("Mesh.MeshSizeFactor", 1.0 / refine)
@@ -121,12 +234,15 @@ def mesh_key(body, element_size, base_dir=None, refine=1.0):
             raise GeometryError(f"body '{body.name}' (mesh file {path}): cannot read it "
                                 f"({exc.strerror})") from exc
         return cache.digest("file", body.shape, None, [blob])
-    script_name, _ = _build_args(body.shape, element_size)
-    source = inspect.getsource(_script(script_name)).encode()
-    extra = {"gmsh_size_factor": GMSH_SIZE_FACTOR, "retries": RETRIES}
+    script_name, _ = _shape_args(body.shape)
+    sources = [inspect.getsource(_script(script_name)).encode(), inspect.getsource(_sizing).encode()]
+    extra = {"gmsh_size_factor": GMSH_SIZE_FACTOR, "retries": RETRIES,
+             "sizing_rule": _sizing.SIZING_RULE, "geometry_retries": GEOMETRY_RETRIES,
+             "geometry_margin": GEOMETRY_MARGIN,
+             "crease_deg": CREASE_DEG}
     if refine != 1.0:
         extra["refine"] = float(refine)
-    return cache.digest(body.kind, body.shape, element_size, [source], extra)
+    return cache.digest(body.kind, body.shape, element_size, sources, extra)
 
 
 def mesh_body(body, element_size, cache_dir=None, base_dir=None, refine=1.0):

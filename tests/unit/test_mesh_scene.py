@@ -17,6 +17,7 @@ import pytest
 from bemcheck.case.model import (Body, Box, Case, MeshFile, Observers, ObserverPoint, Source,
                                  Sphere, Bell)
 from bemcheck.errors import EnvironmentProblem, GeometryError
+from bemcheck.geometry_scripts import _sizing
 from bemcheck.mesh import bodies, format_band_table, mesh_scene, write_band_meshes
 from bemcheck.mesh.gmsh_session import import_gmsh, session
 
@@ -44,7 +45,10 @@ def test_groups_tags_and_placement(tmp_path):
     assert np.allclose(driver[:, 0], 1.05)
     assert np.ptp(driver[:, 1]) == pytest.approx(0.3) and np.ptp(driver[:, 2]) == pytest.approx(0.2)
     head = mesh.vertices[np.unique(mesh.triangles[mesh.domains == 5])]
-    assert np.linalg.norm(head - [0, 1, 0], axis=1) == pytest.approx(0.05, rel=1e-6)
+    # corners on the sphere or just outside it (bodies.straddle moves them out by the
+    # mean depth of their facets, within twice the deviation the sizing allows)
+    r = np.linalg.norm(head - [0, 1, 0], axis=1)
+    assert r.min() >= 0.05 * (1 - 1e-9) and r.max() <= 0.05 * (1 + 2 * _sizing.PER_BODY)
     for name, volume in (("cab1", 0.1 * 0.2 * 0.3), ("head", 4 / 3 * math.pi * 0.05**3)):
         mask = np.isin(mesh.domains, mesh.tags_of_body(name))
         assert mesh.enclosed_volume(mask) == pytest.approx(volume, rel=0.01)

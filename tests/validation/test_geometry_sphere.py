@@ -1,9 +1,10 @@
 """Sphere meshes against the exact area 4 pi a^2 and volume 4/3 pi a^3.
 
-The triangles are inscribed, so their distance to the sphere is the
-sagitta of a chord, O(h^2) (the linear-interpolation error bound
-|f - I f| <= h^2 max|f''| / 8: de Boor, *A Practical Guide to Splines*, rev. ed.
-2001, ch. II, eq. (18)); area and volume errors must fall at second order.
+The triangles' distance to the sphere is of the order of the sagitta of a
+chord, O(h^2) (the linear-interpolation error bound |f - I f| <= h^2
+max|f''| / 8: de Boor, *A Practical Guide to Splines*, rev. ed. 2001, ch. II,
+eq. (18)), whether the corners lie on the sphere or a little outside it
+(``bodies.straddle``); area and volume errors must fall at second order.
 """
 
 import math
@@ -12,6 +13,7 @@ import numpy as np
 import pytest
 
 from bemcheck.case.model import Body, Sphere
+from bemcheck.geometry_scripts import _sizing
 from bemcheck.mesh.bodies import mesh_body
 from bemcheck.mesh.checks import check_surface
 
@@ -47,4 +49,8 @@ def test_coarsest_band_keeps_the_volume(tmp_path):
     check_surface(mesh.vertices, mesh.triangles, "sphere")
     _, volume, _ = _measure(mesh)
     assert volume == pytest.approx(4 / 3 * math.pi * A**3, rel=0.01)
-    assert np.linalg.norm(mesh.vertices, axis=1) == pytest.approx(A, rel=1e-6)
+    # corners on the sphere or outside it by no more than twice the deviation the rule
+    # allows: gmsh's edges run up to ~1.4 times the size asked for, and a sagitta goes as h^2
+    off = np.linalg.norm(mesh.vertices, axis=1) - A
+    assert off.min() >= -1e-9 * A
+    assert off.max() <= 2 * float(_sizing.allowed_deviation(343.0 / 100.0 / 6.0, 1 / A, A, A))
