@@ -40,16 +40,17 @@ refines only where that sagitta would exceed the allowed deviation
 their facets (``straddle``), which removes the leading volume loss, measures
 the mesh's area and volume against the solid's (each script's
 ``solid_measures``), and lowers ``scale`` (1 for the first mesh) until both
-are within CHECKED_WITHIN.  Where the wavelength bound decides, a 1.5x
-coarser size gives a coarser mesh; where the geometric bounds decide (low
-bands), it gives the same mesh, held to the same tolerance.
+are within CHECKED_WITHIN.  A mesh refined uniformly by a factor ``refine``
+(gmsh's ``Mesh.MeshSizeFactor``; the error check's mesh is 1/1.5) is held
+to CHECKED_WITHIN / refine², the geometry error P1 facets make at that
+size, so it is coarser (or finer) in its geometry too.
 
 Change any figure here and raise SIZING_RULE: it enters every mesh's cache key.
 """
 
 import numpy as np
 
-SIZING_RULE = 2
+SIZING_RULE = 3
 PER_SIZE = 1.0 / 50.0
 PER_RADIUS = 0.05
 PER_BODY = 0.02

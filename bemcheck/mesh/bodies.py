@@ -171,27 +171,32 @@ def _generate(body, element_size, refine=1.0):
         raise GeometryError(f"{label}: {exc}") from exc
     factor, scale = GMSH_SIZE_FACTOR, 1.0
     target = element_size / refine
+    # A uniformly refined (or coarsened) mesh keeps the band mesh's geometry
+    # error scaled as its sizes squared (P1 facets err as h²κ): an error-check
+    # mesh 1.5× coarser must be that much coarser in its geometry too, or the
+    # two meshes would agree where the geometry sets the sizes.
+    within = _sizing.CHECKED_WITHIN / refine**2
     for _ in range(RETRIES + GEOMETRY_RETRIES + 1):
         vertices, triangles, group, names = _run_script(
             script, params, body, element_size * factor, scale, refine)
         vertices = straddle(vertices, triangles, group)
         got = _measure(vertices, triangles, exact)
         long_edge = got.longest > target
-        off_shape = got.geometry_error > _sizing.CHECKED_WITHIN
+        off_shape = got.geometry_error > within
         if not (long_edge or off_shape):
             break
         if long_edge:
             factor *= 0.97 * target / got.longest
         if off_shape:
-            scale *= GEOMETRY_MARGIN * _sizing.CHECKED_WITHIN / got.geometry_error
+            scale *= GEOMETRY_MARGIN * within / got.geometry_error
     if got.longest > target:
         warnings.warn(f"{label}: its longest edge is {got.longest:.3g} m, above the target "
                       f"{target:.3g} m after {RETRIES} finer attempts", MeshNotice, stacklevel=3)
-    if got.geometry_error > _sizing.TOLERANCE:
+    if got.geometry_error > _sizing.TOLERANCE / refine**2:
         warnings.warn(f"{label}: its mesh misses the solid's area by {100 * got.area_error:+.2f} % "
                       f"and its volume by {100 * got.volume_error:+.2f} % after "
                       f"{GEOMETRY_RETRIES} finer attempts (aimed within "
-                      f"{100 * _sizing.TOLERANCE:g} %)", MeshNotice, stacklevel=3)
+                      f"{100 * _sizing.TOLERANCE / refine**2:g} %)", MeshNotice, stacklevel=3)
     triangles = check_surface(vertices, triangles, label)
     part_names = tuple("" if n == "wall" else n for n in names)
     return vertices, triangles, group, part_names
