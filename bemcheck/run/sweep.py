@@ -189,10 +189,11 @@ def execute(tasks, solve, store, *, workers=1, scheduler=None, progress=None):
     int
         Number of tasks computed (not found in the store).
     """
-    todo = [t for t in tasks if not store.has(t.key)]
+    good = store.verified(tasks)  # a damaged or foreign part is reported and computed again
+    todo = [t for t in tasks if t.key not in good]
     if progress is not None:
         for t in tasks:
-            if store.has(t.key):
+            if t.key in good:
                 progress.update(t, "(stored)")
                 if log.isEnabledFor(logging.INFO):
                     log.info("%s", describe_task(t, store.meta(t.key), store.path(t.key), stored=True))
