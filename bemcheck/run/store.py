@@ -30,6 +30,8 @@ LOCK = ".bemcheck.lock"
 # A lock file still empty this long after it was made was left by a process
 # killed between creating and writing it (common practice, no source).
 LOCK_GRACE_S = 10.0
+# The largest process id a lock may name (2^31 - 1, the largest 32-bit pid_t).
+PID_MAX = 2**31 - 1
 # Every .npz is a zip archive: its first local file header starts so (PKWARE APPNOTE.TXT, sec. 4.3.7).
 _ZIP_MAGIC = b"PK\x03\x04"
 
@@ -253,18 +255,22 @@ class LockOwner:
         Lock files of earlier versions hold a bare process id.
         """
         text = text.strip()
-        if text.isdigit():
-            return cls(int(text))
         try:
-            d = json.loads(text)
-            return cls(int(d["pid"]), str(d.get("host") or ""), d.get("started"), d.get("boot"),
-                       str(d.get("command") or "run"), float(d.get("since") or 0.0))
-        except (ValueError, TypeError, KeyError, AttributeError):
+            if text.isdigit():
+                owner = cls(int(text))
+            else:
+                d = json.loads(text)
+                owner = cls(int(d["pid"]), str(d.get("host") or ""), d.get("started"), d.get("boot"),
+                            str(d.get("command") or "run"), float(d.get("since") or 0.0))
+        except (ValueError, TypeError, KeyError, AttributeError, OverflowError):
             return None
+        # a process id is a positive pid_t (POSIX.1-2017 <sys/types.h>: a signed integer, 32 bits on every
+        # system bemcheck runs on): anything else was not written by a run
+        return owner if 0 < owner.pid <= PID_MAX else None
 
     def alive(self):
         """Whether the owner may still be running (True whenever that cannot be ruled out)."""
-        if self.pid <= 0:
+        if not 0 < self.pid <= PID_MAX:
             return False
         if self.host and self.host != socket.gethostname():
             return True  # another machine's processes cannot be seen from here
@@ -325,6 +331,10 @@ class RunLock:
             try:
                 fd = os.open(self.path, os.O_CREAT | os.O_EXCL | os.O_WRONLY)
             except FileExistsError:
+                if self.path.is_dir() and not self.path.is_symlink():
+                    raise BemcheckInputError(
+                        f"{self.path}: a folder where bemcheck keeps its lock file; expected a file or nothing "
+                        "there: remove the folder (bemcheck never makes one) and run again") from None
                 seen = _read_whole(self.path)
                 if seen is None:
                     continue  # released between our two looks
