@@ -6,6 +6,7 @@ from pathlib import Path
 import numpy as np
 
 from bemcheck.build.drivers import Driver, check_driver
+from bemcheck.case import limits
 from bemcheck.case.model import (
     Bell,
     Body,
@@ -25,8 +26,7 @@ from bemcheck.case.model import (
     Sphere,
     Tolerance,
 )
-from bemcheck.case import limits
-from bemcheck.case.limits import COORDINATE, DIRECTION, FREQUENCY, SIZE
+from bemcheck.case.limits import COINCIDENT, COORDINATE, DIRECTION, FREQUENCY, SIZE
 from bemcheck.case.reader import TableReader
 from bemcheck.errors import CaseError
 from bemcheck.frames import place
@@ -41,8 +41,6 @@ OBJECTIVES = ("power", "sector", "delay")
 STANDOFF = 0.02
 # The face that moves as a piston, by body kind (the physical group "<body>.<face>").
 PISTON_FACES = {"bell": "mouth", "box": "driver"}
-# Sources closer than this are one source to any model [m].
-COINCIDENT = 1e-6
 
 
 def load_case(path):

@@ -505,3 +505,27 @@ def test_file_size_limit_while_writing_band_meshes(tmp_path):
     done = subprocess.run(argv, capture_output=True, text=True, timeout=300)
     assert done.returncode == 0, done.stderr
     assert sorted(p.name for p in out.iterdir()) == ["band00_100-200Hz.msh", "band00_100-200Hz.vtu"]
+
+
+@pytest.mark.parametrize("damage", ["garbage", "cut short", "empty"])
+def test_report_of_a_damaged_results_file(damage, tmp_path, capsys):
+    """`bemcheck report` on a folder whose results.nc is not whole: exit 2 naming the
+    file, no traceback, no report written.  A NetCDF-4 file is an HDF5 file, which
+    starts with an 8-byte signature and records its end-of-file address in its
+    superblock (HDF5 File Format Specification 3.0, sec. II.A), so garbage and a
+    cut-short copy are both recognised on opening."""
+    case = tmp_path / "case.toml"
+    case.write_text(FREE_CASE)
+    out = tmp_path / "out"
+    assert main(["run", str(case), "--out", str(out), "--model", "free", "--no-report"]) == 0
+    results_file = out / results.RESULTS_FILE
+    whole = results_file.read_bytes()
+    results_file.write_bytes({"garbage": b"\x89not NetCDF\x00" * 500, "cut short": whole[: len(whole) // 2],
+                              "empty": b""}[damage])
+    capsys.readouterr()
+    code = main(["report", str(out)])
+    err = capsys.readouterr().err
+    assert code == 2, err
+    assert "Traceback" not in err
+    assert f"bemcheck: error: {results_file}: cannot be read as a results file" in err, err
+    assert not (out / "report.html").exists()
