@@ -52,6 +52,8 @@ SIZE = Range(1.0e-5, 1.0e3, "m", "a length")
 # Bessel-horn flare exponents of brass bells lie near 0.5 to 1 (Fletcher & Rossing
 # 1998, The Physics of Musical Instruments, sec. 8.4; from memory); wide either side.
 FLARE = Range(1.0e-2, 20.0, "", "a flare exponent")
+# How far a built control may stray from its design: beyond metres it is another layout.
+PLACEMENT = Range(0.0, 10.0, "m", "a placement tolerance")
 SCALE = Range(1.0e-6, 1.0e3, "m per file unit", "a scale")
 # An axis is a direction: its length does not matter, but one that squares to
 # zero or to infinity cannot be normalised.

@@ -264,7 +264,7 @@ def _source(r, bodies):
     if role == "primary" and strength is None and spectrum is None:
         r.fail("strength", "a volume-velocity amplitude in m^3/s (or a [source.spectrum] table)")
     driver = r.string("driver", None)
-    tolerance = r.number("position_tolerance", 0.0, non_negative=True)
+    tolerance = r.number("position_tolerance", 0.0, within=limits.PLACEMENT)
     r.done()
     return Source(
         name=name,
