@@ -59,6 +59,11 @@ SCALE = Range(1.0e-6, 1.0e3, "m per file unit", "a scale")
 # zero or to infinity cannot be normalised.
 DIRECTION = Range(1.0e-9, 1.0e9, "", "a direction [x, y, z] with its largest component (in magnitude)")
 
+# Low-order BEM wants 6 to 10 elements per wavelength (Marburg 2002, J. Comput.
+# Acoust. 10(1) 25-51; from memory); beyond 100 the cost (growing as its fourth
+# power) buys nothing the geometric size bounds do not already give.
+MAX_ELEMENTS_PER_WAVELENGTH = 100.0
+
 # Counts.  A BEM frequency costs seconds to minutes: 10,000 is days of solves.
 MAX_FREQUENCIES = 10_000
 # 0.01° between directions, far finer than any pattern a body of ka < 100 has.

@@ -189,7 +189,8 @@ def _mesh(r):
     if r is None:
         return MeshSettings()
     m = MeshSettings(
-        elements_per_wavelength=r.number("elements_per_wavelength", MeshSettings.elements_per_wavelength, low=4.0),
+        elements_per_wavelength=r.number("elements_per_wavelength", MeshSettings.elements_per_wavelength, low=4.0,
+                                         high=limits.MAX_ELEMENTS_PER_WAVELENGTH),
         band_octaves=r.number("band_octaves", MeshSettings.band_octaves, positive=True),
     )
     r.done()

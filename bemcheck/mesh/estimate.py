@@ -60,7 +60,8 @@ def triangles_lower_bound(area, element_size):
     >>> triangles_lower_bound(4.0 * math.pi, 0.1)   # a unit sphere at 10 cm
     2844
     """
-    return int(AREA_ALLOWANCE * area / (math.sqrt(3.0) / 4.0 * element_size**2))
+    count = AREA_ALLOWANCE * area / max(math.sqrt(3.0) / 4.0 * element_size**2, 1e-300)
+    return int(min(count, 1e18))  # an absurd size stays a (refused) number, not an overflow
 
 
 def check_mesh_size(case, element_size, refine=1.0, available=None):
