@@ -73,7 +73,8 @@ def check_mesh_size(case, element_size, refine=1.0, available=None):
     element_size : float
         Largest element edge asked of the mesh [m].
     refine : float
-        Uniform refinement (the self-check mesh): edges ``element_size / refine``.
+        Uniform refinement as :func:`~bemcheck.mesh.scene.mesh_scene` takes it:
+        edges up to ``element_size / refine`` (below 1: a coarser mesh).
     available : int, optional
         Bytes of memory free; default the machine's (Linux MemAvailable).
 
@@ -103,7 +104,7 @@ def check_mesh_size(case, element_size, refine=1.0, available=None):
     n, i, body = max(counts, key=lambda c: c[0])
     gib = 1024.0**3
     room = f"{available / gib:.1f} GiB is available" if available is not None else "the memory available is unknown"
-    finer = f", {refine:g}x finer for the self-check" if refine != 1.0 else ""
+    finer = f", refined {refine:.3g}x" if refine != 1.0 else ""
     raise GeometryError(
         f"{case.path}: body[{i}] '{body.name}': at element size {1e3 * h:.3g} mm (set by the top frequency and "
         f"mesh.elements_per_wavelength = {case.mesh.elements_per_wavelength:g}{finer}) its surface of "

@@ -130,12 +130,13 @@ class PartStore:
             return str(exc)
         return None
 
-    def verified(self, tasks):
+    def verified(self, tasks, label=None):
         """Keys of ``tasks`` whose stored parts pass their checks.
 
         Every part present but damaged, foreign or unreadable is reported in
-        one line (a :class:`DamagedPart` warning: file, frequency, why) and
-        left out, so the task is computed again and its part replaced.
+        one line (a :class:`DamagedPart` warning: file, what task, frequency,
+        why) and left out, so the task is computed again and its part
+        replaced.  ``label(task)`` names a task's kind in that line.
         """
         good = set()
         for task in tasks:
@@ -145,8 +146,7 @@ class PartStore:
             if why is None and self.path(task.key).is_file():
                 good.add(task.key)
                 continue
-            what = "self-check solve" if getattr(task, "refine", False) else (
-                "harmonic solve" if getattr(task, "harmonic", False) else "solve")
+            what = label(task) if label is not None else "task"
             warnings.warn(f"{self.path(task.key)}: stored {what} at {task.frequency:g} Hz is "
                           f"{why or 'unreadable'}; not used, computed again", DamagedPart, stacklevel=2)
         return good

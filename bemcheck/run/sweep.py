@@ -198,7 +198,7 @@ def execute(tasks, solve, store, *, workers=1, scheduler=None, progress=None):
     int
         Number of tasks computed (not found in the store).
     """
-    good = store.verified(tasks)  # a damaged or foreign part is reported and computed again
+    good = store.verified(tasks, task_label)  # a damaged or foreign part is reported and computed again
     todo = [t for t in tasks if t.key not in good]
     if progress is not None:
         for t in tasks:
