@@ -94,6 +94,9 @@ def _subset(case, spec, file):
     from bemcheck.errors import CaseError
 
     f = case.frequencies
+    if not spec.strip():
+        raise CaseError(f"--frequencies: expected '200,400' or '200:800' in Hz, got an empty value "
+                        "(leave the option out to run every frequency)")
     try:
         if ":" in spec:
             lo, hi = (float(v) for v in spec.split(":"))
@@ -116,7 +119,7 @@ def _cmd_run(args, out):
     from bemcheck.run.runner import run_case
 
     case = load_case(args.case)
-    subset = _subset(case, args.frequencies, args.case) if args.frequencies else None
+    subset = _subset(case, args.frequencies, args.case) if args.frequencies is not None else None
     if args.workers < 1:
         raise BemcheckInputError(f"--workers: expected a whole number ≥ 1, got {args.workers}")
     options = {}

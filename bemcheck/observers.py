@@ -6,6 +6,7 @@ toward +z); elevation θ from that plane toward the third axis (first × second)
 """
 
 from dataclasses import dataclass
+from functools import cache
 
 import numpy as np
 from scipy.integrate import lebedev_rule
@@ -83,6 +84,25 @@ def sphere(degree=POWER_DEGREE, plane="xy"):
     az = np.degrees(np.arctan2(unit @ b, unit @ a)) % 360.0
     el = np.degrees(np.arcsin(np.clip(unit @ n, -1.0, 1.0)))
     return Directions(unit, az, el, w)
+
+
+@cache
+def lebedev_degrees():
+    """The Lebedev degrees scipy provides (scipy.integrate.lebedev_rule), ascending.
+
+    Examples
+    --------
+    >>> lebedev_degrees()[:4], 4 in lebedev_degrees(), lebedev_degrees()[-1]
+    ((3, 5, 7, 9), False, 131)
+    """
+    available = []
+    for degree in range(1, 132):
+        try:
+            lebedev_rule(degree)
+        except (ValueError, NotImplementedError):  # scipy answers an unknown degree with either
+            continue
+        available.append(degree)
+    return tuple(available)
 
 
 def for_observers(far_field):

@@ -1,12 +1,12 @@
 """Read a case file (TOML) into a validated :class:`~bemcheck.case.model.Case`."""
 
-import math
 import tomllib
 from pathlib import Path
 
 import numpy as np
 
 from bemcheck.build.drivers import Driver, check_driver
+from bemcheck.case import limits
 from bemcheck.case.model import (
     Bell,
     Body,
@@ -26,10 +26,11 @@ from bemcheck.case.model import (
     Sphere,
     Tolerance,
 )
+from bemcheck.case.limits import COINCIDENT, COORDINATE, DIRECTION, FREQUENCY, SIZE
 from bemcheck.case.reader import TableReader
 from bemcheck.errors import CaseError
 from bemcheck.frames import place
-from bemcheck.observers import PLANES
+from bemcheck.observers import PLANES, lebedev_degrees
 
 BODY_KINDS = ("bell", "box", "sphere", "file")
 ROLES = ("primary", "control")
@@ -40,8 +41,6 @@ OBJECTIVES = ("power", "sector", "delay")
 STANDOFF = 0.02
 # The face that moves as a piston, by body kind (the physical group "<body>.<face>").
 PISTON_FACES = {"bell": "mouth", "box": "driver"}
-# Sources closer than this are one source to any model [m].
-COINCIDENT = 1e-6
 
 
 def load_case(path):
@@ -129,7 +128,7 @@ def parse_case(text, path=Path("<case>")):
     _unique([n.name for n in played], "note", file)
     build = _build(top.sub("build", None))
     top.done()
-    return Case(
+    case = Case(
         title=title,
         notes=notes,
         frequencies=frequencies,
@@ -146,14 +145,16 @@ def parse_case(text, path=Path("<case>")):
         path=Path(path),
         text=text,
     )
+    limits.check_case(case)
+    return case
 
 
 def _medium(r):
     if r is None:
         return Medium()
     m = Medium(
-        speed_of_sound=r.number("speed_of_sound", Medium.speed_of_sound, positive=True),
-        density=r.number("density", Medium.density, positive=True),
+        speed_of_sound=r.number("speed_of_sound", Medium.speed_of_sound, positive=True, within=limits.SPEED_OF_SOUND),
+        density=r.number("density", Medium.density, positive=True, within=limits.DENSITY),
     )
     r.done()
     return m
@@ -161,29 +162,35 @@ def _medium(r):
 
 def _frequencies(r):
     if r.has("list"):
-        values = r.numbers("list", positive=True)
+        values = r.numbers("list", positive=True, within=FREQUENCY)
         for other in ("start", "stop", "per_octave"):
             if r.has(other):
                 r.fail(other, "either `list` or `start`/`stop`/`per_octave`, not both")
         r.done()
         if len(set(values)) != len(values):
             r.fail("list", "distinct frequencies", list(values))
+        if len(values) > limits.MAX_FREQUENCIES:
+            r.fail("list", f"at most {limits.MAX_FREQUENCIES:,} frequencies, got {len(values):,}")
         return tuple(sorted(values))
-    start = r.number("start", positive=True)
-    stop = r.number("stop", positive=True)
+    start = r.number("start", positive=True, within=FREQUENCY)
+    stop = r.number("stop", positive=True, within=FREQUENCY)
     per_octave = r.number("per_octave", 3.0, positive=True)
     r.done()
     if stop < start:
         r.fail("stop", f"a frequency ≥ start ({start:g} Hz)", stop)
-    n = int(math.floor(per_octave * math.log2(stop / start) + 1e-9))
-    return tuple(float(start * 2.0 ** (i / per_octave)) for i in range(n + 1))
+    n = limits.frequency_count(start, stop, per_octave)
+    if n > limits.MAX_FREQUENCIES:  # before the series is built: a billion floats do not fit
+        r.fail("per_octave", f"at most {limits.MAX_FREQUENCIES:,} frequencies; {start:g} to {stop:g} Hz "
+               f"at {per_octave:g} per octave gives {n:,}", per_octave)
+    return tuple(float(start * 2.0 ** (i / per_octave)) for i in range(n))
 
 
 def _mesh(r):
     if r is None:
         return MeshSettings()
     m = MeshSettings(
-        elements_per_wavelength=r.number("elements_per_wavelength", MeshSettings.elements_per_wavelength, low=4.0),
+        elements_per_wavelength=r.number("elements_per_wavelength", MeshSettings.elements_per_wavelength, low=4.0,
+                                         high=limits.MAX_ELEMENTS_PER_WAVELENGTH),
         band_octaves=r.number("band_octaves", MeshSettings.band_octaves, positive=True),
     )
     r.done()
@@ -192,16 +199,18 @@ def _mesh(r):
 
 def _body(r, case_path):
     name = r.string("name")
+    if "." in name:  # mesh groups are named "<body>.<face>": "ball.x" would read as a face of "ball"
+        r.fail("name", "a name without '.' (mesh groups are named <body>.<face>, e.g. 'bell.mouth')", name)
     kind = r.string("kind", choices=BODY_KINDS)
-    at = r.vector("at", (0.0, 0.0, 0.0))
-    axis = r.vector("axis", (0.0, 0.0, 1.0), nonzero=True)
+    at = r.vector("at", (0.0, 0.0, 0.0), within=COORDINATE)
+    axis = r.vector("axis", (0.0, 0.0, 1.0), nonzero=True, within=DIRECTION)
     if kind == "bell":
         shape = Bell(
-            mouth_radius=r.number("mouth_radius", positive=True),
-            throat_radius=r.number("throat_radius", positive=True),
-            length=r.number("length", positive=True),
-            flare=r.number("flare", positive=True),
-            rim_radius=r.number("rim_radius", positive=True),
+            mouth_radius=r.number("mouth_radius", positive=True, within=SIZE),
+            throat_radius=r.number("throat_radius", positive=True, within=SIZE),
+            length=r.number("length", positive=True, within=SIZE),
+            flare=r.number("flare", positive=True, within=limits.FLARE),
+            rim_radius=r.number("rim_radius", positive=True, within=SIZE),
             cap_depth=r.number("cap_depth", 0.0, non_negative=True),
         )
         if shape.throat_radius >= shape.mouth_radius:
@@ -211,17 +220,17 @@ def _body(r, case_path):
         if shape.cap_depth >= shape.length:
             r.fail("cap_depth", f"less than length ({shape.length:g} m)", shape.cap_depth)
     elif kind == "box":
-        size = r.numbers("size", length=3, positive=True)
+        size = r.numbers("size", length=3, positive=True, within=SIZE)
         shape = Box(size=size, edge_radius=r.number("edge_radius", 0.0, non_negative=True))
         if 2.0 * shape.edge_radius >= min(size):
             r.fail("edge_radius", f"less than half the smallest side ({min(size) / 2:g} m)", shape.edge_radius)
     elif kind == "sphere":
-        shape = Sphere(radius=r.number("radius", positive=True))
+        shape = Sphere(radius=r.number("radius", positive=True, within=SIZE))
     else:
         file = Path(r.string("path"))
         if not file.is_absolute():
             file = Path(case_path).parent / file
-        shape = MeshFile(path=file, scale=r.number("scale", 1.0, positive=True))
+        shape = MeshFile(path=file, scale=r.number("scale", 1.0, positive=True, within=limits.SCALE))
     r.done()
     return Body(name=name, kind=kind, shape=shape, at=at, axis=axis)
 
@@ -233,11 +242,14 @@ def _source(r, bodies):
     radiator = r.string("radiator", "point", choices=("point", "piston"))
     if on is not None and on not in bodies:
         r.fail("on", "the name of a body (" + ", ".join(bodies) + ")" if bodies else "a body, but the case has none", on)
-    at = r.vector("at", None)
+    at = r.vector("at", None, within=COORDINATE)
     if at is None and on is None:
         r.fail("at", "a position [x, y, z] in m (or `on` naming a body)")
     if radiator == "piston" and (on is None or bodies[on].kind not in PISTON_FACES):
         r.fail("on", "the name of a bell or a box (a piston is a bell's mouth cap or a box's driver face)", on)
+    if radiator == "piston" and at is not None:
+        r.fail("at", f"no position for a piston (it is the face of body '{on}', and the free-field model puts "
+               "its monopole at the face's centre)", list(at))
     if at is None and bodies[on].kind == "file":
         r.fail("at", "a position [x, y, z] in m (a file body has no known face to put a source `on`)")
     position = at if at is not None else _position_on(bodies[on], radiator)
@@ -249,11 +261,11 @@ def _source(r, bodies):
     if spectrum_r is not None:
         spectrum = _spectrum(spectrum_r, name)
     if strength is not None:
-        strength = r.check_number("strength", strength, positive=True)
+        strength = r.check_number("strength", strength, positive=True, within=limits.STRENGTH)
     if role == "primary" and strength is None and spectrum is None:
         r.fail("strength", "a volume-velocity amplitude in m^3/s (or a [source.spectrum] table)")
     driver = r.string("driver", None)
-    tolerance = r.number("position_tolerance", 0.0, non_negative=True)
+    tolerance = r.number("position_tolerance", 0.0, within=limits.PLACEMENT)
     r.done()
     return Source(
         name=name,
@@ -308,12 +320,16 @@ def _observers(r):
                 ff.fail("step_deg", "no step with sphere = true (the Lebedev degree sets the directions)")
         else:
             far = FarField(plane=plane, step_deg=ff.number("step_deg", 5.0, positive=True, high=90.0))
+            if round(360.0 / far.step_deg) > limits.MAX_DIRECTIONS:
+                ff.fail("step_deg", f"at most {limits.MAX_DIRECTIONS:,} directions (a step ≥ "
+                        f"{360.0 / limits.MAX_DIRECTIONS:g}°); this step gives {round(360.0 / far.step_deg):,}",
+                        far.step_deg)
         ff.done()
         if far.sphere:
             _check_lebedev(ff, far.degree)
     points = []
     for p in r.subs("points"):
-        points.append(ObserverPoint(p.string("name"), p.vector("at")))
+        points.append(ObserverPoint(p.string("name"), p.vector("at", within=COORDINATE)))
         p.done()
     _unique([p.name for p in points], "observers.points", r.file)
     r.done()
@@ -321,12 +337,9 @@ def _observers(r):
 
 
 def _check_lebedev(reader, degree):
-    from scipy.integrate import lebedev_rule
-
-    try:
-        lebedev_rule(degree)
-    except ValueError:
-        reader.fail("degree", "a Lebedev degree that scipy provides (3, 5, 7, ..., 131, e.g. 17 or 41)", degree)
+    available = lebedev_degrees()
+    if degree not in available:
+        reader.fail("degree", "a Lebedev degree available: " + ", ".join(map(str, available)), degree)
 
 
 def _sector(r, default_name=None):
@@ -348,7 +361,7 @@ def _control(r, sources, file):
     sector = _sector(sector_r, "target") if sector_r is not None else None
     if objective == "sector" and sector is None:
         r.fail("sector", "a table { from_deg, to_deg } for objective = \"sector\"")
-    delay = r.number("delay_distance", None, positive=True)
+    delay = r.number("delay_distance", None, positive=True, within=limits.DISTANCE)
     if objective == "delay" and delay is None:
         r.fail("delay_distance", "a distance in m for objective = \"delay\"")
     effort = r.number("effort", 0.0, non_negative=True)
@@ -381,7 +394,7 @@ def _unique(names, what, file):
 
 
 def _spectrum(r, name):
-    fundamental = r.number("fundamental", positive=True)
+    fundamental = r.number("fundamental", positive=True, within=FREQUENCY)
     levels = r.numbers("spl_at_1m", min_length=1)
     for i, level in enumerate(levels):
         if not -20.0 <= level <= 200.0:
@@ -419,7 +432,7 @@ def _build(r):
     b = BuildChecks(
         ear_limit_dba=r.number("ear_limit_dba", BuildChecks.ear_limit_dba, positive=True),
         max_loss_db=r.number("max_loss_db", BuildChecks.max_loss_db, positive=True),
-        trials=r.integer("trials", BuildChecks.trials, low=10),
+        trials=r.integer("trials", BuildChecks.trials, low=10, high=limits.MAX_TRIALS),
     )
     r.done()
     return b

@@ -62,13 +62,18 @@ class TableReader:
             self.fail(name, "one of " + ", ".join(repr(c) for c in choices), value)
         return value
 
-    def number(self, name, default=REQUIRED, positive=False, non_negative=False, low=None, high=None):
+    def number(self, name, default=REQUIRED, positive=False, non_negative=False, low=None, high=None, within=None):
         value = self.raw(name, default)
         if value is default and default is not REQUIRED:
             return value
-        return self.check_number(name, value, positive, non_negative, low, high)
+        return self.check_number(name, value, positive, non_negative, low, high, within)
 
-    def check_number(self, name, value, positive=False, non_negative=False, low=None, high=None):
+    def check_number(self, name, value, positive=False, non_negative=False, low=None, high=None, within=None):
+        """``value`` as a float, refused unless finite and within the bounds given.
+
+        ``within`` is a :class:`~bemcheck.case.limits.Range`: a physical range
+        stated with its unit, named in the message.
+        """
         if isinstance(value, bool) or not isinstance(value, int | float):
             self.fail(name, "a number", value)
         value = float(value)
@@ -82,9 +87,11 @@ class TableReader:
             self.fail(name, f"a number ≥ {low:g}", value)
         if high is not None and value > high:
             self.fail(name, f"a number ≤ {high:g}", value)
+        if within is not None and not within.low <= value <= within.high:
+            self.fail(name, within.expected(), value)
         return value
 
-    def integer(self, name, default=REQUIRED, low=None):
+    def integer(self, name, default=REQUIRED, low=None, high=None):
         value = self.raw(name, default)
         if value is default and default is not REQUIRED:
             return value
@@ -92,6 +99,8 @@ class TableReader:
             self.fail(name, "a whole number", value)
         if low is not None and value < low:
             self.fail(name, f"a whole number ≥ {low}", value)
+        if high is not None and value > high:
+            self.fail(name, f"a whole number ≤ {high:,}", value)
         return value
 
     def boolean(self, name, default=REQUIRED):
@@ -100,7 +109,7 @@ class TableReader:
             self.fail(name, "true or false", value)
         return value
 
-    def numbers(self, name, default=REQUIRED, length=None, positive=False, min_length=1):
+    def numbers(self, name, default=REQUIRED, length=None, positive=False, min_length=1, within=None):
         value = self.raw(name, default)
         if value is default and default is not REQUIRED:
             return value
@@ -111,13 +120,18 @@ class TableReader:
             self.fail(name, what, value)
         out = []
         for i, v in enumerate(value):
-            out.append(self.check_number(f"{name}[{i}]", v, positive=positive))
+            out.append(self.check_number(f"{name}[{i}]", v, positive=positive, within=within))
         return tuple(out)
 
-    def vector(self, name, default=REQUIRED, nonzero=False):
-        value = self.numbers(name, default, length=3)
+    def vector(self, name, default=REQUIRED, nonzero=False, within=None):
+        """[x, y, z]; each component within ``within`` (a position), or, for a direction
+        (``nonzero``), a largest component within it."""
+        value = self.numbers(name, default, length=3, within=None if nonzero else within)
         if nonzero and value is not default and not any(value):
             self.fail(name, "a non-zero direction [x, y, z]", list(value))
+        if nonzero and within is not None and value is not default:
+            if not within.low <= max(abs(v) for v in value) <= within.high:
+                self.fail(name, within.expected(), list(value))
         return value
 
     def sub(self, name, default=REQUIRED):

@@ -1,6 +1,7 @@
 """On-disk cache of body meshes, keyed by what determines them."""
 
 import hashlib
+import io
 import json
 import os
 import tempfile
@@ -14,6 +15,10 @@ from bemcheck.mesh.checks import MeshNotice
 
 # Bump when the stored layout or the meaning of a key changes.
 FORMAT = 1
+# The name under which an entry records its own key.
+_KEY = "__key__"
+# Every .npz is a zip archive: its first local file header starts so (PKWARE APPNOTE.TXT, sec. 4.3.7).
+_ZIP_MAGIC = b"PK\x03\x04"
 
 
 def default_cache_dir():
@@ -61,18 +66,29 @@ def digest(kind, shape, element_size, sources=(), extra=None):
 
 
 def load(cache_dir, key):
-    """The arrays stored under ``key``, or None if absent or unreadable."""
+    """The arrays stored under ``key``, or None if absent, unreadable or not this key's.
+
+    Any entry that cannot be read whole (cut short, garbage, empty, a
+    folder: zip CRC-32 checks every member, PKWARE APPNOTE.TXT sec. 4.4.7)
+    or that records another key is a miss: the mesh is made again and the
+    entry replaced.
+    """
     path = Path(cache_dir) / f"{key}.npz"
     try:
-        with np.load(path, allow_pickle=False) as data:
-            return {k: data[k] for k in data.files}
-    except (OSError, ValueError, KeyError):
-        # a missing or damaged entry is a miss: the mesh is made again
+        data = path.read_bytes()
+        if not data.startswith(_ZIP_MAGIC):
+            return None
+        with np.load(io.BytesIO(data), allow_pickle=False) as z:
+            arrays = {k: z[k] for k in z.files}
+        if str(arrays.pop(_KEY, "")) != key:
+            return None
+        return arrays
+    except Exception:  # whatever the damage, the answer is the same: a miss
         return None
 
 
 def store(cache_dir, key, arrays):
-    """Write ``arrays`` under ``key`` atomically (temporary name, then rename).
+    """Write ``arrays`` under ``key`` atomically (flushed temporary, fsync, rename); the entry records ``key``.
 
     A cache that cannot be written is not an error: the run goes on without it.
     """
@@ -83,7 +99,10 @@ def store(cache_dir, key, arrays):
         with tempfile.NamedTemporaryFile(dir=cache_dir, prefix=key, suffix=".tmp",
                                          delete=False) as f:
             tmp = f.name
-            np.savez(f, **arrays)
+            np.savez(f, **{_KEY: np.array(key)}, **arrays)
+            f.flush()
+            # on disk before the rename: a crash must not leave a named entry with missing blocks
+            os.fsync(f.fileno())
         os.replace(tmp, cache_dir / f"{key}.npz")
     except OSError as exc:
         if tmp is not None and os.path.exists(tmp):

@@ -8,6 +8,7 @@ import numpy as np
 
 from bemcheck.errors import BemcheckInputError
 from bemcheck.mesh.bands import plan_bands
+from bemcheck.mesh.estimate import check_mesh_size
 from bemcheck.mesh.scene import mesh_scene
 
 
@@ -121,7 +122,10 @@ def write_band_meshes(case, out_dir, cache_dir=None):
     except OSError as exc:
         raise BemcheckInputError(f"{out}: cannot create the output folder ({exc.strerror})") from exc
     stats = []
-    for band in plan_bands(case):
+    bands = plan_bands(case)
+    if case.bodies:
+        check_mesh_size(case, min(b.element_size for b in bands))  # the finest band, before any is meshed
+    for band in bands:
         mesh = mesh_scene(case, band.element_size, cache_dir)
         stem = out / f"band{band.index:02d}_{band.f_low:.0f}-{band.f_high:.0f}Hz"
         stats.append(mesh_stats(case, mesh, band, write_mesh(mesh, stem)))

@@ -11,6 +11,7 @@ from bemcheck.frames import place
 from bemcheck.mesh.bands import REFUSED_BELOW
 from bemcheck.mesh.bodies import mesh_body
 from bemcheck.mesh.distance import nearest_on_surface, winding_number
+from bemcheck.mesh.estimate import check_mesh_size
 from bemcheck.mesh.surface import SurfaceMesh
 
 # Sources closer to a surface than this fraction of the nearest element's
@@ -54,6 +55,7 @@ def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     """
     if not case.bodies:
         raise GeometryError(f"{case.path or case.title}: no bodies to mesh")
+    check_mesh_size(case, element_size, refine)  # before gmsh: a scene too large is refused in seconds
     base_dir = Path(case.path).parent if case.path else None
     vertices, triangles, domains, groups = [], [], [], {}
     offset = 0

@@ -143,4 +143,9 @@ def load_results(folder):
     path = Path(folder) / RESULTS_FILE
     if not path.is_file():
         raise BemcheckInputError(f"{path}: no results file here; expected the folder of a finished `bemcheck run`")
-    return read_dataset(path)
+    try:
+        return read_dataset(path)
+    except Exception as exc:  # h5py, netCDF and xarray each fail in their own way on a damaged file
+        why = str(exc).splitlines()[0][:200] if str(exc) else type(exc).__name__
+        raise BemcheckInputError(f"{path}: cannot be read as a results file ({why}); expected the results.nc "
+                                 "a finished `bemcheck run` writes: run it again into this folder") from None

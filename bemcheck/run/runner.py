@@ -11,6 +11,7 @@ import numpy as np
 
 from bemcheck.compare import verdict_lines
 from bemcheck.errors import BemcheckInputError
+from bemcheck.mesh.estimate import check_mesh_size
 from bemcheck.observers import for_observers
 from bemcheck.run.combine import combine
 from bemcheck.run.dataset import run_attributes
@@ -140,6 +141,8 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
         check_file_bodies(case, cache_dir)  # before hours of solves, not at the top band
     from bemcheck.build.check import harmonic_plan
 
+    if case.bodies:  # the finest band mesh of the sweep, before any mesh is made
+        check_mesh_size(case, min(b.element_size for b in bands))
     run = tuple(case.frequencies if frequencies is None else frequencies)
     plan = plan_tasks(case, bands, harmonics=[f for _, _, f in harmonic_plan(case)], frequencies=run)
     if solve is None:

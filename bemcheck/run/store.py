@@ -3,14 +3,19 @@
 A run folder holds ``parts/<task key>.npz``.  A task's key is a hash of
 everything its answer depends on (the case's physics, the task's frequency
 and mesh size), so a rerun recomputes only what a changed case changes, and a
-file either is complete (it was renamed into place) or does not exist.
+file either is complete (it was renamed into place) or does not exist.  Each
+part records its own key and a SHA-256 checksum of its arrays and metadata,
+so a damaged file (cut short, overwritten, emptied) or a part copied over
+another task's is recognised before it is used, reported and computed again.
 """
 
+import hashlib
 import io
 import json
 import os
 import socket
 import time
+import warnings
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -25,6 +30,31 @@ LOCK = ".bemcheck.lock"
 # A lock file still empty this long after it was made was left by a process
 # killed between creating and writing it (common practice, no source).
 LOCK_GRACE_S = 10.0
+# The largest process id a lock may name (2^31 - 1, the largest 32-bit pid_t).
+PID_MAX = 2**31 - 1
+# Every .npz is a zip archive: its first local file header starts so (PKWARE APPNOTE.TXT, sec. 4.3.7).
+_ZIP_MAGIC = b"PK\x03\x04"
+
+
+class DamagedPart(UserWarning):
+    """A stored part that does not prove what it is: it is reported and computed again, never used."""
+
+
+def checksum(arrays, meta):
+    """SHA-256 (hex) of ``arrays`` (name -> ndarray: names, dtypes, shapes and bytes) and ``meta``.
+
+    Examples
+    --------
+    >>> a = checksum({"x": np.arange(3.0)}, {"n": 3})
+    >>> a == checksum({"x": np.arange(3.0)}, {"n": 3}), a == checksum({"x": np.arange(3.0) + 1}, {"n": 3})
+    (True, False)
+    """
+    h = hashlib.sha256(json.dumps(meta, sort_keys=True).encode())
+    for name in sorted(arrays):
+        values = np.ascontiguousarray(arrays[name])
+        h.update(f"|{name}|{values.dtype.str}|{values.shape}|".encode())
+        h.update(values.tobytes())
+    return h.hexdigest()
 
 
 class PartStore:
@@ -44,34 +74,101 @@ class PartStore:
         return self.dir / f"{key}.npz"
 
     def has(self, key):
-        return self.path(key).is_file()
+        """Whether a part that passes its checks is stored under ``key``."""
+        return self.path(key).is_file() and self.problem(key) is None
 
     def save(self, key, arrays, meta):
         """Store ``arrays`` (name -> ndarray) and ``meta`` (JSON-able dict) under ``key``, atomically.
 
         Arrays holding NaN or inf are refused (:class:`NonFiniteResult`) and
         nothing is stored, so a rerun solves the task again rather than
-        reusing a broken answer.
+        reusing a broken answer.  The part records ``key`` and its checksum.
         """
         for name, values in arrays.items():
             values = np.asarray(values)
             if np.issubdtype(values.dtype, np.number) and not np.isfinite(values).all():
                 raise NonFiniteResult(f"task {key}: '{name}' holds NaN or inf; nothing was stored")
+        meta = json.loads(json.dumps(meta))  # as it will read back
         buf = io.BytesIO()
-        np.savez(buf, __meta__=np.array(json.dumps(meta)), **arrays)
+        np.savez(buf, __meta__=np.array(json.dumps(meta)), __key__=np.array(key),
+                 __checksum__=np.array(checksum(arrays, meta)), **arrays)
         atomic_write_bytes(self.path(key), buf.getvalue())
 
+    def _read(self, key):
+        """(arrays, meta) of the part under ``key``; ValueError saying why it cannot be trusted."""
+        path = self.path(key)
+        if path.is_dir():
+            raise ValueError("a folder, not a part file")
+        data = path.read_bytes()
+        if not data:
+            raise ValueError("an empty file")
+        if not data.startswith(_ZIP_MAGIC):
+            raise ValueError("not a readable part (not a NumPy .npz archive)")
+        try:
+            with np.load(io.BytesIO(data), allow_pickle=False) as z:
+                arrays = {k: z[k] for k in z.files}
+            meta = json.loads(str(arrays.pop("__meta__")))
+            stored_key = str(arrays.pop("__key__", ""))
+            stored_sum = str(arrays.pop("__checksum__", ""))
+        except Exception as exc:  # any reading failure means the same: not a part we wrote, whole
+            raise ValueError(f"not a readable part ({type(exc).__name__}: {exc})") from None
+        if not stored_key:
+            raise ValueError("a part that records no task key")
+        if stored_key != key:
+            raise ValueError(f"the answer of another task (it records key {stored_key})")
+        if stored_sum != checksum(arrays, meta):
+            raise ValueError("damaged: its arrays do not match their checksum")
+        return arrays, meta
+
+    def problem(self, key):
+        """Why the part under ``key`` cannot be used, or None if it passes its checks (or is absent)."""
+        try:
+            self._read(key)
+        except FileNotFoundError:
+            return None
+        except (ValueError, OSError) as exc:
+            return str(exc)
+        return None
+
+    def verified(self, tasks, label=None):
+        """Keys of ``tasks`` whose stored parts pass their checks.
+
+        Every part present but damaged, foreign or unreadable is reported in
+        one line (a :class:`DamagedPart` warning: file, what task, frequency,
+        why) and left out, so the task is computed again and its part
+        replaced.  ``label(task)`` names a task's kind in that line.
+        """
+        good = set()
+        for task in tasks:
+            if not self.path(task.key).exists() and not self.path(task.key).is_symlink():
+                continue
+            why = self.problem(task.key)
+            if why is None and self.path(task.key).is_file():
+                good.add(task.key)
+                continue
+            what = label(task) if label is not None else "task"
+            warnings.warn(f"{self.path(task.key)}: stored {what} at {task.frequency:g} Hz is "
+                          f"{why or 'unreadable'}; not used, computed again", DamagedPart, stacklevel=2)
+        return good
+
     def meta(self, key):
-        """The metadata stored under ``key`` (its arrays left unread)."""
-        with np.load(self.path(key), allow_pickle=False) as z:
-            return json.loads(str(z["__meta__"]))
+        """The metadata stored under ``key``."""
+        return self.load(key)[1]
 
     def load(self, key):
-        """(arrays, meta) stored under ``key``."""
-        with np.load(self.path(key), allow_pickle=False) as z:
-            arrays = {k: z[k] for k in z.files if k != "__meta__"}
-            meta = json.loads(str(z["__meta__"]))
-        return arrays, meta
+        """(arrays, meta) stored under ``key``, checked.
+
+        Raises
+        ------
+        BemcheckInputError
+            The part is damaged or belongs to another task (it changed after
+            the sweep checked it); running the same command again recomputes it.
+        """
+        try:
+            return self._read(key)
+        except (ValueError, OSError) as exc:
+            raise BemcheckInputError(f"{self.path(key)}: stored part is {exc}; "
+                                     "run the same command again to compute it anew") from None
 
 
 def _read_first_line(path):
@@ -158,18 +255,22 @@ class LockOwner:
         Lock files of earlier versions hold a bare process id.
         """
         text = text.strip()
-        if text.isdigit():
-            return cls(int(text))
         try:
-            d = json.loads(text)
-            return cls(int(d["pid"]), str(d.get("host") or ""), d.get("started"), d.get("boot"),
-                       str(d.get("command") or "run"), float(d.get("since") or 0.0))
-        except (ValueError, TypeError, KeyError, AttributeError):
+            if text.isdigit():
+                owner = cls(int(text))
+            else:
+                d = json.loads(text)
+                owner = cls(int(d["pid"]), str(d.get("host") or ""), d.get("started"), d.get("boot"),
+                            str(d.get("command") or "run"), float(d.get("since") or 0.0))
+        except (ValueError, TypeError, KeyError, AttributeError, OverflowError):
             return None
+        # a process id is a positive pid_t (POSIX.1-2017 <sys/types.h>: a signed integer, 32 bits on every
+        # system bemcheck runs on): anything else was not written by a run
+        return owner if 0 < owner.pid <= PID_MAX else None
 
     def alive(self):
         """Whether the owner may still be running (True whenever that cannot be ruled out)."""
-        if self.pid <= 0:
+        if not 0 < self.pid <= PID_MAX:
             return False
         if self.host and self.host != socket.gethostname():
             return True  # another machine's processes cannot be seen from here
@@ -230,6 +331,10 @@ class RunLock:
             try:
                 fd = os.open(self.path, os.O_CREAT | os.O_EXCL | os.O_WRONLY)
             except FileExistsError:
+                if self.path.is_dir() and not self.path.is_symlink():
+                    raise BemcheckInputError(
+                        f"{self.path}: a folder where bemcheck keeps its lock file; expected a file or nothing "
+                        "there: remove the folder (bemcheck never makes one) and run again") from None
                 seen = _read_whole(self.path)
                 if seen is None:
                     continue  # released between our two looks

@@ -13,9 +13,11 @@ import logging
 import os
 import sys
 import time
+import warnings
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass
 
+from bemcheck.errors import BemcheckInputError
 from bemcheck.run.tasks import PART_FORMAT
 
 # Kinds of task.  SOLVE: a case frequency (or a played harmonic) on its
@@ -29,6 +31,13 @@ SOLVE, CHECK, ALONE = "solve", "check", "alone"
 # What `bemcheck run --verbose` shows beyond the progress lines (each task's
 # mesh, timings, device and stored file) goes to this logger at INFO.
 log = logging.getLogger(__name__)
+
+# A Dask scheduler must answer within this time [s], or the run stops with a message.
+SCHEDULER_TIMEOUT_S = 10.0
+# With no Dask worker for this long [s], a line says that the sweep waits for workers.
+NO_WORKERS_S = 30.0
+# How often a Dask sweep looks at its workers while no task finishes [s].
+POLL_S = 1.0
 
 # Threads each local worker may use: the workers share the cores, so BLAS
 # and numba must not each spread over all of them.
@@ -189,10 +198,11 @@ def execute(tasks, solve, store, *, workers=1, scheduler=None, progress=None):
     int
         Number of tasks computed (not found in the store).
     """
-    todo = [t for t in tasks if not store.has(t.key)]
+    good = store.verified(tasks, task_label)  # a damaged or foreign part is reported and computed again
+    todo = [t for t in tasks if t.key not in good]
     if progress is not None:
         for t in tasks:
-            if store.has(t.key):
+            if t.key in good:
                 progress.update(t, "(stored)")
                 if log.isEnabledFor(logging.INFO):
                     log.info("%s", describe_task(t, store.meta(t.key), store.path(t.key), stored=True))
@@ -208,7 +218,7 @@ def execute(tasks, solve, store, *, workers=1, scheduler=None, progress=None):
     if not todo:
         return 0
     if scheduler:
-        _execute_dask(todo, solve, scheduler, finish)
+        _execute_dask(todo, solve, scheduler, finish, store.dir)
     elif workers <= 1:
         for t in todo:
             finish(t, solve(t))
@@ -224,14 +234,99 @@ def execute(tasks, solve, store, *, workers=1, scheduler=None, progress=None):
     return len(todo)
 
 
-def _execute_dask(todo, solve, address, finish):
-    from dask.distributed import Client
-    from dask.distributed import as_completed as dask_completed
+class SchedulerUnavailable(BemcheckInputError):
+    """The Dask scheduler given cannot be reached, is not a Dask scheduler, or was lost mid-sweep."""
 
-    with Client(address, timeout="30s") as client:
+
+class SweepNotice(UserWarning):
+    """Something the user should know while a sweep runs (it goes on)."""
+
+
+async def _identity(address):
+    """What the server at ``address`` says it is (Dask's "identity" operation)."""
+    from distributed.comm import connect
+
+    comm = await connect(address, timeout=SCHEDULER_TIMEOUT_S)
+    try:
+        await comm.write({"op": "identity"})
+        return await comm.read()
+    finally:
+        comm.abort()
+
+
+def check_scheduler(address):
+    """Refuse, within SCHEDULER_TIMEOUT_S, an address where no Dask scheduler answers.
+
+    Something else listening there (a web server, a silent socket) can make
+    Dask's own connection wait for ever or read a garbage length; the whole
+    exchange is bounded here.
+
+    Raises
+    ------
+    SchedulerUnavailable
+    """
+    import asyncio
+
+    where = f"--scheduler {address}"
+    try:
+        answer = asyncio.run(asyncio.wait_for(_identity(address), SCHEDULER_TIMEOUT_S + 1.0))
+    except ValueError as exc:
+        raise SchedulerUnavailable(f"{where}: not an address ({exc}); expected tcp://HOST:PORT") from None
+    except TimeoutError:
+        raise SchedulerUnavailable(f"{where}: no answer as a Dask scheduler within {SCHEDULER_TIMEOUT_S:g} s; "
+                                   "expected the address `dask scheduler` prints") from None
+    except OSError as exc:
+        raise SchedulerUnavailable(f"{where}: cannot connect within {SCHEDULER_TIMEOUT_S:g} s ({exc}); expected "
+                                   "a running Dask scheduler (`dask scheduler` prints its address)") from None
+    except Exception as exc:  # what something that is not Dask answers breaks Dask's reader in many ways
+        answer = f"{type(exc).__name__}"
+    if not isinstance(answer, dict) or answer.get("type") != "Scheduler":
+        raise SchedulerUnavailable(f"{where}: something answers there, but not as a Dask scheduler does; expected "
+                                   "the address `dask scheduler` prints")
+
+
+def _execute_dask(todo, solve, address, finish, parts):
+    from dask.distributed import Client, wait
+
+    check_scheduler(address)
+    finished = 0
+
+    def lost(why):
+        return SchedulerUnavailable(
+            f"--scheduler {address}: the scheduler was lost mid-sweep ({why}); the {finished} task(s) finished in "
+            f"this run, and every earlier one, are kept in {parts}: start the scheduler and its workers again "
+            "(or leave out --scheduler) and run the same command to resume")
+
+    with Client(address, timeout=f"{SCHEDULER_TIMEOUT_S:g}s") as client:
         futures = {client.submit(solve, t, key=f"bemcheck-{t.key}", pure=False, retries=3): t for t in todo}
-        for fut in dask_completed(list(futures)):
-            finish(futures[fut], fut.result())
+        pending, idle_since, told = set(futures), time.monotonic(), False
+        while pending:
+            try:
+                done, pending = wait(pending, timeout=POLL_S, return_when="FIRST_COMPLETED")
+            except TimeoutError:
+                done = set()
+            except Exception as exc:  # Dask cancels every future when the scheduler's connection is lost
+                raise lost(str(exc).splitlines()[0] if str(exc) else type(exc).__name__) from None
+            for fut in done:
+                if fut.status == "cancelled":
+                    raise lost("its tasks were cancelled")
+                finish(futures[fut], fut.result())
+                finished += 1
+            if done or _workers(client) > 0:
+                idle_since, told = time.monotonic(), False
+            elif not told and time.monotonic() - idle_since > NO_WORKERS_S:
+                warnings.warn(f"no Dask worker at {address} for {NO_WORKERS_S:g} s: the sweep waits for workers "
+                              f"(start them with `dask worker {address}`; Ctrl-C keeps what is finished)",
+                              SweepNotice, stacklevel=2)
+                told = True
+
+
+def _workers(client):
+    """Workers the scheduler knows now (0 if it cannot say)."""
+    try:
+        return len(client.scheduler_info().get("workers", {}))
+    except Exception:  # a scheduler going away: the next wait says so
+        return 0
 
 
 def describe_task(task, meta, path, stored=False):

@@ -196,6 +196,76 @@ ROWS = [
         changes=(("[observers]", "[control]\nobjective = \"sector\"\nsector = { from_deg = -400.0, to_deg = 0.0 }\n[observers]"),)),
     Row("control sector wider than a turn", ("{case}", "control.sector.to_deg", "by at most 360"),
         changes=(("[observers]", "[control]\nobjective = \"sector\"\nsector = { from_deg = -90.0, to_deg = 300.0 }\n[observers]"),)),
+    # -- inputs refused for what they imply, before any work ---------------
+    Row("a billion frequencies per octave", ("{case}", "frequencies.per_octave", "at most 10,000 frequencies",
+                                             "gives 1,000,000,001"),
+        changes=(("list = [100.0, 200.0]", "start = 100.0\nstop = 200.0\nper_octave = 1e9"),),
+        why="1e9 per octave over one octave: 1e9 + 1 frequencies (24 GB of floats alone)"),
+    Row("directions every 1e-7 degree", ("{case}", "observers.far_field.step_deg", "at most 36,000 directions",
+                                         "3,600,000,000"),
+        changes=(("step_deg = 30.0", "step_deg = 1e-7"),), why="360 / 1e-7 = 3.6e9 directions"),
+    Row("a trillion placement trials", ("{case}", "build.trials", "≤ 100,000"),
+        changes=(("[observers]", "[build]\ntrials = 1000000000000\n[observers]"),)),
+    Row("sphere too large to mesh at 8 kHz", ("{case}", "body[0] 'cab'", "mesh.elements_per_wavelength = 20",
+                                              "triangles", "GiB", "nothing was meshed"),
+        changes=(('kind = "file"\npath', 'kind = "sphere"\nradius = 2.0\n# path'),
+                 ("list = [100.0, 200.0]", "list = [100.0, 8000.0]"),
+                 ("band_octaves = 4", "band_octaves = 8\nelements_per_wavelength = 20"),
+                 ("at = [0.5, 0.0, 0.0]", "at = [2.5, 0.0, 0.0]"), ("at = [-0.5, 0.0, 0.0]", "at = [-2.5, 0.0, 0.0]"),
+                 ("at = [0.0, 1.0, 0.0]", "at = [0.0, 3.0, 0.0]")),
+        why="4 pi 2^2 = 50.3 m^2 at edges of 343 / 8000 / 20 = 2.1 mm: at least 50.3 / (sqrt(3)/4 2.1e-3^2) "
+            "= 2.5e7 triangles (the equilateral triangle is the largest for its longest edge)"),
+    Row("sphere too large to mesh at 8 kHz, mesh command", ("{case}", "body[0] 'cab'", "triangles"),
+        command="mesh",
+        changes=(('kind = "file"\npath', 'kind = "sphere"\nradius = 2.0\n# path'),
+                 ("list = [100.0, 200.0]", "list = [100.0, 8000.0]"),
+                 ("band_octaves = 4", "band_octaves = 8\nelements_per_wavelength = 20"),
+                 ("at = [0.5, 0.0, 0.0]", "at = [2.5, 0.0, 0.0]"), ("at = [-0.5, 0.0, 0.0]", "at = [-2.5, 0.0, 0.0]"),
+                 ("at = [0.0, 1.0, 0.0]", "at = [0.0, 3.0, 0.0]"))),
+    Row("elements per wavelength 1e300", ("{case}", "mesh.elements_per_wavelength", "≤ 100"),
+        changes=(("band_octaves = 4", "band_octaves = 4\nelements_per_wavelength = 1e300"),),
+        why="an element size of 1e-300 m: its square underflows to zero"),
+    Row("strength 1e300", ("{case}", "source[0].strength", "volume-velocity amplitude from 1e-12 to 100 m^3/s"),
+        changes=(("strength = 1e-3", "strength = 1e300"),)),
+    Row("speed of sound 1e-300", ("{case}", "medium.speed_of_sound", "from 10 to 10000 m/s"),
+        changes=(("[frequencies]", "[medium]\nspeed_of_sound = 1e-300\n[frequencies]"),)),
+    Row("density 1e-320", ("{case}", "medium.density", "a density from"),
+        changes=(("[frequencies]", "[medium]\ndensity = 1e-320\n[frequencies]"),)),
+    Row("placement tolerance 1e300 m", ("{case}", "source[1].position_tolerance", "a placement tolerance from 0 to 10 m"),
+        changes=(('at = [-0.5, 0.0, 0.0]', 'at = [-0.5, 0.0, 0.0]\nposition_tolerance = 1e300'),
+                 ("[observers]", "[[note]]\nname = \"n\"\nfundamental = 200.0\nspl_at_1m = [90.0]\n[observers]")),
+        why="random builds 1e300 m off overflow the distances: NaN in the placement study"),
+    Row("observer 1e200 m away", ("{case}", "observers.points[0].at[1]", "a coordinate from -10000 to 10000 m"),
+        changes=(("at = [0.0, 1.0, 0.0]", "at = [0.0, 1e200, 0.0]"),)),
+    Row("axis of length 1e-200", ("{case}", "body[0].axis", "a direction [x, y, z]"),
+        changes=(('path = "', 'axis = [1e-200, 0.0, 0.0]\npath = "'),),
+        why="1e-200 squared underflows to 0: the axis cannot be normalised"),
+    Row("sphere of radius 1e23 m", ("{case}", "body[0].radius", "a length from 1e-05 to 1000 m"),
+        changes=(('kind = "file"\npath', 'kind = "sphere"\nradius = 1e23\n# path'),)),
+    Row("observer at a source", ("{case}", "observers.points[0].at", "coincides with source 'p'"),
+        changes=(("at = [0.0, 1.0, 0.0]", "at = [0.5, 0.0, 0.0]"),)),
+    Row("Lebedev degree 4", ("{case}", "observers.far_field.degree", "3, 5, 7, 9", "131"),
+        changes=(('far_field = { plane = "xy", step_deg = 30.0 }', "far_field = { sphere = true, degree = 4 }"),),
+        why="Lebedev rules exist for odd degrees (3 to 31, then every 6th to 131 in scipy)"),
+    # -- no empty judgement ------------------------------------------------
+    Row("tolerance sector between two directions", ("{case}", "tolerance.sectors[0]", "'narrow'",
+                                                    "holds no far-field direction", "step_deg = 10"),
+        changes=(("step_deg = 30.0", "step_deg = 10.0"),
+                 ("[observers]", "[tolerance]\nsectors = [ { name = \"narrow\", from_deg = 11.0, to_deg = 12.0 } ]\n[observers]")),
+        why="directions at 0, 10, 20, ... degrees: none between 11 and 12"),
+    Row("control sector between two directions", ("{case}", "control.sector", "holds no far-field direction",
+                                                  "step_deg = 30"),
+        changes=(("[observers]", "[control]\nobjective = \"sector\"\nsector = { from_deg = 31.0, to_deg = 59.0 }\n[observers]"),),
+        why="directions at 0, 30, 60, ... degrees: none between 31 and 59"),
+    Row("piston given a position", ("{case}", "source[1].at", "no position for a piston", "cab2"),
+        changes=(("[[source]]\nname = \"p\"", BOX.format(x=3.0)),
+                 ("at = [-0.5, 0.0, 0.0]", 'on = "cab2"\nradiator = "piston"\nat = [-0.5, 0.0, 0.0]')),
+        why="the free-field monopole would sit at `at`, the BEM's piston on the face: two layouts"),
+    Row("body name with a dot", ("{case}", "body[1].name", "without '.'", "cab2.x"),
+        changes=(("[[source]]\nname = \"p\"", BOX.format(x=3.0).replace('"cab2"', '"cab2.x"')),),
+        why="mesh groups are named <body>.<face>: a body 'cab2.x' would pass for a face of 'cab2'"),
+    Row("empty frequency subset", ("--frequencies", "empty value"), extra=("--frequencies", "")),
+    Row("blank frequency subset", ("--frequencies", "empty value"), extra=("--frequencies", "  ")),
 ]
 
 
@@ -442,3 +512,27 @@ def test_file_size_limit_while_writing_band_meshes(tmp_path):
     done = subprocess.run(argv, capture_output=True, text=True, timeout=300)
     assert done.returncode == 0, done.stderr
     assert sorted(p.name for p in out.iterdir()) == ["band00_100-200Hz.msh", "band00_100-200Hz.vtu"]
+
+
+@pytest.mark.parametrize("damage", ["garbage", "cut short", "empty"])
+def test_report_of_a_damaged_results_file(damage, tmp_path, capsys):
+    """`bemcheck report` on a folder whose results.nc is not whole: exit 2 naming the
+    file, no traceback, no report written.  A NetCDF-4 file is an HDF5 file, which
+    starts with an 8-byte signature and records its end-of-file address in its
+    superblock (HDF5 File Format Specification 3.0, sec. II.A), so garbage and a
+    cut-short copy are both recognised on opening."""
+    case = tmp_path / "case.toml"
+    case.write_text(FREE_CASE)
+    out = tmp_path / "out"
+    assert main(["run", str(case), "--out", str(out), "--model", "free", "--no-report"]) == 0
+    results_file = out / results.RESULTS_FILE
+    whole = results_file.read_bytes()
+    results_file.write_bytes({"garbage": b"\x89not NetCDF\x00" * 500, "cut short": whole[: len(whole) // 2],
+                              "empty": b""}[damage])
+    capsys.readouterr()
+    code = main(["report", str(out)])
+    err = capsys.readouterr().err
+    assert code == 2, err
+    assert "Traceback" not in err
+    assert f"bemcheck: error: {results_file}: cannot be read as a results file" in err, err
+    assert not (out / "report.html").exists()

@@ -17,6 +17,7 @@ import time
 
 import pytest
 
+from bemcheck import example_path as bemcheck_example
 from bemcheck.cli import main
 from bemcheck.errors import BemcheckInputError
 from bemcheck.run import store
@@ -171,3 +172,38 @@ def _free_case(folder):
         '[observers]\nfar_field = { plane = "xy", step_deg = 30.0 }\n'
     )
     return case
+
+
+def test_a_lock_that_is_a_folder_is_refused_and_left_alone(tmp_path, capsys):
+    """A folder named like the lock file (bemcheck never makes one): exit 2 naming it,
+    the folder and its contents untouched, no `.bemcheck.lock.stale-PID` left behind."""
+    (tmp_path / LOCK).mkdir()
+    (tmp_path / LOCK / "note").write_text("someone's file\n")
+    old = time.time() - 3600.0
+    os.utime(tmp_path / LOCK, (old, old))              # long past the grace for an unwritten lock
+    with pytest.raises(BemcheckInputError, match="a folder where bemcheck keeps its lock file"):
+        with RunLock(tmp_path):
+            pass
+    assert sorted(p.name for p in tmp_path.iterdir()) == [LOCK]
+    assert (tmp_path / LOCK / "note").read_text() == "someone's file\n"
+    case = tmp_path / "case.toml"
+    case.write_text(open(bemcheck_example("free-pair")).read())
+    code = main(["run", str(case), "--out", str(tmp_path), "--model", "free", "--no-report"])
+    err = capsys.readouterr().err
+    assert code == 2 and str(tmp_path / LOCK) in err and "Traceback" not in err
+    assert not [p for p in tmp_path.iterdir() if ".stale-" in p.name]
+
+
+@pytest.mark.parametrize("pid", ["99999999999999999999", '{"pid": 1e300}', '{"pid": -7}', '{"pid": 4294967296}'])
+def test_an_absurd_process_id_in_a_lock_is_not_a_holder(pid, tmp_path):
+    """No pid_t is negative or above 2^31 - 1 (POSIX.1-2017 <sys/types.h>, a signed
+    integer type; 32 bits on Linux, from memory): such a lock names no process.  Once
+    older than the grace for an unwritten lock it is taken over (it used to end in
+    OverflowError from kill(), exit 1)."""
+    assert LockOwner.parse(pid) is None
+    (tmp_path / LOCK).write_text(pid)
+    old = time.time() - 2 * store.LOCK_GRACE_S
+    os.utime(tmp_path / LOCK, (old, old))
+    with RunLock(tmp_path):
+        assert _lock_text(tmp_path)["pid"] == os.getpid()
+    assert list(tmp_path.iterdir()) == []

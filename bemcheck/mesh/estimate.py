@@ -1,0 +1,115 @@
+"""How large a scene's mesh will be at least, known from the bodies' areas before gmsh runs.
+
+A triangle whose longest edge is at most h has an area of at most √3/4 h²
+(the equilateral triangle has the largest area for a given longest edge), so
+a surface of area A meshed with edges up to h has at least A / (√3/4 h²)
+triangles, and a closed surface of genus 0 with F triangles has F/2 + 2
+vertices (Euler's formula V − E + F = 2 with E = 3F/2).  Geometric size
+bounds only make elements smaller, so these are lower bounds: a mesh refused
+on them would certainly not fit.
+"""
+
+import math
+
+from bemcheck.errors import GeometryError
+
+# Inscribed facets lose a little area (under 1 % at the sizes bemcheck meshes,
+# see bemcheck/mesh/bodies.py); the bound allows twice that.
+AREA_ALLOWANCE = 0.98
+# Largest scene refused even where the available memory is unknown: 2 million
+# triangles give a million unknowns, 32 TB of dense matrices.
+MAX_TRIANGLES = 2_000_000
+
+
+def area_lower_bound(body):
+    """A lower bound of ``body``'s surface area [m²]; None for a file body (its mesh is given).
+
+    Sphere: 4πa².  Box with rounded edges (radius ρ, sides reduced by 2ρ):
+    flat faces, a quarter cylinder along each edge and an eighth sphere at each
+    corner.  Bell: mouth disc πa², throat disc πt², and a wall at least as
+    large as both its projection on the mouth plane, π(a² − t²), and the
+    cylinder of the throat's radius, 2πtL (the wall's radius is at least t
+    along its length L).
+
+    Examples
+    --------
+    >>> from bemcheck.case.model import Body, Box, Sphere
+    >>> round(area_lower_bound(Body("s", "sphere", Sphere(1.0))), 6)
+    12.566371
+    >>> area_lower_bound(Body("b", "box", Box((1.0, 2.0, 3.0))))
+    22.0
+    """
+    shape = body.shape
+    if body.kind == "sphere":
+        return 4.0 * math.pi * shape.radius**2
+    if body.kind == "box":
+        rho = shape.edge_radius
+        a, b, c = (s - 2.0 * rho for s in shape.size)
+        return 2.0 * (a * b + b * c + a * c) + 2.0 * math.pi * rho * (a + b + c) + 4.0 * math.pi * rho**2
+    if body.kind == "bell":
+        a, t, length = shape.mouth_radius, shape.throat_radius, shape.length
+        return math.pi * (a * a + t * t) + max(math.pi * (a * a - t * t), 2.0 * math.pi * t * length)
+    return None
+
+
+def triangles_lower_bound(area, element_size):
+    """Triangles at least needed to cover ``area`` [m²] with edges up to ``element_size`` [m].
+
+    Examples
+    --------
+    >>> triangles_lower_bound(4.0 * math.pi, 0.1)   # a unit sphere at 10 cm
+    2844
+    """
+    count = AREA_ALLOWANCE * area / max(math.sqrt(3.0) / 4.0 * element_size**2, 1e-300)
+    return int(min(count, 1e18))  # an absurd size stays a (refused) number, not an overflow
+
+
+def check_mesh_size(case, element_size, refine=1.0, available=None):
+    """Refuse, before gmsh runs, a scene whose mesh would not fit in memory.
+
+    Parameters
+    ----------
+    case : Case
+    element_size : float
+        Largest element edge asked of the mesh [m].
+    refine : float
+        Uniform refinement as :func:`~bemcheck.mesh.scene.mesh_scene` takes it:
+        edges up to ``element_size / refine`` (below 1: a coarser mesh).
+    available : int, optional
+        Bytes of memory free; default the machine's (Linux MemAvailable).
+
+    Raises
+    ------
+    GeometryError
+        When the scene's triangles at least exceed MAX_TRIANGLES, or its dense
+        BEM matrices at least exceed the available memory; the message names
+        the largest body, its triangles and the keys setting the size.
+    """
+    from bemcheck.solvers.bem_system import DENSE_ARRAYS, available_memory
+
+    h = element_size / refine
+    counts = []
+    for i, body in enumerate(case.bodies):
+        area = area_lower_bound(body)
+        if area is not None:
+            counts.append((triangles_lower_bound(area, h), i, body))
+    if not counts:
+        return
+    triangles = sum(n for n, _, _ in counts)
+    unknowns = triangles // 2 + 2 * len(counts)
+    needed = DENSE_ARRAYS * 16.0 * float(unknowns) ** 2
+    available = available_memory() if available is None else available
+    if triangles <= MAX_TRIANGLES and (available is None or needed <= available):
+        return
+    n, i, body = max(counts, key=lambda c: c[0])
+    gib = 1024.0**3
+    room = f"{available / gib:.1f} GiB is available" if available is not None else "the memory available is unknown"
+    finer = f", refined {refine:.3g}x" if refine != 1.0 else ""
+    raise GeometryError(
+        f"{case.path}: body[{i}] '{body.name}': at element size {1e3 * h:.3g} mm (set by the top frequency and "
+        f"mesh.elements_per_wavelength = {case.mesh.elements_per_wavelength:g}{finer}) its surface of "
+        f"{area_lower_bound(body):.3g} m² needs at least {n:,} triangles; the scene at least {triangles:,} "
+        f"({unknowns:,} unknowns), whose dense BEM matrices need {needed / gib:,.1f} GiB, and {room} "
+        f"(at most {MAX_TRIANGLES:,} triangles in any case); expected a lower top frequency, fewer elements per "
+        "wavelength or a smaller body: nothing was meshed"
+    )
