@@ -136,3 +136,21 @@ def test_example_case_report_end_to_end(tmp_path):
     run = bemcheck.run_case(bemcheck.load_case(bemcheck.example_path("free-pair")), tmp_path, model="free")
     page = report_run(run.folder).read_text(encoding="utf-8")
     assert "Free pair (invented example)" in page
+
+
+def test_no_mesh_is_explained_not_reported_as_a_fault(tmp_path):
+    """A layout without bodies says so; a free-field run of a layout with bodies says why no mesh is shown."""
+    case, ds = free_run()
+    page = write_report(tmp_path / "free", ds, {}).read_text(encoding="utf-8")
+    assert "This layout has no bodies: nothing scatters and nothing was meshed." in page
+    assert "No mesh was given" not in page
+    run = bemcheck.run_case(bemcheck.load_case(bemcheck.example_path("demo")), tmp_path / "demo", model="free", quiet=True)
+    page = report_run(run.folder).read_text(encoding="utf-8")
+    assert "A free-field run: the bodies are not meshed" in page
+
+
+def test_the_page_has_a_print_stylesheet_that_lifts_the_scroll_boxes(tmp_path):
+    case, ds = free_run()
+    page = write_report(tmp_path, ds, {}).read_text(encoding="utf-8")
+    media = page[page.index("@media print{"):]
+    assert ".scroll{max-height:none;overflow:visible" in media and "thead{display:table-header-group}" in media
