@@ -130,5 +130,8 @@ def case_lines(case, directions):
         lines.append(_row("control", _control_text(case.control)))
     tol = case.tolerance
     sectors = "; ".join(f"{s.name} {s.from_deg:g} to {s.to_deg:g} deg" for s in tol.sectors)
-    lines.append(_row("tolerance", f"{tol.level_db:g} dB, {tol.phase_deg:g} deg; sectors: {sectors}"))
+    lines.append(_row("tolerance", f"each source {tol.level_db:g} dB, {tol.phase_deg:g} deg; sectors: {sectors}"))
+    if case.controls:
+        lines.append(_row("", f"controlled system: attenuation at least min(predicted, {tol.attenuation_target_db:g} dB) "
+                              f"less {tol.attenuation_db:g} dB"))
     return lines + _build_lines(case)

@@ -201,7 +201,7 @@ def _mesh_ahead(case, todo, cache_dir, progress):
             progress.step("meshing its second mesh for the error estimate")
             start = time.monotonic()
             mesh, ratio = check_mesh(case, size, cache_dir=cache_dir)
-            progress.step(f"  {mesh.n_triangles:,} triangles, sizes {ratio:g} times the band's "
+            progress.step(f"  {mesh.n_triangles:,} triangles, sizes {ratio:.2f} times the band's "
                           f"({time.monotonic() - start:.1f} s)")
 
 

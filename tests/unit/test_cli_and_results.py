@@ -129,7 +129,7 @@ def test_check_lists_drivers_notes_build_settings_and_the_stop_not_reached(capsy
     assert main(["check", str(bemcheck.example_path("demo"))]) == 0
     out = capsys.readouterr().out
     for text in ("driver       small_4in: re 3.2 Ω", "driver       mini_3in", "note         Bb3: fundamental 233.1 Hz",
-                 "build        ear limit 85 dB(A)", "position tolerance 5 mm", "sectors: front -60 to 60 deg",
+                 "build        ear limit 85 dB(A)", "position tolerance 5 mm", "sectors: front -60 to 60 deg", "attenuation at least min(predicted, 10 dB) less 3 dB",
                  "stop = 1000 Hz is not on the series; the top frequency is 897.97 Hz", "band         0: 100-897.97 Hz"):
         assert text in out, text
 
