@@ -22,6 +22,10 @@ from bemcheck.errors import BemcheckInputError, EnvironmentProblem
 EXIT_OK, EXIT_FAILURE, EXIT_BAD_INPUT = 0, 1, 2
 # 128 + SIGINT, as shells report a command stopped by Ctrl-C
 EXIT_INTERRUPTED = 130
+# `--frequencies 112.2` picks the case's 112.246 Hz: a value names the nearest
+# case frequency within this relative tolerance, enough for the four digits
+# the report prints (common practice, no source).
+FREQUENCY_MATCH = 1e-3
 # Storage problems are the user's to fix (space, quota, file-size limit, permissions), not internal failures.
 _STORAGE_ERRORS = {errno.ENOSPC, errno.EDQUOT, errno.EFBIG, errno.EACCES, errno.EROFS, errno.EPERM}
 
@@ -37,14 +41,13 @@ def _parser():
     c = sub.add_parser("check", help="validate a case file and print what it holds")
     c.add_argument("case", type=Path, help="case file (TOML)")
 
-    r = sub.add_parser("run", help="evaluate a case in the free-field model, the BEM or both, and compare")
+    r = sub.add_parser("run", help="evaluate a case in the free-field model or both models, and compare")
     r.add_argument("case", type=Path, help="case file (TOML)")
-    r.add_argument("--out", type=Path, required=True, help="run folder for results.nc, summary.json and the report; rerunning into it resumes")
-    r.add_argument("--model", choices=("free", "bem", "both"), default="both", help="which model(s) to run (default both; bem also runs the free-field model to compare)")
-    r.add_argument("--frequencies", metavar="LIST|LO:HI", help="run a subset of the case's frequencies: '200,400' or '200:800' [Hz]")
+    r.add_argument("--out", type=Path, help="run folder for results.nc, summary.json and the report (default out/<case file name without .toml>); rerunning into it resumes")
+    r.add_argument("--model", choices=("free", "both"), default="both", help="free: the free-field model alone, in seconds; both (default): also the BEM with the bodies scattering, and the comparison")
+    r.add_argument("--frequencies", metavar="LIST|LO:HI", help=f"run a subset of the case's frequencies: '200,400' (each within {100 * FREQUENCY_MATCH:g} %% of a case frequency) or '200:800' [Hz]")
     r.add_argument("--workers", type=int, default=1, metavar="N", help="local worker processes for the BEM sweep (default 1)")
     r.add_argument("--scheduler", metavar="ADDRESS", help="run the BEM sweep on a Dask distributed scheduler, e.g. tcp://10.0.0.5:8786")
-    r.add_argument("--device", choices=("auto", "numba"), default="auto", help="compute device: numba kernels on the CPU, the only one (auto picks it)")
     r.add_argument("--mesh-cache", type=Path, metavar="DIR", help="folder of cached meshes (default ~/.cache/bemcheck/meshes)")
     r.add_argument("--no-report", action="store_true", help="skip the HTML report")
     talk = r.add_mutually_exclusive_group()
@@ -53,7 +56,7 @@ def _parser():
 
     m = sub.add_parser("mesh", help="mesh a case's bodies for each frequency band and print the mesh statistics")
     m.add_argument("case", type=Path, help="case file (TOML)")
-    m.add_argument("--out", type=Path, required=True, help="folder for the band meshes (.msh and .vtu)")
+    m.add_argument("--out", type=Path, help="folder for the band meshes (.msh and .vtu; default out/<case file name without .toml>/meshes)")
     m.add_argument("--mesh-cache", type=Path, metavar="DIR", help="folder of cached meshes (default ~/.cache/bemcheck/meshes)")
 
     rep = sub.add_parser("report", help="rebuild the HTML report of a finished run's folder")
@@ -65,32 +68,23 @@ def _parser():
 
 def _cmd_check(args, out):
     from bemcheck.case import load_case
+    from bemcheck.describe import case_lines
     from bemcheck.observers import for_observers
 
     case = load_case(args.case)
-    directions = for_observers(case.observers.far_field)
-    f = case.frequencies
     print(f"{args.case}: valid case '{case.title}'", file=out)
-    print(f"  medium       c = {case.medium.speed_of_sound:g} m/s, rho = {case.medium.density:g} kg/m^3", file=out)
-    print(f"  frequencies  {len(f)} from {f[0]:g} to {f[-1]:g} Hz", file=out)
-    print(f"  mesh         {case.mesh.elements_per_wavelength:g} elements per wavelength, bands of {case.mesh.band_octaves:g} octave(s)", file=out)
-    for b in case.bodies:
-        print(f"  body         {b.name} ({b.kind}) at {list(b.at)}, axis {list(b.axis)}", file=out)
-    for s in case.sources:
-        what = f"q = {s.strength:g} m^3/s" if s.strength is not None else ("spectrum" if s.spectrum else "computed")
-        print(f"  source       {s.name} ({s.role}, {s.radiator}) at {[round(v, 4) for v in s.position]}, {what}", file=out)
-    kind = f"sphere, Lebedev degree {case.observers.far_field.degree}" if case.observers.far_field.sphere else f"circle in {case.observers.far_field.plane}"
-    print(f"  far field    {len(directions)} directions ({kind})", file=out)
-    for p in case.observers.points:
-        print(f"  point        {p.name} at {list(p.at)}", file=out)
-    print(f"  control      objective {case.control.objective}", file=out)
-    tol = case.tolerance
-    print(f"  tolerance    {tol.level_db:g} dB, {tol.phase_deg:g} deg; sectors " + ", ".join(s.name for s in tol.sectors), file=out)
+    for line in case_lines(case, for_observers(case.observers.far_field)):
+        print(line, file=out)
     return EXIT_OK
 
 
 def _subset(case, spec, file):
-    """The case frequencies ``spec`` names ('200,400' or '200:800'), as a tuple [Hz]."""
+    """The case frequencies ``spec`` names ('200,400' or '200:800' [Hz]), as a tuple.
+
+    A listed value names the nearest case frequency within FREQUENCY_MATCH
+    (relative); a range keeps the case frequencies inside it, ends included
+    to the same tolerance.
+    """
     from bemcheck.errors import CaseError
 
     f = case.frequencies
@@ -100,13 +94,17 @@ def _subset(case, spec, file):
     try:
         if ":" in spec:
             lo, hi = (float(v) for v in spec.split(":"))
-            keep = tuple(v for v in f if lo * (1 - 1e-9) <= v <= hi * (1 + 1e-9))
+            keep = tuple(v for v in f if lo * (1 - FREQUENCY_MATCH) <= v <= hi * (1 + FREQUENCY_MATCH))
         else:
             wanted = [float(v) for v in spec.split(",")]
-            keep = tuple(v for v in f if any(abs(v - w) <= 1e-6 * w for w in wanted))
-            missing = [w for w in wanted if not any(abs(v - w) <= 1e-6 * w for v in f)]
-            if missing:
-                raise CaseError(f"--frequencies: {missing[0]:g} Hz is not a frequency of {file} (it has {', '.join(f'{v:.6g}' for v in f)})")
+            picked = set()
+            for w in wanted:
+                nearest = min(f, key=lambda v: abs(v - w))
+                if abs(nearest - w) > FREQUENCY_MATCH * abs(w):
+                    raise CaseError(f"--frequencies: {w:g} Hz is not within {100 * FREQUENCY_MATCH:g} % of a frequency "
+                                    f"of {file} (it has {', '.join(f'{v:.6g}' for v in f)})")
+                picked.add(nearest)
+            keep = tuple(v for v in f if v in picked)
     except ValueError:
         raise CaseError(f"--frequencies: expected '200,400' or '200:800' in Hz, got {spec!r}") from None
     if not keep:
@@ -114,27 +112,56 @@ def _subset(case, spec, file):
     return keep
 
 
+def _default_out(case_path, *under):
+    """``out/<case file name without .toml>`` in the current folder, for --out left out."""
+    return Path("out", Path(case_path).stem, *under)
+
+
 def _cmd_run(args, out):
     from bemcheck.case import load_case
     from bemcheck.run.runner import run_case
 
     case = load_case(args.case)
-    subset = _subset(case, args.frequencies, args.case) if args.frequencies is not None else None
+    subset = None
+    if args.frequencies is not None:
+        subset = _subset(case, args.frequencies, args.case)
+        print(f"--frequencies: {len(subset)} of {len(case.frequencies)}: {', '.join(f'{v:.4g}' for v in subset)} Hz",
+              file=out)
     if args.workers < 1:
         raise BemcheckInputError(f"--workers: expected a whole number ≥ 1, got {args.workers}")
-    options = {}
+    folder = args.out or _default_out(args.case)
+    options = {"quiet": args.quiet}
     if args.model != "free":
-        options = {"workers": args.workers, "scheduler": args.scheduler, "device": args.device, "cache_dir": args.mesh_cache, "quiet": args.quiet}
+        options.update(workers=args.workers, scheduler=args.scheduler, cache_dir=args.mesh_cache)
     bands = _verbose_before(case, args) if args.verbose else None
-    outcome = run_case(case, args.out, model=args.model, report=not args.no_report, frequencies=subset, **options)
+    outcome = run_case(case, folder, model=args.model, report=not args.no_report, frequencies=subset, **options)
     if bands:
         _verbose_after(bands, outcome)
+    if args.model == "free":
+        for line in _free_lines(outcome.summary):
+            print(line, file=out)
     for line in outcome.verdict_lines:
         print(line, file=out)
     print(f"results: {outcome.results}", file=out)
     if outcome.report is not None:
         print(f"report:  {outcome.report}", file=out)
     return EXIT_OK
+
+
+def _free_lines(summary):
+    """The key figures of a free-field run, for the terminal."""
+    free = summary["free"]
+    f = summary["frequencies_hz"]
+    att = free["attenuation_by_frequency_db"]
+    lines = [f"free-field model only (no BEM, no verdict): {len(f)} frequencies, {f[0]:.4g}-{f[-1]:.4g} Hz"]
+    if any(a != 0.0 for a in att):
+        best = max(range(len(att)), key=att.__getitem__)
+        worst = min(range(len(att)), key=att.__getitem__)
+        lines.append(f"  power attenuation by the controls: {free['attenuation_db']['mean']:.1f} dB on average, "
+                     f"{att[best]:.1f} dB at best ({f[best]:.4g} Hz), {att[worst]:.1f} dB at worst ({f[worst]:.4g} Hz)")
+    w = free["power_primary_w"]
+    lines.append(f"  power of the primaries alone: {min(w):.3g} to {max(w):.3g} W")
+    return lines
 
 
 def _verbose_before(case, args):
@@ -186,7 +213,7 @@ def _cmd_mesh(args, out):
     from bemcheck.run.store import RunLock
 
     case = load_case(args.case)
-    folder = prepare_folder(args.out)
+    folder = prepare_folder(args.out or _default_out(args.case, "meshes"))
     # the same lock as a run: two commands writing one folder would interleave files
     with RunLock(folder, command="mesh"):
         stats = write_band_meshes(case, folder, cache_dir=args.mesh_cache)
@@ -203,10 +230,19 @@ def _cmd_report(args, out):
 
 
 def _cmd_examples(args, out):
+    from bemcheck.case import load_case
     from bemcheck.examples_index import example_names, example_path
 
-    for name in example_names():
-        print(f"{name:16s} {example_path(name)}", file=out)
+    names = example_names()
+    for name in names:
+        case = load_case(example_path(name))
+        bodies = f"{len(case.bodies)} bodies" if case.bodies else "no bodies"
+        f = case.frequencies
+        print(f"{name:10s} {case.title}: {bodies}, {len(case.sources)} sources, {len(f)} frequencies "
+              f"{f[0]:.4g}-{f[-1]:.4g} Hz", file=out)
+    if names:
+        print(f"files in {example_path(names[0]).parent}; copy one and edit it, or run it: bemcheck run "
+              f"{example_path(names[0])}", file=out)
     return EXIT_OK
 
 

@@ -119,13 +119,50 @@ def check_page(html_path, screenshot=None, window=(1280, 4000), timeout=120.0):
     return BrowserCheck(images=mark.group(1) if mark else "", console=console, dom=dumped.stdout, screenshot=shot)
 
 
+def print_pdf(html_path, pdf_path, timeout=120.0):
+    """Print ``html_path`` to ``pdf_path`` with headless Chromium, as its print dialog would (A4, print stylesheet).
+
+    Parameters
+    ----------
+    html_path, pdf_path : str or Path
+    timeout : float
+        [s]
+
+    Returns
+    -------
+    Path
+        The PDF.
+
+    Raises
+    ------
+    FileNotFoundError
+        Chromium is not installed, the page does not exist, or Chromium wrote no PDF.
+    """
+    binary = chromium_path()
+    if binary is None:
+        raise FileNotFoundError(f"{CHROMIUM}: Chromium not found; install the Debian package 'chromium'")
+    page = Path(html_path).resolve()
+    if not page.is_file():
+        raise FileNotFoundError(f"{page}: no such page")
+    pdf = Path(pdf_path).resolve()
+    with tempfile.TemporaryDirectory(prefix="bemcheck-chromium-") as profile:
+        done = _run(binary, [f"--virtual-time-budget={VIRTUAL_TIME_MS}", f"--print-to-pdf={pdf}", "--no-pdf-header-footer",
+                             page.as_uri()], profile, timeout)
+    if not pdf.is_file():
+        raise FileNotFoundError(f"{pdf}: Chromium wrote no PDF ({done.stderr.strip()[-300:]})")
+    return pdf
+
+
 def main(argv=None):
     """Command-line check of one report page; exit status 0 when it passes."""
     p = argparse.ArgumentParser(prog="python -m bemcheck.report.browser", description=__doc__.splitlines()[0])
     p.add_argument("page", type=Path, help="report.html")
     p.add_argument("--screenshot", type=Path, help="save a screenshot PNG here")
+    p.add_argument("--pdf", type=Path, help="also print the page to this PDF (the print stylesheet applies)")
     args = p.parse_args(argv)
     result = check_page(args.page, args.screenshot)
+    if args.pdf:
+        print(f"pdf: {print_pdf(args.page, args.pdf)}")
     print(f"images: {result.images or 'no mark (page did not render?)'}")
     for line in result.console:
         print(f"console: {line}")

@@ -19,6 +19,7 @@ from bemcheck.compare.trust import NOT_RESOLVED
 from bemcheck.observers import in_sector
 from bemcheck.report import style
 from bemcheck.report.layout import layout_figure
+from bemcheck.report.polar import polar_figure
 from bemcheck.report.signals import (
     case_of,
     default_signal,
@@ -28,21 +29,11 @@ from bemcheck.report.signals import (
     polar_frequencies,
     primary_q_of,
     signal_fields,
+    signal_label,
+    trust_limit_hz,
 )
 
-# The departure map's colour scale never reaches beyond this [dB] unless the
-# tolerance itself is that wide (common practice, no source).
-MAP_CEILING_DB = 20.0
-# Polar plots span this many dB below the free-field maximum (common practice, no source).
-POLAR_RANGE_DB = 40.0
 SECTOR_TICKS_DB = (0.0, 0.5, 1.0, 2.0, 5.0, 10.0, 20.0, 60.0)
-_CURVE_STYLE = {
-    "free field": {"color": style.FREE, "lw": 1.8},
-    "scattered": {"color": style.SCATTERED, "lw": 1.6},
-    "scattered, as designed": {"color": style.SCATTERED, "lw": 1.6},
-    "scattered, re-optimised": {"color": style.REOPTIMISED, "lw": 1.3, "ls": (0, (5, 2))},
-    "primaries alone": {"color": style.MUTED, "lw": 1.2, "ls": (0, (2, 2))},
-}
 
 
 def _frequency_axis(ax, f):
@@ -54,11 +45,6 @@ def _frequency_axis(ax, f):
     ax.xaxis.set_major_formatter(FormatStrFormatter("%g"))
     ax.xaxis.set_minor_formatter(NullFormatter())
     ax.set_xlabel("frequency [Hz]")
-
-
-def signal_label(signal):
-    """How a signal is named in titles."""
-    return "controlled system (free-field design)" if signal == CONTROLLED else f"source '{signal}' alone"
 
 
 def _log_edges(f):
@@ -135,16 +121,15 @@ def departure_map_figure(ds, signal=CONTROLLED, tolerance=None, sectors=(), quan
     judged = ds["significant"].sel(signal=signal).values[:, idx]
     unresolved = (ds["status"].sel(signal=signal).values[:, idx] == NOT_RESOLVED) & judged
     shown = np.ma.masked_where(~judged, level)
-    # The colour range follows the bulk of the values but stays within a few
-    # tolerances, so that values near the tolerance keep their shades.
-    ceiling = 180.0 if quantity == "phase" else MAP_CEILING_DB
-    span = float(np.percentile(np.abs(level[judged]), 90)) if judged.any() else tol
-    vmax = float(np.ceil(np.clip(span, 3.0 * tol, max(3.0 * tol, ceiling))))
+    if quantity == "phase":
+        norm, clipped = style.departure_norm(level[judged], tol, ceiling=180.0, unit="°")
+    else:
+        norm, clipped = style.departure_norm(level[judged], tol)
 
     fig = style.new_figure(9.0, 5.0)
     ax = fig.add_subplot()
     x_edges, y_edges = _log_edges(f), _circular_edges(az)
-    mesh = ax.pcolormesh(x_edges, y_edges, shown.T, cmap=style.DEPARTURE_CMAP, vmin=-vmax, vmax=vmax, shading="flat")
+    mesh = ax.pcolormesh(x_edges, y_edges, shown.T, cmap=style.DEPARTURE_CMAP, norm=norm, shading="flat")
     for i, j0, j1 in _runs(unresolved):
         ax.add_patch(Rectangle((x_edges[i], y_edges[j0]), x_edges[i + 1] - x_edges[i], y_edges[j1] - y_edges[j0],
                                fill=False, hatch="////", edgecolor=style.INK, linewidth=0.0))
@@ -162,8 +147,10 @@ def departure_map_figure(ds, signal=CONTROLLED, tolerance=None, sectors=(), quan
     ax.grid(False)
     ax.set_ylabel("azimuth in the observers' plane [°]")
     ax.set_title(f"{title}: {signal_label(signal)}")
-    bar = fig.colorbar(mesh, ax=ax, extend="both", pad=0.01)
-    bar.set_label(bar_label)
+    bar = fig.colorbar(mesh, ax=ax, extend="both" if clipped else "neither", pad=0.01)
+    bar.set_ticks(style.departure_ticks(norm.vmax, tol))
+    bar.ax.yaxis.set_major_formatter("{x:g}")
+    bar.set_label(bar_label + (f"\n{clipped}" if clipped else ""))
     contour = (f"+{tol:g}{unit}: falls short beyond the tolerated shortfall" if one_sided
                else f"+{tol:g}{unit} (solid), −{tol:g}{unit} (dashed)")
     handles = [
@@ -200,53 +187,6 @@ def _trust_marks(ax, ds, signal, y_edges, sectors):
             ax.plot([x, x], [y_edges[j0], y_edges[j1]], color=style.INK, lw=3.0, solid_capstyle="butt")
             ax.annotate(sector.name, (x, 0.5 * (y_edges[j0] + y_edges[j1])), xytext=(4, 0), textcoords="offset points",
                         fontsize=7, color=style.INK, va="center", rotation=90)
-
-
-def polar_figure(ds, signal, frequencies, primary_q=None):
-    """Far-field level in the observers' plane, one panel per frequency, each model a curve.
-
-    Parameters
-    ----------
-    ds : xarray.Dataset
-    signal : str
-        A source name or ``"controlled"``.
-    frequencies : sequence of float
-        Solved frequencies to show [Hz] (the nearest solved ones are used).
-    primary_q : (Np,) array_like, optional
-        Primary strengths [m^3/s]; needed for ``"controlled"``.
-
-    Returns
-    -------
-    matplotlib.figure.Figure or None
-        None when no direction lies near the plane.
-    """
-    idx = plane_directions(ds)
-    if idx.size < 3:
-        return None
-    fields = signal_fields(ds, signal, primary_q)
-    f_all = ds["frequency"].values
-    theta = np.radians(ds["azimuth_deg"].values[idx])
-    theta = np.append(theta, theta[0] + 2.0 * np.pi)
-    n = len(frequencies)
-    fig = style.new_figure(min(3.0 * n + 0.6, 12.5), 3.9)
-    for k, freq in enumerate(frequencies):
-        i = int(np.argmin(np.abs(f_all - freq)))
-        ax = fig.add_subplot(1, n, k + 1, projection="polar")
-        ref = max(np.abs(p[i, idx]).max() for p in fields.values()) or 1.0
-        for label, p in fields.items():
-            level = 20.0 * np.log10(np.maximum(np.abs(p[i, idx]), 1e-12 * ref) / ref)
-            ax.plot(theta, np.append(level, level[0]).clip(-POLAR_RANGE_DB), label=label, **_CURVE_STYLE[label])
-        ax.set_rlim(-POLAR_RANGE_DB, 1.0)
-        ax.set_rticks(np.arange(-POLAR_RANGE_DB + 10.0, 0.1, 10.0))
-        ax.tick_params(axis="y", labelsize=6.5, labelcolor=style.MUTED)
-        ax.tick_params(axis="x", labelsize=7)
-        ax.set_rlabel_position(100.0)
-        ax.set_title(f"{f_all[i]:.0f} Hz", loc="center", fontsize=9)
-    handles, labels = fig.axes[0].get_legend_handles_labels()
-    fig.legend(handles, labels, loc="outside lower center", ncol=len(labels))
-    fig.suptitle(f"Far-field level in the observers' plane [dB re the loudest curve]: {signal_label(signal)}",
-                 x=0.01, ha="left", fontsize=10, fontweight="bold")
-    return fig
 
 
 def attenuation_figure(ds):

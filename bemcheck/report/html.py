@@ -37,7 +37,8 @@ CAUTIONS = (
 
 CAPTIONS = {
     "departure_map": "Level departure of the scattered field (BEM) from the free-field prediction over frequency and "
-                     "azimuth. Colour: 20 log10 |p_BEM/p_free|. Solid and dashed contours: the level tolerance. Grey: "
+                     "azimuth. Colour: 20 log10 |p_BEM/p_free|, linear within the tolerance and logarithmic beyond it, up to the "
+                     "largest departure (the colour bar says if it clips). Solid and dashed contours: the level tolerance. Grey: "
                      "nulls of both models (not judged). Hatched: the departure is within the BEM's own error of the "
                      "tolerance (refine the mesh to decide). Black bars: each sector's trust limit.",
     "phase_map": "Phase departure of the scattered field (BEM) from the free-field prediction over frequency and "
@@ -47,8 +48,9 @@ CAPTIONS = {
                      "what it must reach: the free-field prediction, capped by the target. Negative (blue): better "
                      "than needed. Contour: the tolerated shortfall, beyond which a direction departs. Hatched: the "
                      "BEM's own error cannot tell. Black bars: where the attenuation first surely falls short.",
-    "polar": "Far-field level in the observers' plane at a few frequencies spread over the band (one near the trust "
-             "limit), each model a curve, in dB relative to the loudest curve of the panel.",
+    "polar": "Sound pressure level at 1 m in the observers' plane at a few frequencies spread over the band (one "
+             "near the trust limit), each model a curve, the primaries at the case's strengths; the dotted curve is "
+             "the primaries alone with scattering (no control). One scale for every panel.",
     "attenuation": "Attenuation of the radiated power by the control sources: as the free-field model predicts it, as "
                    "the free-field design really gets it with the bodies scattering, and with the control strengths "
                    "re-optimised for the scattered world.",
@@ -69,8 +71,9 @@ BUILD_FIGURES = ("volume_velocity",)
 
 # A free-field run has no scattered curves; these captions replace the ones above.
 FREE_ONLY_CAPTIONS = {
-    "polar": "Far-field level in the observers' plane at a few frequencies spread over the band, free-field model "
-             "only: the controlled system and the primaries alone, in dB relative to the loudest curve of the panel.",
+    "polar": "Sound pressure level at 1 m in the observers' plane at a few frequencies spread over the band, "
+             "free-field model only: the controlled system and the primaries alone (no control), the primaries at "
+             "the case's strengths. One scale for every panel.",
     "attenuation": "Attenuation of the radiated power by the control sources as the free-field model predicts it "
                    "(the BEM was not run).",
 }
@@ -115,6 +118,27 @@ pre.case{background:#fff;border:1px solid var(--line);padding:.8rem 1rem;overflo
 .cautions{border-left:5px solid var(--fail);background:#fff;padding:.4rem 1.2rem}
 footer{max-width:1180px;margin:0 auto;padding:1rem 2rem 2rem;color:var(--muted);font-size:.8rem}
 """
+
+# On paper (and in a PDF) nothing may hide behind a scroll bar: every table
+# prints whole, its header repeated on each page, and no figure is split.
+PRINT_CSS = """
+@page{size:A4;margin:14mm 12mm}
+@media print{
+body{background:#fff;font-size:10pt}
+header{background:none;color:var(--ink);padding:0 0 .4rem;border-bottom:2px solid var(--ink)}
+header p{color:var(--muted)}
+nav{display:none}
+main,footer{max-width:none;padding-left:0;padding-right:0}
+.scroll{max-height:none;overflow:visible;display:block;border:0}
+pre.case{overflow:visible;white-space:pre-wrap;overflow-wrap:anywhere}
+table{font-size:8pt}
+thead{display:table-header-group}
+tr,figure,.cautions{break-inside:avoid}
+h2,h3{break-after:avoid}
+figure{border:0;padding:0}
+}
+"""
+CSS += PRINT_CSS
 
 
 def _sha256(text):
@@ -189,6 +213,18 @@ def _verdict_body(ds, summary):
     return "\n".join(parts)
 
 
+def _no_mesh_text(ds):
+    """Why the report shows no mesh, in words that do not read as an error."""
+    case, _ = case_of(ds)
+    if case is not None and not case.bodies:
+        return ("This layout has no bodies: nothing scatters and nothing was meshed. The BEM, where it ran, "
+                "answers the free field.")
+    if not has_bem(ds):
+        return "A free-field run: the bodies are not meshed, as the free-field model ignores them."
+    return ("The mesh is not shown here: this report was rebuilt from the results alone (`bemcheck report`). "
+            "`bemcheck mesh CASE` writes the band meshes and their statistics.")
+
+
 def _extra(extra_sections):
     """Extra sections as (title, rows) with rows as tuples; TypeError naming the bad item."""
     out = []
@@ -257,7 +293,7 @@ def render_report(ds, summary, figures, mesh=None, extra_sections=(), case_note=
     sections.append(("attenuation", "Power and attenuation per frequency", _table(tables.attenuation_rows(ds), scroll=True)))
     figs = "\n".join(_figure(n, p, has_bem(ds)) for n, p in figures.items()) or _note("No figure could be drawn for this run.")
     sections.append(("figures", "Figures", figs))
-    mesh_body = _table(tables.mesh_rows(mesh)) if mesh is not None else _note("No mesh was given to the report.")
+    mesh_body = _table(tables.mesh_rows(mesh)) if mesh is not None else _note(_no_mesh_text(ds))
     sections.append(("mesh", "Mesh", mesh_body))
     err = tables.numerical_error_rows(ds)
     sections.append(("numerical-error", "Numerical error of the BEM",

@@ -4,7 +4,10 @@ import numpy as np
 from matplotlib.collections import PolyCollection
 from matplotlib.colors import to_rgb
 from matplotlib.lines import Line2D
+from matplotlib.text import Text
+from matplotlib.transforms import Bbox
 from matplotlib.ticker import MaxNLocator
+from mpl_toolkits.mplot3d import proj3d
 from mpl_toolkits.mplot3d.art3d import Poly3DCollection
 
 from bemcheck.report import style
@@ -90,9 +93,6 @@ def layout_figure(mesh, case=None):
                                           rasterized=True))
     for pos, mark, label in marks:
         ax3.scatter(*pos, depthshade=False, **mark)
-        # +x runs to the right in the default view: names far along it go left, clear of the z ticks
-        right = pos[0] > lo[0] + 0.75 * (hi[0] - lo[0])
-        ax3.text(*pos, f"{label} " if right else f" {label}", ha="right" if right else "left", fontsize=7)
     ax3.set_xlim(lo[0], hi[0])
     ax3.set_ylim(lo[1], hi[1])
     ax3.set_zlim(lo[2], hi[2])
@@ -114,10 +114,6 @@ def layout_figure(mesh, case=None):
                                       linewidths=0.15, rasterized=True))
     for pos, mark, label in marks:
         ax2.scatter(pos[a], pos[b], zorder=3, **mark)
-        # names of points near the right edge go to their left, clear of the legend
-        right = pos[a] > lo[a] + 0.75 * (hi[a] - lo[a])
-        ax2.annotate(label, (pos[a], pos[b]), xytext=(-4 if right else 4, 3), textcoords="offset points",
-                     ha="right" if right else "left", fontsize=7)
     ax2.set_xlim(lo[a], hi[a])
     ax2.set_ylim(lo[b], hi[b])
     ax2.set_aspect("equal")
@@ -133,7 +129,99 @@ def layout_figure(mesh, case=None):
     ax2.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.02, 1.0))
     fig.suptitle(f"Meshed layout: {mesh.n_triangles} triangles", x=0.01, ha="left", fontsize=10, fontweight="bold")
     _separate(fig, ax3, ax2)
+    if marks:
+        # the names go on last, into the finished layout, which is then kept as it is
+        fig.draw_without_rendering()
+        fig.set_layout_engine("none")
+        renderer = fig.canvas.get_renderer()
+        proj = ax3.get_proj()
+        on3 = [(tuple(proj3d.proj_transform(*pos, proj)[:2]), label) for pos, _, label in marks]
+        on2 = [((pos[a], pos[b]), label) for pos, _, label in marks]
+        for ax, anchors in ((ax3, on3), (ax2, on2)):
+            name_points(ax, anchors, renderer)
     return fig
+
+
+# Where a name may sit beside its point [pt], tried in this order.
+LABEL_OFFSETS = ((4, 3), (-4, 3), (4, -4), (-4, -4), (0, 7), (0, -8), (9, 9), (-9, 9), (9, -10), (-9, -10),
+                 (0, 16), (0, -17))
+# Points closer than this on the page share one name tag [pt].
+SAME_PLACE_PT = 5.0
+MARKER_HALF_PT = 4.0
+# Above the 3-D panel's triangles, which it stacks by depth from zorder 1 upwards.
+LABEL_ZORDER = 1e6
+
+
+def _group(display, labels, tol_px):
+    """Indices grouped by points closer than ``tol_px`` on the page."""
+    groups = []
+    for i, xy in enumerate(display):
+        for g in groups:
+            if np.hypot(*(display[g[0]] - xy)) <= tol_px:
+                g.append(i)
+                break
+        else:
+            groups.append([i])
+    return groups
+
+
+def _overlap(box, others):
+    return sum(max(0.0, min(box.x1, o.x1) - max(box.x0, o.x0)) * max(0.0, min(box.y1, o.y1) - max(box.y0, o.y0))
+               for o in others)
+
+
+def name_points(ax, anchors, renderer):
+    """Write each point's name beside it where it meets no other text, marker or the axes' edge.
+
+    Points that land on one spot of the page (a source straight above
+    another, seen across the plane) share one tag, ``"a, b"``.  Each name
+    takes the first place of :data:`LABEL_OFFSETS` that is clear; where none
+    is, the one with the least overlap.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+        In its final position (the figure's layout done).
+    anchors : sequence of ((float, float), str)
+        Data coordinates of each point (projected ones for a 3-D axes) and its name.
+    renderer
+        The figure's renderer.
+
+    Returns
+    -------
+    list of matplotlib.text.Annotation
+    """
+    fig = ax.figure
+    px = fig.dpi / 72.0
+    display = np.array([ax.transData.transform(xy) for xy, _ in anchors])
+    taken = [t.get_window_extent(renderer) for t in fig.findobj(Text)
+             if t.get_visible() and t.get_text().strip() and t.figure is fig]
+    half = MARKER_HALF_PT * px
+    taken += [Bbox.from_extents(x - half, y - half, x + half, y + half) for x, y in display]
+    frame = ax.bbox
+    placed = []
+    for g in _group(display, [lab for _, lab in anchors], SAME_PLACE_PT * px):
+        text = ", ".join(anchors[i][1] for i in g)
+        best = None
+        for dx, dy in LABEL_OFFSETS:
+            note = ax.annotate(text, anchors[g[0]][0], xytext=(dx, dy), textcoords="offset points", fontsize=7,
+                               ha="left" if dx > 0 else "right" if dx < 0 else "center",
+                               va="bottom" if dy > 0 else "top", annotation_clip=False, zorder=LABEL_ZORDER)
+            box = note.get_window_extent(renderer)
+            outside = max(0.0, frame.x0 - box.x0) + max(0.0, box.x1 - frame.x1) + max(0.0, frame.y0 - box.y0) + \
+                max(0.0, box.y1 - frame.y1)
+            cost = _overlap(box, taken) + 1e3 * outside
+            if best is None or cost < best[0]:
+                if best is not None:
+                    best[1].remove()
+                best = (cost, note, box)
+            else:
+                note.remove()
+            if cost == 0.0:
+                break
+        taken.append(best[2])
+        placed.append(best[1])
+    return placed
 
 
 def _separate(fig, left, right, gap_pt=14.0, rounds=4):

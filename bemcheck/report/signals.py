@@ -59,6 +59,11 @@ def plane_directions(ds):
     return idx[np.argsort(az[idx], kind="stable")]
 
 
+def signal_label(signal):
+    """How a signal is named in titles."""
+    return "controlled system (free-field design)" if signal == CONTROLLED else f"source '{signal}' alone"
+
+
 def signal_fields(ds, signal, primary_q=None):
     """Far-field pressures of one signal in each model that ran.
 
@@ -77,9 +82,9 @@ def signal_fields(ds, signal, primary_q=None):
         Curve label -> far-field pressure at 1 m [Pa per unit strength for
         a single source, Pa for the controlled system].  Keys: for a source,
         ``"free field"`` and (BEM runs) ``"scattered"``; for the controlled
-        system, ``"free field"``, and either ``"scattered, as designed"`` and
-        ``"scattered, re-optimised"`` (BEM runs) or ``"primaries alone"``
-        (free-field runs).
+        system, ``"free field"``, and either ``"scattered, as designed"``,
+        ``"scattered, re-optimised"`` and ``"primaries alone, scattered"``
+        (BEM runs) or ``"primaries alone"`` (free-field runs).
     """
     if signal != CONTROLLED:
         s = list(ds["source"].values).index(signal)
@@ -96,10 +101,12 @@ def signal_fields(ds, signal, primary_q=None):
         return {"free field": free, "primaries alone": np.einsum("fsd,fs->fd", ds["p_free"].values, alone)}
     q_re = ds["q_control_bem"].values.copy()
     q_re[:, ds["role"].values == "primary"] = primary_q
+    alone = q * (ds["role"].values == "primary")
     return {
         "free field": free,
         "scattered, as designed": np.einsum("fsd,fs->fd", ds["p_bem"].values, q),
         "scattered, re-optimised": np.einsum("fsd,fs->fd", ds["p_bem"].values, q_re),
+        "primaries alone, scattered": np.einsum("fsd,fs->fd", ds["p_bem"].values, alone),
     }
 
 

@@ -8,10 +8,11 @@ touched (safe in worker processes and in tests).
 import io
 import re
 
+import numpy as np
 from matplotlib import rc_context
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.backends.backend_svg import FigureCanvasSVG
-from matplotlib.colors import LinearSegmentedColormap
+from matplotlib.colors import LinearSegmentedColormap, SymLogNorm
 from matplotlib.figure import Figure
 
 from bemcheck.run.results import atomic_write_bytes
@@ -32,6 +33,11 @@ CYCLE = ("#2f6f8f", "#b4532f", "#5b7f3a", "#7d5a94", "#c28f2c", "#3f8c8a", "#9c4
 DEPARTURE_CMAP = LinearSegmentedColormap.from_list(
     "bemcheck_departure", ["#0f4650", "#4f9aa0", "#f4f0e6", "#dc9a5e", "#7e2a18"]
 ).with_extremes(bad=NULL_GREY)
+
+# The departure map's colour scale reaches the largest departure judged, but
+# not beyond this [dB]; past it the colour bar says where it clips (common
+# practice, no source: beyond 60 dB a ratio of two fields is a null of one).
+MAP_CEILING_DB = 60.0
 
 RC = {
     "font.family": "DejaVu Sans",
@@ -112,3 +118,55 @@ def save(fig, out_dir, name, formats=FORMATS):
         atomic_write_bytes(path, buf.getvalue())
         paths.append(path)
     return paths[0]
+
+
+def departure_norm(values, tol, ceiling=None, unit="dB"):
+    """Colour scale for level departures: linear within the tolerance, logarithmic beyond, symmetric.
+
+    It reaches the largest |departure| of ``values`` (rounded up to a
+    whole dB), so that every departure has its own shade while those near
+    the tolerance keep theirs; beyond :data:`MAP_CEILING_DB` it clips.
+
+    Parameters
+    ----------
+    values : ndarray
+        Departures judged [dB].
+    tol : float
+        Tolerance, in the values' unit.
+    ceiling : float, optional
+        Where the scale clips; default :data:`MAP_CEILING_DB` (for values in dB).
+    unit : str
+        The values' unit, for the words.
+
+    Returns
+    -------
+    (matplotlib.colors.SymLogNorm, str)
+        The scale and, when it clips, the words saying so ("" otherwise).
+
+    Examples
+    --------
+    >>> norm, clipped = departure_norm(np.array([-0.4, 2.0, 27.3]), 1.0)
+    >>> norm.vmax, clipped
+    (28.0, '')
+    """
+    ceiling = MAP_CEILING_DB if ceiling is None else ceiling
+    largest = float(np.abs(values).max()) if np.size(values) else tol
+    vmax = float(np.ceil(max(largest, 3.0 * tol)))
+    clipped = ""
+    if vmax > ceiling:
+        vmax = ceiling
+        clipped = f"colours clipped at ±{vmax:g} {unit} (largest |departure| {largest:.0f} {unit})"
+    return SymLogNorm(linthresh=tol, linscale=1.0, vmin=-vmax, vmax=vmax, base=10), clipped
+
+
+def departure_ticks(vmax, tol):
+    """Colour-bar ticks [dB]: 0, ± the tolerance, ± a 1-3-10 series and ± the scale's end.
+
+    Examples
+    --------
+    >>> departure_ticks(28.0, 1.0)
+    [-28.0, -10.0, -3.0, -1.0, 0.0, 1.0, 3.0, 10.0, 28.0]
+    """
+    series = [v for v in (1.0, 3.0, 10.0, 30.0) if 1.5 * tol <= v < 0.8 * vmax]
+    pos = sorted({tol, *series, vmax})
+    return [-v for v in reversed(pos)] + [0.0] + pos

@@ -67,9 +67,36 @@ def _naming(exc, path):
     return OSError(exc.errno, os.strerror(exc.errno), str(path))
 
 
+def _umask():
+    """The process's file-mode creation mask, read without changing it where Linux shows it."""
+    try:
+        with open("/proc/self/status") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError):
+        pass
+    mask = os.umask(0o022)  # elsewhere: set and restore at once
+    os.umask(mask)
+    return mask
+
+
+def file_mode():
+    """The mode a plain ``open(path, "w")`` would give a new file: 0666 less the umask (0644 for umask 022).
+
+    Examples
+    --------
+    >>> file_mode() == 0o666 & ~_umask()
+    True
+    """
+    return 0o666 & ~_umask()
+
+
 def atomic_write_bytes(path, data):
     """Write ``data`` (bytes-like) to ``path`` through a flushed temporary file and a rename.
 
+    The file gets the mode any program's new file gets (:func:`file_mode`),
+    not the owner-only mode of a temporary file, so colleagues can open it.
     On failure the temporary is removed and an OSError names ``path``.
     """
     path = Path(path)
@@ -79,6 +106,7 @@ def atomic_write_bytes(path, data):
         raise _naming(exc, path) from exc
     try:
         with os.fdopen(fd, "wb") as fh:
+            os.fchmod(fh.fileno(), file_mode())
             fh.write(data)
             fh.flush()
             # a full disk may show only when delayed blocks are flushed: fail before the rename

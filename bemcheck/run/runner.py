@@ -4,6 +4,7 @@ import functools
 import hashlib
 import json
 import os
+import time
 from dataclasses import dataclass, replace
 from pathlib import Path
 
@@ -17,10 +18,11 @@ from bemcheck.run.combine import combine
 from bemcheck.run.dataset import run_attributes
 from bemcheck.run.results import RESULTS_FILE, SUMMARY_FILE, read_dataset, write_dataset, write_summary
 from bemcheck.run.store import PartStore, RunLock
-from bemcheck.run.sweep import ALONE, CHECK, SOLVE, Progress, execute, plan_tasks
+from bemcheck.run.progress import COMPILE_HINT_S, Progress
+from bemcheck.run.sweep import ALONE, CHECK, SOLVE, execute, plan_tasks, task_label
 from bemcheck.solvers.response import FieldResponse, free_response
 
-MODELS = ("free", "bem", "both")
+MODELS = ("free", "both")
 
 
 @dataclass(frozen=True)
@@ -114,7 +116,7 @@ def _own_body(case, frequencies, plan, parts, free):
 
 
 def bem_responses(case, directions, folder, *, solve=None, bands=None, frequencies=None, workers=1, scheduler=None,
-                  device="auto", cache_dir=None, progress_stream=None, quiet=False, free=None):
+                  device="auto", cache_dir=None, progress=None, free=None):
     """Run (or resume) the BEM sweep of ``case`` and return what it solved.
 
     Parameters
@@ -126,6 +128,8 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
     free : sequence of FieldResponse, optional
         The free field at the run frequencies (a source on no body keeps it
         in ``own_body``); computed if not given.
+    progress : Progress, optional
+        Where the sweep reports (default: silent).
 
     Returns
     -------
@@ -145,12 +149,15 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
         check_mesh_size(case, min(b.element_size for b in bands))
     run = tuple(case.frequencies if frequencies is None else frequencies)
     plan = plan_tasks(case, bands, harmonics=[f for _, _, f in harmonic_plan(case)], frequencies=run)
+    progress = progress or Progress(quiet=True)
+    store = PartStore(folder)
     if solve is None:
         from bemcheck.run import tasks as bem_tasks
 
         solve = functools.partial(bem_tasks.bem_task, case, device=device, cache_dir=cache_dir)
-    store = PartStore(folder)
-    progress = Progress(len(plan), stream=progress_stream, quiet=quiet)
+        _mesh_ahead(case, [t for t in plan if not store.has(t.key)], cache_dir, progress)
+        _say_compile(case, [t for t in plan if not store.has(t.key)], workers, scheduler, progress)
+    progress.sweep(len(plan))
     execute(plan, solve, store, workers=workers, scheduler=scheduler, progress=progress)
     parts = {t.key: store.load(t.key) for t in plan}
     solves = {t.frequency: t for t in plan if t.kind == SOLVE}
@@ -174,6 +181,45 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
     )
 
 
+def _mesh_ahead(case, todo, cache_dir, progress):
+    """Mesh what the tasks to do will solve on, here and now, each mesh with a line of its own.
+
+    The tasks then find their meshes in the mesh cache (a body alone reuses
+    its body's mesh); meshing here lets a run say what it is doing from its
+    first seconds, and a body that cannot be meshed stops the run before any
+    solve.
+    """
+    if not case.bodies:
+        return
+    from bemcheck.mesh import mesh_scene
+    from bemcheck.run.tasks import check_mesh
+
+    sizes = sorted({t.element_size for t in todo}, reverse=True)
+    for i, size in enumerate(sizes):
+        progress.step(f"meshing band {i + 1} of {len(sizes)}: largest edge {1e3 * size:.1f} mm")
+        start = time.monotonic()
+        mesh = mesh_scene(case, size, cache_dir=cache_dir)
+        progress.step(f"  {mesh.n_triangles:,} triangles, {mesh.n_vertices:,} unknowns ({time.monotonic() - start:.1f} s)")
+        if any(t.kind == CHECK and t.element_size == size for t in todo):
+            progress.step("meshing its second mesh for the error estimate")
+            start = time.monotonic()
+            mesh, ratio = check_mesh(case, size, cache_dir=cache_dir)
+            progress.step(f"  {mesh.n_triangles:,} triangles, sizes {ratio:.2f} times the band's "
+                          f"({time.monotonic() - start:.1f} s)")
+
+
+def _say_compile(case, todo, workers, scheduler, progress):
+    """Warn that the first task of each process compiles the kernels (bodies only: no bodies, no kernels)."""
+    from bemcheck.solvers.bem_device import kernels_compiled
+
+    if not case.bodies or not todo:
+        return
+    if scheduler or workers > 1:
+        progress.step(f"each worker compiles the BEM kernels with its first task: once per process, about {COMPILE_HINT_S:.0f} s")
+    elif not kernels_compiled():
+        progress.step(f"compiling the BEM kernels with the first task: once per process, about {COMPILE_HINT_S:.0f} s")
+
+
 def run_case(case, out_dir, model="both", report=False, frequencies=None, **options):
     """Evaluate ``case`` and write ``results.nc`` and ``summary.json`` in ``out_dir``.
 
@@ -182,18 +228,19 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
     case : Case
     out_dir : str or Path
         Run folder, created if needed; a rerun into it resumes the BEM sweep.
-    model : {"free", "bem", "both"}
-        "bem" and "both" both run the free-field model too (it costs nothing)
-        and compare.
+    model : {"free", "both"}
+        "free": the free-field model alone; "both": also the BEM, and the
+        comparison.
     report : bool
         Also write ``report.html`` with its figures.
     frequencies : sequence of float, optional
         Run only these of the case's frequencies; every number at them is
         the same as in a run of all of them (the meshes are planned from all).
     **options
-        Passed to :func:`bem_responses`: ``workers``, ``scheduler``,
-        ``device``, ``cache_dir``, ``quiet``, ``progress_stream``; tests may
-        pass ``solve`` and ``bands``.
+        ``progress_stream`` (default stderr) and ``quiet`` for the progress
+        lines; the rest is passed to :func:`bem_responses`: ``workers``,
+        ``scheduler``, ``device``, ``cache_dir``; tests may pass ``solve``
+        and ``bands``.
 
     Returns
     -------
@@ -214,7 +261,10 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
     full = case
     if frequencies is not None:
         case = replace(case, frequencies=tuple(frequencies))
-    with RunLock(folder):
+    progress = Progress(options.pop("progress_stream", None), quiet=options.pop("quiet", False),
+                        label=functools.partial(task_label, harmonics=harmonic_names(full)))
+    with RunLock(folder), progress:
+        progress.step(f"free-field model: {len(case.frequencies)} frequencies, {len(directions)} directions")
         free = free_responses(case, directions)
         device = None
         solved, stored = {}, {}
@@ -222,8 +272,10 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
             ds, verdict = combine(case, directions, free)
             metas = []
         else:
-            sweep = bem_responses(full, directions, folder, frequencies=case.frequencies, free=free, **options)
+            sweep = bem_responses(full, directions, folder, frequencies=case.frequencies, free=free, progress=progress,
+                                  **options)
             metas, solved, stored = sweep.metas, sweep.solved, sweep.stored
+            progress.step("comparing the models: departures, error estimates, trust limits, verdict")
             device = metas[0].get("device") if metas else None
             ds, verdict = combine(case, directions, free, sweep.responses, sweep.check, sweep.check_ratio,
                                   sweep.own_body)
@@ -231,6 +283,9 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
             ds["elements"] = ("frequency", np.array([m["elements"] for m in metas]), {"long_name": "triangles in the mesh solved"})
         ds.attrs.update(run_attributes(case, fingerprint, device))
         summary = build_summary(case, ds, fingerprint, verdict, metas)
+        if case.all_notes:
+            progress.step(f"before-build check: {len(harmonic_names(case))} harmonics, placement spread over "
+                          f"{case.build.trials} builds each")
         build = _before_build(case, directions, solved, stored)
         if build is not None:
             ds = ds.merge(build.dataset, compat="override", combine_attrs="override")
@@ -243,14 +298,14 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
             # a results.nc without its summary would pass for a finished run
             results.unlink(missing_ok=True)
             raise
-        report_path = _write_report(full, folder, options) if report else None
+        report_path = _write_report(full, folder, options, progress) if report else None
     lines = tuple(verdict_lines(verdict)) if verdict else ()
     if build is not None:
         lines += build.lines
     return RunOutcome(folder, results, json.loads(json.dumps(summary)), lines, report_path)
 
 
-def _write_report(case, folder, options):
+def _write_report(case, folder, options, progress):
     """The HTML report, with the finest band's mesh when the BEM ran."""
     from bemcheck.report import report_run
 
@@ -258,8 +313,27 @@ def _write_report(case, folder, options):
     if "p_bem" in read_dataset(folder / RESULTS_FILE).data_vars and case.bodies and "solve" not in options:
         from bemcheck.mesh import mesh_scene, plan_bands
 
+        progress.step("report: reading the finest mesh for the layout figure")
         mesh = mesh_scene(case, min(b.element_size for b in plan_bands(case)), cache_dir=options.get("cache_dir"))
+    progress.step("report: drawing the figures and writing report.html")
     return report_run(folder, mesh=mesh)
+
+
+def harmonic_names(case):
+    """Frequency [Hz] -> which harmonic of which note it is, for the progress lines.
+
+    Examples
+    --------
+    >>> import bemcheck
+    >>> harmonic_names(bemcheck.load_case(bemcheck.example_path("free-pair")))
+    {}
+    """
+    from bemcheck.build.check import harmonic_plan
+
+    names = {}
+    for note, h, f in harmonic_plan(case):
+        names.setdefault(f, f"harmonic {h} of note {note!r}" if note else f"harmonic {h}")
+    return names
 
 
 def _before_build(case, directions, solved, stored):

@@ -11,7 +11,6 @@ import hashlib
 import json
 import logging
 import os
-import sys
 import time
 import warnings
 from concurrent.futures import ProcessPoolExecutor, as_completed
@@ -133,8 +132,8 @@ def plan_tasks(case, bands, harmonics=(), frequencies=None):
     return tasks
 
 
-def task_label(task):
-    """What a task is, in a few words: "solve", "error check", "bell alone", "harmonic"."""
+def task_kind(task):
+    """What kind of task, in a word or two: "solve", "error check", "bell alone", "harmonic"."""
     if task.kind == CHECK:
         return "error check"
     if task.kind == ALONE:
@@ -142,32 +141,37 @@ def task_label(task):
     return "harmonic" if task.harmonic else "solve"
 
 
-class Progress:
-    """One line per finished task on a stream (a live line on a terminal), with an ETA.
+def task_label(task, harmonics=None):
+    """What ``task`` is, in a few words, for the progress lines.
 
-    When :data:`log` is enabled for INFO (``bemcheck run --verbose``) every
-    line stays on the screen, so that each task's details follow its line.
+    Parameters
+    ----------
+    task : Task
+    harmonics : dict, optional
+        Frequency [Hz] -> which note's harmonic it is (``"harmonic 2 of A4"``).
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> task_label(Task("k", 400.0, 0, 0.1))
+    'solve 400.0 Hz (band 0)'
+    >>> task_label(Task("k", 898.0, 0, 0.1, kind=CHECK))
+    'error check 898.0 Hz (band 0, second mesh)'
+    >>> task_label(Task("k", 898.0, 0, 0.1, kind=ALONE, body="bell"))
+    'bell alone 898.0 Hz (band 0)'
+    >>> task_label(Task("k", 440.0, 0, 0.1, harmonic=True), {440.0: "harmonic 2 of A4"})
+    'harmonic 2 of A4, 440.0 Hz (band 0)'
     """
-
-    def __init__(self, total, stream=None, quiet=False):
-        self.total = total
-        self.done = 0
-        self.stream = stream or sys.stderr
-        self.quiet = quiet
-        self.start = time.monotonic()
-        self.live = hasattr(self.stream, "isatty") and self.stream.isatty() and not log.isEnabledFor(logging.INFO)
-
-    def update(self, task, info=""):
-        self.done += 1
-        if self.quiet:
-            return
-        elapsed = time.monotonic() - self.start
-        eta = elapsed / self.done * (self.total - self.done)
-        line = f"[{self.done}/{self.total}] {task_label(task)} {task.frequency:8.1f} Hz band {task.band} {info} ETA {eta:5.0f} s"
-        self.stream.write(("\r" + line.ljust(100)) if self.live else line + "\n")
-        if self.live and self.done == self.total:
-            self.stream.write("\n")
-        self.stream.flush()
+    where = f"{task.frequency:.1f} Hz (band {task.band}"
+    if task.kind == CHECK:
+        return f"{task_kind(task)} {where}, second mesh)"
+    if task.harmonic:
+        name = (harmonics or {}).get(task.frequency, "harmonic of a played note")
+        return f"{name}, {where})"
+    return f"{task_kind(task)} {where})"
 
 
 def _pin_threads(n):
@@ -221,6 +225,8 @@ def execute(tasks, solve, store, *, workers=1, scheduler=None, progress=None):
         _execute_dask(todo, solve, scheduler, finish, store.dir)
     elif workers <= 1:
         for t in todo:
+            if progress is not None:
+                progress.begin(t)
             finish(t, solve(t))
     else:
         import multiprocessing
@@ -371,7 +377,7 @@ def describe_task(task, meta, path, stored=False):
             what.append(f"largest edge {1e3 * meta['element_size']:.1f} mm")
         if meta.get("elements_per_wavelength"):
             what.append(f"{meta['elements_per_wavelength']:.1f} elements per wavelength")
-        lines.append("mesh: " + ", ".join(what) + (f" ({task_label(task)})" if task.kind != SOLVE else ""))
+        lines.append("mesh: " + ", ".join(what) + (f" ({task_kind(task)})" if task.kind != SOLVE else ""))
     timings = meta.get("timings") or {}
     seconds = meta.get("seconds")
     if timings or seconds is not None:

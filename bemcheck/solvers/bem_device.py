@@ -113,3 +113,14 @@ def first_solve_guard():
 def note_assembly():
     """Record that this process has assembled (and so compiled) the BEM kernels."""
     _state["assembled"] = True
+
+
+def kernels_compiled():
+    """Whether this process has compiled the BEM kernels already (by assembling once).
+
+    Examples
+    --------
+    >>> kernels_compiled() in (True, False)
+    True
+    """
+    return _state["assembled"]

@@ -67,7 +67,7 @@ def _run(argv, capsys):
 
 def test_verbose_names_every_task_and_where_it_went(tmp_path, capsys):
     case, out = _write(tmp_path, FREE_CASE, "free.toml"), tmp_path / "out"
-    argv = ["run", str(case), "--out", str(out), "--model", "bem", "--no-report", "--verbose"]
+    argv = ["run", str(case), "--out", str(out), "--model", "both", "--no-report", "--verbose"]
     code, stdout, err = _run(argv, capsys)
     assert code == 0, err
     assert "Verdict:" in stdout and "    stored" not in stdout      # details go with the progress, not the results
@@ -92,7 +92,7 @@ def test_verbose_names_every_task_and_where_it_went(tmp_path, capsys):
 
 def test_quiet_and_plain_runs_print_no_details(tmp_path, capsys):
     case = _write(tmp_path, FREE_CASE, "free.toml")
-    base = ["run", str(case), "--model", "bem", "--no-report"]
+    base = ["run", str(case), "--model", "both", "--no-report"]
     code, _, err = _run(base + ["--out", str(tmp_path / "q"), "--quiet"], capsys)
     assert code == 0 and err == ""
     code, _, err = _run(base + ["--out", str(tmp_path / "p")], capsys)
@@ -105,11 +105,11 @@ def test_verbose_leaves_logging_as_it_found_it(tmp_path, capsys):
     logger = logging.getLogger("bemcheck")
     handlers, level = list(logger.handlers), logger.level
     case = _write(tmp_path, FREE_CASE, "free.toml")
-    assert main(["run", str(case), "--out", str(tmp_path / "o"), "--model", "bem", "--no-report", "--verbose"]) == 0
+    assert main(["run", str(case), "--out", str(tmp_path / "o"), "--model", "both", "--no-report", "--verbose"]) == 0
     assert logger.handlers == handlers and logger.level == level
     capsys.readouterr()
     # a plain run afterwards is as plain as ever
-    assert main(["run", str(case), "--out", str(tmp_path / "p"), "--model", "bem", "--no-report"]) == 0
+    assert main(["run", str(case), "--out", str(tmp_path / "p"), "--model", "both", "--no-report"]) == 0
     assert "    stored" not in capsys.readouterr().err
 
 

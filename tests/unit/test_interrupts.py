@@ -319,7 +319,7 @@ def test_a_nan_answer_is_never_stored_nor_written(tmp_path, monkeypatch, capsys)
         return arrays, meta
 
     monkeypatch.setattr(bem_tasks, "bem_task", broken)
-    assert main(["run", str(case), "--out", str(out), "--model", "bem", "--no-report", "--quiet"]) == 1
+    assert main(["run", str(case), "--out", str(out), "--model", "both", "--no-report", "--quiet"]) == 1
     err = capsys.readouterr().err
     assert "internal failure" in err and "Traceback" not in err
     log = Path(err.split("the traceback is in ")[1].split()[0])
@@ -344,7 +344,7 @@ def test_nearly_coincident_controls_are_warned_and_regularised(tmp_path, capsys)
     case = tmp_path / "twins.toml"
     case.write_text(text)
     out = tmp_path / "out"
-    assert main(["run", str(case), "--out", str(out), "--model", "bem", "--no-report", "--quiet"]) == 0
+    assert main(["run", str(case), "--out", str(out), "--model", "both", "--no-report", "--quiet"]) == 0
     err = capsys.readouterr().err
     assert "bemcheck: warning:" in err and "nearly degenerate" in err and "regularised" in err
     ds = bemcheck.load_results(out)

@@ -1,21 +1,25 @@
-"""The report in a real browser: headless Chromium renders it, every image loads, the console stays quiet.
+"""The report in a real browser: headless Chromium renders it, every image loads, the console stays quiet,
+and printed to PDF every table comes out whole.
 
-Skipped when /usr/bin/chromium is absent (Debian package ``chromium``);
-tests never install it.
+Skipped when Chromium is absent (Debian package ``chromium``; `.ci/run`
+installs it, tests never do); `make test` then says so in one line
+(tests/conftest.py).
 """
 
 import json
+import re
 from pathlib import Path
 
 import numpy as np
 import pytest
 from PIL import Image
 
-from bemcheck.report import write_report
-from bemcheck.report.browser import CHROMIUM, check_page
+from bemcheck.report import html as report_html
+from bemcheck.report import tables, write_report
+from bemcheck.report.browser import CHROMIUM, check_page, chromium_path, print_pdf
 from tests.unit.test_report_figures import cube_mesh, floor_run, free_run
 
-pytestmark = pytest.mark.skipif(not Path(CHROMIUM).is_file(), reason=f"{CHROMIUM} not installed (Debian package 'chromium'); browser check skipped")
+pytestmark = pytest.mark.skipif(chromium_path() is None, reason=f"{CHROMIUM} not installed (Debian package 'chromium')")
 
 
 @pytest.fixture(scope="module")
@@ -67,3 +71,38 @@ def test_the_check_catches_a_broken_image_and_a_blocked_network_fetch(tmp_path):
     assert result.images == "0 of 2"
     assert any("Content Security Policy" in line for line in result.console)
     assert not result.ok
+
+
+def _pdf_text(path):
+    from pypdf import PdfReader
+
+    return re.sub(r"\s+", " ", " ".join(page.extract_text() for page in PdfReader(path).pages))
+
+
+@pytest.fixture(scope="module")
+def long_run():
+    case, ds, verdict = floor_run(per_octave=6)
+    return case, ds, {"verdict": json.loads(json.dumps(verdict))}
+
+
+def test_a_printed_report_holds_every_row_of_its_tables(long_run, tmp_path):
+    """Chromium's print-to-PDF applies the page's print stylesheet (CSS Media Queries level 4,
+    media type 'print'): the power table's last row, the band's top frequency, must be on paper."""
+    case, ds, summary = long_run
+    rows = tables.attenuation_rows(ds)
+    assert len(rows) > 25  # more than a scroll box shows on screen
+    last = " ".join(str(c) for c in rows[-1])
+    page = write_report(tmp_path / "with", ds, summary, mesh=cube_mesh(), case=case)
+    text = _pdf_text(print_pdf(page, tmp_path / "with.pdf"))
+    assert last in text
+
+
+def test_without_the_print_stylesheet_the_rows_are_lost(long_run, tmp_path, monkeypatch):
+    """Negative control for the test above: the screen stylesheet alone (a scroll box with a
+    maximum height) cuts the printed table short."""
+    case, ds, summary = long_run
+    monkeypatch.setattr(report_html, "CSS", report_html.CSS.replace(report_html.PRINT_CSS, ""))
+    page = write_report(tmp_path / "without", ds, summary, mesh=cube_mesh(), case=case)
+    text = _pdf_text(print_pdf(page, tmp_path / "without.pdf"))
+    last = " ".join(str(c) for c in tables.attenuation_rows(ds)[-1])
+    assert last not in text

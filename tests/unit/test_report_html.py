@@ -44,6 +44,9 @@ def test_report_holds_every_section_and_the_verdict_in_its_own_words(floor_repor
     page = path.read_text(encoding="utf-8")
     for sid in SECTIONS + ("extra-1", "extra-2"):
         assert f'<section id="{sid}">' in page, sid
+    # the page opens with the decision, the attenuation with its error beside it
+    assert page.index('<section id="verdict">') < page.index('<section id="summary">')
+    assert "±" in page.split('<section id="verdict">')[1].split("</section>")[0]
     for line in verdict_lines(summary["verdict"]):
         assert escape(line.strip(), quote=False) in page
     assert '<span class="badge fail">FAIL</span>' in page
@@ -75,10 +78,10 @@ def test_report_is_self_contained_and_its_images_are_the_figure_files(floor_repo
     assert "http://" not in page and "https://" not in page
     embedded = images(page)
     files = sorted((path.parent / "figures").glob("*.png"))
-    assert len(embedded) == len(files) == 6
+    assert len(embedded) == len(files) == 7
     assert sorted(embedded) == sorted(f.read_bytes() for f in files)
     assert all(b[:8] == PNG_MAGIC for b in embedded)
-    assert len(list((path.parent / "figures").glob("*.svg"))) == 6
+    assert len(list((path.parent / "figures").glob("*.svg"))) == 7
     assert not list(path.parent.rglob(".*part"))
 
 
@@ -136,3 +139,21 @@ def test_example_case_report_end_to_end(tmp_path):
     run = bemcheck.run_case(bemcheck.load_case(bemcheck.example_path("free-pair")), tmp_path, model="free")
     page = report_run(run.folder).read_text(encoding="utf-8")
     assert "Free pair (invented example)" in page
+
+
+def test_no_mesh_is_explained_not_reported_as_a_fault(tmp_path):
+    """A layout without bodies says so; a free-field run of a layout with bodies says why no mesh is shown."""
+    case, ds = free_run()
+    page = write_report(tmp_path / "free", ds, {}).read_text(encoding="utf-8")
+    assert "This layout has no bodies: nothing scatters and nothing was meshed." in page
+    assert "No mesh was given" not in page
+    run = bemcheck.run_case(bemcheck.load_case(bemcheck.example_path("demo")), tmp_path / "demo", model="free", quiet=True)
+    page = report_run(run.folder).read_text(encoding="utf-8")
+    assert "A free-field run: the bodies are not meshed" in page
+
+
+def test_the_page_has_a_print_stylesheet_that_lifts_the_scroll_boxes(tmp_path):
+    case, ds = free_run()
+    page = write_report(tmp_path, ds, {}).read_text(encoding="utf-8")
+    media = page[page.index("@media print{"):]
+    assert ".scroll{max-height:none;overflow:visible" in media and "thead{display:table-header-group}" in media

@@ -42,6 +42,8 @@ LAYOUTS = {
     "long bar in yz": ("yz", voxel_body(np.ones((6, 1, 1), bool), 0.1, origin=(-0.3, 0.0, 0.0)), [0.3, 0.1, 0.05], [-0.3, -0.1, 0.05], [0.0, 0.5, 0.0]),
     "tall column in xz": ("xz", voxel_body(np.ones((1, 1, 8), bool), 0.1, origin=(0.0, 0.0, 0.0)), [0.2, 0.0, 0.8], [-0.2, 0.0, 0.1], [0.5, 0.0, 0.4]),
     "small sphere in xy": ("xy", icosphere(0.02, 3), [0.05, 0.0, 0.0], [-0.05, 0.0, 0.0], [0.0, 0.05, 0.0]),
+    # the control straight above the primary and the ear beside them: one spot across the xy plane
+    "stacked in xy": ("xy", voxel_body([[[True]]], 0.1, origin=(-0.3, -0.05, -0.05)), [0.0, 0.0, 0.0], [0.0, 0.0, 0.2], [0.01, 0.0, 0.0]),
 }
 
 
@@ -115,3 +117,40 @@ def test_the_check_sees_a_planted_overlap():
         fig.canvas.draw()
         bbs = [t.get_window_extent(renderer) for t in (ax3.zaxis.label, ax2.yaxis.label)]
         assert any(a.overlaps(b) for a, b in itertools.combinations(bbs, 2))
+
+
+def _names(fig):
+    from matplotlib.text import Annotation
+
+    return [t for t in fig.findobj(Annotation) if t.get_text().strip()]
+
+
+@pytest.mark.parametrize("name", sorted(LAYOUTS))
+def test_point_names_clear_every_other_text_and_stay_in_the_figure(name):
+    """Each source's and observer's name tag: its drawn extent meets no other text of the
+    figure (names, ticks, axis labels, titles, legend) and lies inside the figure."""
+    plane, mesh, primary, control, ear = LAYOUTS[name]
+    case = parse_case(CASE.format(plane=plane, primary=primary, control=control, ear=ear))
+    with style.styled():
+        fig = layout_figure(mesh, case)
+        fig.canvas.draw()
+        renderer = fig.canvas.get_renderer()
+        texts = _drawn_texts(fig, renderer)
+        names = _names(fig)
+        assert names
+        clashes = []
+        for tag in names:
+            mine = tag.get_window_extent(renderer)
+            assert fig.bbox.x0 <= mine.x0 and mine.x1 <= fig.bbox.x1 and fig.bbox.y0 <= mine.y0 and mine.y1 <= fig.bbox.y1
+            clashes += [f"{tag.get_text()!r} on {other.get_text()!r}" for other, bb in texts
+                        if other is not tag and mine.overlaps(bb)]
+        assert not clashes, "; ".join(clashes)
+
+
+def test_points_on_one_spot_share_one_tag():
+    plane, mesh, primary, control, ear = LAYOUTS["stacked in xy"]
+    case = parse_case(CASE.format(plane=plane, primary=primary, control=control, ear=ear))
+    with style.styled():
+        fig = layout_figure(mesh, case)
+        plane_tags = [t.get_text() for t in _names(fig) if t.axes is fig.axes[1]]
+    assert "primary_far_right, control_left" in plane_tags

@@ -1,0 +1,137 @@
+"""What `bemcheck check` prints: everything in a case that a run would use, and nothing that would not apply."""
+
+import dataclasses
+import tomllib
+
+_DRIVER_UNITS = (("re", "Ω"), ("bl", "T·m"), ("mms", "kg"), ("cms", "m/N"), ("rms", "kg/s"), ("sd", "m²"),
+                 ("xmax", "m"), ("vb", "m³"), ("rated_power", "W"), ("le", "H"))
+
+
+def _num(v):
+    return f"{v:.6g}"
+
+
+def _vec(v):
+    return "[" + ", ".join(f"{x:.4g}" for x in v) + "]"
+
+
+def _row(name, text):
+    return f"  {name:12s} {text}"
+
+
+def _frequency_lines(case):
+    f = case.frequencies
+    lines = [_row("frequencies", f"{len(f)} from {_num(f[0])} to {_num(f[-1])} Hz: " + ", ".join(f"{v:.4g}" for v in f))]
+    try:
+        stop = tomllib.loads(case.text).get("frequencies", {}).get("stop")
+    except tomllib.TOMLDecodeError:
+        stop = None
+    if isinstance(stop, (int, float)) and stop > f[-1] * (1.0 + 1e-9):
+        lines.append(_row("", f"note: stop = {stop:g} Hz is not on the series; the top frequency is {_num(f[-1])} Hz "
+                              "(the next step would pass stop)"))
+    return lines
+
+
+def _shape_text(body):
+    shape = dataclasses.asdict(body.shape)
+    return ", ".join(f"{k} {_vec(v) if isinstance(v, (tuple, list)) else v}" for k, v in shape.items())
+
+
+def _mesh_lines(case):
+    from bemcheck.mesh import plan_bands
+
+    lines = [_row("mesh", f"{case.mesh.elements_per_wavelength:g} elements per wavelength, bands of "
+                          f"{case.mesh.band_octaves:g} octave(s)")]
+    for b in plan_bands(case):
+        n = len(b.frequencies)
+        lines.append(_row("band", f"{b.index}: {_num(b.f_low)}-{_num(b.f_high)} Hz, {n} frequenc{'ies' if n != 1 else 'y'}, "
+                                  f"largest edge {1e3 * b.element_size:.1f} mm"))
+    for b in case.bodies:
+        lines.append(_row("body", f"{b.name} ({b.kind}) at {_vec(b.at)}, axis {_vec(b.axis)}: {_shape_text(b)}"))
+    return lines
+
+
+def _source_line(s):
+    if s.strength is not None:
+        what = f"q = {s.strength:g} m^3/s"
+    elif s.spectrum is not None:
+        what = f"plays note {s.spectrum.name!r}" if s.spectrum.name else "plays a note"
+    else:
+        what = "strength computed"
+    extra = [f"on {s.on}"] if s.on else []
+    if s.driver:
+        extra.append(f"driver {s.driver}")
+    if s.position_tolerance:
+        extra.append(f"position tolerance {1e3 * s.position_tolerance:g} mm")
+    tail = "; " + ", ".join(extra) if extra else ""
+    return _row("source", f"{s.name} ({s.role}, {s.radiator}) at {_vec(s.position)}, {what}{tail}")
+
+
+def _control_text(c):
+    text = f"objective {c.objective}"
+    if c.objective == "sector" and c.sector is not None:
+        text += f": {c.sector.from_deg:g} to {c.sector.to_deg:g} deg in {c.sector_plane}, effort {c.effort:g}"
+    if c.objective == "delay" and c.delay_distance is not None:
+        text += f": delay distance {c.delay_distance:g} m"
+    return text
+
+
+def _build_lines(case):
+    lines = []
+    for d in case.drivers:
+        params = ", ".join(f"{k} {getattr(d, k):g} {u}" for k, u in _DRIVER_UNITS)
+        lines.append(_row("driver", f"{d.name}: {params}"))
+    for n in case.all_notes:
+        harmonics = ", ".join(f"{f:.4g} Hz at {spl:g} dB" for f, spl in zip(n.harmonics, n.spl_at_1m))
+        lines.append(_row("note", f"{n.name or '(unnamed)'}: fundamental {n.fundamental:g} Hz; SPL at 1 m per "
+                                  f"harmonic: {harmonics}"))
+    if case.all_notes:
+        b = case.build
+        lines.append(_row("build", f"ear limit {b.ear_limit_dba:g} dB(A), largest loss of attenuation "
+                                   f"{b.max_loss_db:g} dB, {b.trials} random builds"))
+    return lines
+
+
+def case_lines(case, directions):
+    """The lines `bemcheck check` prints for ``case``.
+
+    Parameters
+    ----------
+    case : Case
+    directions : Directions
+        The case's far-field directions (:func:`bemcheck.observers.for_observers`).
+
+    Returns
+    -------
+    list of str
+
+    Examples
+    --------
+    >>> import bemcheck
+    >>> from bemcheck.observers import for_observers
+    >>> case = bemcheck.load_case(bemcheck.example_path("free-pair"))
+    >>> lines = case_lines(case, for_observers(case.observers.far_field))
+    >>> any(line.lstrip().startswith("mesh") for line in lines)  # no bodies, no mesh
+    False
+    """
+    ff = case.observers.far_field
+    lines = [_row("notes", case.notes)] if case.notes else []
+    lines.append(_row("medium", f"c = {case.medium.speed_of_sound:g} m/s, rho = {case.medium.density:g} kg/m^3"))
+    lines += _frequency_lines(case)
+    if case.bodies:
+        lines += _mesh_lines(case)
+    else:
+        lines.append(_row("bodies", "none: the BEM answers the free field (nothing is meshed)"))
+    lines += [_source_line(s) for s in case.sources]
+    kind = f"sphere, Lebedev degree {ff.degree}" if ff.sphere else f"circle in {ff.plane}, every {ff.step_deg:g} deg"
+    lines.append(_row("far field", f"{len(directions)} directions ({kind})"))
+    lines += [_row("point", f"{p.name} at {_vec(p.at)}") for p in case.observers.points]
+    if case.controls:
+        lines.append(_row("control", _control_text(case.control)))
+    tol = case.tolerance
+    sectors = "; ".join(f"{s.name} {s.from_deg:g} to {s.to_deg:g} deg" for s in tol.sectors)
+    lines.append(_row("tolerance", f"each source {tol.level_db:g} dB, {tol.phase_deg:g} deg; sectors: {sectors}"))
+    if case.controls:
+        lines.append(_row("", f"controlled system: attenuation at least min(predicted, {tol.attenuation_target_db:g} dB) "
+                              f"less {tol.attenuation_db:g} dB"))
+    return lines + _build_lines(case)
