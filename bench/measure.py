@@ -200,8 +200,7 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
     frequencies : sequence of float, optional
         Only these case frequencies (default: all).
     self_check : bool
-        Also time the error-check solve (second mesh) and the single-body
-        solves of each chosen frequency.
+        Also time the error-check solve (second mesh) of each chosen frequency.
     cache_dir : str, optional
         Mesh cache; every mesh is made before anything is timed.
     device : {"auto", "numba"}
@@ -218,7 +217,7 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
     from bemcheck.mesh import mesh_scene, plan_bands
     from bemcheck.observers import for_observers
     from bemcheck.run.sweep import CHECK, SOLVE, plan_tasks
-    from bemcheck.run.tasks import alone_case, bem_task, check_mesh
+    from bemcheck.run.tasks import bem_task, check_mesh
     from reference import reference_solve
 
     case = load_case(case_path)
@@ -230,7 +229,7 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
     def mesh_of(t):
         if t.kind == CHECK:
             return check_mesh(case, t.element_size, cache_dir)[0]
-        return mesh_scene(alone_case(case, t.body) if t.body else case, t.element_size, cache_dir=cache_dir)
+        return mesh_scene(case, t.element_size, cache_dir=cache_dir)
 
     with Clock() as meshing:
         meshes = {t.key: mesh_of(t) for t in tasks}
@@ -243,7 +242,7 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
     for t in tasks:
         with Clock() as c:
             arrays, meta = bem_task(case, t, device=device, cache_dir=cache_dir)
-        row = {"frequency": t.frequency, "kind": t.kind, "body": t.body, "unknowns": meta["unknowns"], "elements": meta["elements"],
+        row = {"frequency": t.frequency, "kind": t.kind, "unknowns": meta["unknowns"], "elements": meta["elements"],
                "device": meta["device"], "bemcheck": {"wall": c.wall, "cpu": c.cpu, "parts": meta["timings"]},
                "peak_rss": peak_rss()}
         if t.kind == SOLVE and np.isclose(t.frequency, reference_frequencies).any():
@@ -255,7 +254,7 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
             row["max_relative_difference"] = float((np.abs(f_bem - f_ref) / np.abs(f_ref).max(axis=0)).max())
         row["load"] = os.getloadavg()
         out["rows"].append(row)
-        what = "" if t.kind == SOLVE else f" {t.kind} {t.body or ''}".rstrip()
+        what = "" if t.kind == SOLVE else f" {t.kind}"
         print(f"sweep {t.frequency:.1f} Hz{what} N={meta['unknowns']}: {c.wall:.1f} s"
               + (f", reference {row['reference']['wall']:.1f} s" if "reference" in row else ""), file=sys.stderr, flush=True)
     out["peak_rss"] = peak_rss()

@@ -43,7 +43,7 @@ def _sweep(sweep, summary):
         b = r["bemcheck"]
         bp = b["parts"]
         ref = r.get("reference")
-        what = f"{r['frequency']:.1f}" + ("" if r["kind"] == "solve" else f" ({r['kind']} {r.get('body') or ''})".replace(" )", ")"))
+        what = f"{r['frequency']:.1f}" + ("" if r["kind"] == "solve" else f" ({r['kind']})")
         cells = [what, f"{r['unknowns']:,}", f"{_s(b['wall'])} ({_s(bp['assembly'])} / {_s(bp['lu'])} / {_s(bp['solve'])} / {_s(bp['fields'])})",
                  _s(b["cpu"])]
         if ref:
@@ -76,7 +76,7 @@ def _sweep(sweep, summary):
         f"{s['max_level_difference_db']:.1e} dB.",
         "",
         f"Whole sweep as `bemcheck run` plans it ({sweep['planned']} solves: {sweep['case_frequencies']} frequencies, "
-        f"the error checks and single-body solves, {sweep['harmonics']} harmonics of the notes): bemcheck {s['bemcheck_total'] / 60:.1f} min "
+        f"the error checks, {sweep['harmonics']} harmonics of the notes): bemcheck {s['bemcheck_total'] / 60:.1f} min "
         f"({s['bemcheck_measured'] / 60:.1f} min measured, {s['bemcheck_extrapolated']} solves on the band mesh "
         f"extrapolated at the median measured time); the reference {s['reference_total'] / 60:.1f} min "
         f"({s['reference_measured'] / 60:.1f} min measured, {s['reference_extrapolated']} solves extrapolated as "
@@ -84,7 +84,7 @@ def _sweep(sweep, summary):
         "",
         "What the verdict's extra solves add to a frequency's solve: "
         + (", ".join(f"{k} {100 * v:.0f} %" for k, v in s.get("extra_cost_per_solve", {}).items()) or "not measured")
-        + " (error check: the same frequency on the second mesh; alone: each body carrying a source, solved alone).",
+        + " (error check: the same frequency on the second mesh; the single-body solves come from the same matrix, inside the solve).",
         "",
         f"Cost of each further source at one frequency (median): the reference {s['per_source_reference']:.2f} s "
         f"(a new callable compiled, piston operators, one GMRES solve), bemcheck {s['per_source_bemcheck']:.3f} s "

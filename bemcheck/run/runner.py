@@ -19,7 +19,7 @@ from bemcheck.run.dataset import run_attributes
 from bemcheck.run.results import RESULTS_FILE, SUMMARY_FILE, read_dataset, write_dataset, write_summary
 from bemcheck.run.store import PartStore, RunLock
 from bemcheck.run.progress import COMPILE_HINT_S, Progress
-from bemcheck.run.sweep import ALONE, CHECK, SOLVE, execute, plan_tasks, task_label
+from bemcheck.run.sweep import CHECK, SOLVE, execute, plan_tasks, task_label
 from bemcheck.solvers.response import FieldResponse, free_response
 
 MODELS = ("free", "both")
@@ -104,14 +104,18 @@ def _response(task, arrays):
     return FieldResponse(task.frequency, arrays["far_field"], arrays["points"], arrays["impedance"], arrays["power_matrix"])
 
 
-def _own_body(case, frequencies, plan, parts, free):
-    """(F, S, D) far field of each source with its own body alone; a source on no body keeps its free field."""
-    alone = [t for t in plan if t.kind == ALONE]
+def _own_body(case, stored, free):
+    """(F, S, D) far field of each source with its own body alone; a source on no body keeps its free field.
+
+    ``stored`` holds each run frequency's SOLVE arrays, in order; a part
+    without ``own_far_field`` (a sweep answered by another solver) leaves
+    every source its free field.
+    """
     own = np.array([r.far_field.T for r in free])
-    index = {f: i for i, f in enumerate(frequencies)}
-    for t in alone:
-        columns = [j for j, s in enumerate(case.sources) if s.on == t.body]
-        own[index[t.frequency], columns] = parts[t.key][0]["far_field"].T
+    on_body = [j for j, s in enumerate(case.sources) if s.on is not None]
+    for i, arrays in enumerate(stored):
+        if on_body and "own_far_field" in arrays:
+            own[i, on_body] = arrays["own_far_field"].T[on_body]
     return own
 
 
@@ -174,7 +178,7 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
         responses=tuple(solved[f] for f in run),
         check=check,
         check_ratio=ratio,
-        own_body=_own_body(case, run, plan, parts, free),
+        own_body=_own_body(case, [stored[f] for f in run], free),
         metas=tuple(parts[solves[f].key][1] for f in run),
         solved=solved,
         stored=stored,
@@ -184,8 +188,7 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
 def _mesh_ahead(case, todo, cache_dir, progress):
     """Mesh what the tasks to do will solve on, here and now, each mesh with a line of its own.
 
-    The tasks then find their meshes in the mesh cache (a body alone reuses
-    its body's mesh); meshing here lets a run say what it is doing from its
+    The tasks then find their meshes in the mesh cache; meshing here lets a run say what it is doing from its
     first seconds, and a body that cannot be meshed stops the run before any
     solve.
     """

@@ -20,12 +20,12 @@ from bemcheck.errors import BemcheckInputError
 from bemcheck.run.tasks import PART_FORMAT
 
 # Kinds of task.  SOLVE: a case frequency (or a played harmonic) on its
-# band's mesh.  CHECK: the same frequency on a second mesh whose sizes differ
-# from the band's by a known ratio, for the numerical error estimate at that
-# frequency (bemcheck.compare.errors).  ALONE: the sources sitting on one body,
-# solved with that body alone, to tell the source model from the diffraction by
-# the other bodies (bemcheck.compare.decomposition).
-SOLVE, CHECK, ALONE = "solve", "check", "alone"
+# band's mesh, with every body that carries a source also solved alone (from
+# the diagonal blocks of the same matrix) to tell the source model from the
+# diffraction by the other bodies.  CHECK: the same frequency on a second mesh
+# whose sizes differ from the band's by a known ratio, for the numerical
+# error estimate at that frequency (bemcheck.compare.errors).
+SOLVE, CHECK = "solve", "check"
 
 # What `bemcheck run --verbose` shows beyond the progress lines (each task's
 # mesh, timings, device and stored file) goes to this logger at INFO.
@@ -47,9 +47,9 @@ _THREAD_VARS = ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS", "N
 class Task:
     """One BEM solve: ``frequency`` [Hz] on the mesh of ``element_size`` [m].
 
-    ``kind`` is SOLVE, CHECK (the second mesh of the error estimate) or
-    ALONE (the sources on ``body``, with that body alone); ``harmonic`` marks
-    a SOLVE at a played note's harmonic for the before-build check.
+    ``kind`` is SOLVE or CHECK (the second mesh of the error estimate);
+    ``harmonic`` marks a SOLVE at a played note's harmonic for the
+    before-build check.
     """
 
     key: str
@@ -57,7 +57,6 @@ class Task:
     band: int
     element_size: float
     kind: str = SOLVE
-    body: str | None = None
     harmonic: bool = False
 
 
@@ -111,11 +110,11 @@ def plan_tasks(case, bands, harmonics=(), frequencies=None):
     """
     base = physics_fingerprint(case)
 
-    def task(f, band, kind=SOLVE, body=None, harmonic=False):
+    def task(f, band, kind=SOLVE, harmonic=False):
         # PART_FORMAT: parts stored in another layout get other keys, never misread.
-        text = f"{base}|{f!r}|{band.element_size!r}|{kind}|{body}|{PART_FORMAT}"
+        text = f"{base}|{f!r}|{band.element_size!r}|{kind}|{PART_FORMAT}"
         key = hashlib.sha256(text.encode()).hexdigest()[:24]
-        return Task(key, f, band.index, band.element_size, kind, body, harmonic)
+        return Task(key, f, band.index, band.element_size, kind, harmonic)
 
     run = case.frequencies if frequencies is None else frequencies
     tasks = []
@@ -124,7 +123,6 @@ def plan_tasks(case, bands, harmonics=(), frequencies=None):
         tasks.append(task(f, band))
         if case.bodies:
             tasks.append(task(f, band, CHECK))
-            tasks.extend(task(f, band, ALONE, name) for name in bodies_with_sources(case))
     for f in sorted(set(harmonics) - set(run)):
         band = next((b for b in bands if b.f_low <= f <= b.f_high), None)
         if band is not None:
@@ -133,11 +131,9 @@ def plan_tasks(case, bands, harmonics=(), frequencies=None):
 
 
 def task_kind(task):
-    """What kind of task, in a word or two: "solve", "error check", "bell alone", "harmonic"."""
+    """What kind of task, in a word or two: "solve", "error check", "harmonic"."""
     if task.kind == CHECK:
         return "error check"
-    if task.kind == ALONE:
-        return f"{task.body} alone"
     return "harmonic" if task.harmonic else "solve"
 
 
@@ -160,8 +156,6 @@ def task_label(task, harmonics=None):
     'solve 400.0 Hz (band 0)'
     >>> task_label(Task("k", 898.0, 0, 0.1, kind=CHECK))
     'error check 898.0 Hz (band 0, second mesh)'
-    >>> task_label(Task("k", 898.0, 0, 0.1, kind=ALONE, body="bell"))
-    'bell alone 898.0 Hz (band 0)'
     >>> task_label(Task("k", 440.0, 0, 0.1, harmonic=True), {440.0: "harmonic 2 of A4"})
     'harmonic 2 of A4, 440.0 Hz (band 0)'
     """

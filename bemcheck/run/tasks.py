@@ -20,7 +20,7 @@ from bemcheck.observers import for_observers
 # Version of what a task stores.  It enters every task's key
 # (bemcheck.run.sweep.plan_tasks), so parts written in another format are
 # never read as this one.
-PART_FORMAT = 4
+PART_FORMAT = 5
 # The error-estimate mesh of a frequency has every size, the geometric bounds
 # included, this many times the band mesh's: P1 errors scale as h², so the
 # two solutions differ by (CHECK_COARSEN² − 1) times the band mesh's error
@@ -45,15 +45,31 @@ def _column_order(case):
     return points + pistons, points, groups
 
 
-def solve_case_frequency(case, mesh, frequency, directions, device="auto"):
+def _alone_groups(case, mesh, order):
+    """(domain tags, solver columns) of every body carrying a source, for ``solve_frequency(alone=...)``."""
+    from bemcheck.run.sweep import bodies_with_sources
+
+    column = np.argsort(order)  # case source i sits in solver column column[i]
+    return [(mesh.tags_of_body(name), [int(column[i]) for i, s in enumerate(case.sources) if s.on == name])
+            for name in bodies_with_sources(case)]
+
+
+def solve_case_frequency(case, mesh, frequency, directions, device="auto", alone=False):
     """The BEM FieldResponse arrays of ``case`` at ``frequency`` on ``mesh``, in case source order.
+
+    Parameters
+    ----------
+    alone : bool
+        Also solve every body that carries a source with only that body
+        present (``own_far_field``; see :func:`bemcheck.solvers.bem.solve_frequency`).
 
     Returns
     -------
     (dict, BemSolution)
         ``far_field`` (D, S), ``points`` (P, S), ``impedance`` (S, S),
-        ``power_matrix`` (S, S) with columns in ``case.sources`` order; and
-        the solver's own solution (columns in solver order).
+        ``power_matrix`` (S, S), and with ``alone`` ``own_far_field`` (D, S),
+        with columns in ``case.sources`` order; and the solver's own
+        solution (columns in solver order).
     """
     from bemcheck.solvers.bem import solve_frequency
     from bemcheck.solvers.bem_device import configure_device
@@ -62,7 +78,8 @@ def solve_case_frequency(case, mesh, frequency, directions, device="auto"):
     order, points, groups = _column_order(case)
     x = np.array([case.sources[i].position for i in points]).reshape(-1, 3)
     obs = np.array([p.at for p in case.observers.points]).reshape(-1, 3)
-    sol = solve_frequency(mesh, frequency, case.medium, x, directions.unit, obs, pistons=groups)
+    groups_alone = _alone_groups(case, mesh, order) if alone and mesh.n_triangles else ()
+    sol = solve_frequency(mesh, frequency, case.medium, x, directions.unit, obs, pistons=groups, alone=groups_alone)
     back = np.argsort(order)  # solver column j holds case source order[j]
     arrays = {
         "far_field": sol.far_field[:, back],
@@ -70,6 +87,8 @@ def solve_case_frequency(case, mesh, frequency, directions, device="auto"):
         "impedance": sol.impedance[np.ix_(back, back)],
         "power_matrix": sol.power_matrix[np.ix_(back, back)],
     }
+    if sol.own_far_field is not None:
+        arrays["own_far_field"] = sol.own_far_field[:, back]
     return arrays, sol
 
 
@@ -131,23 +150,6 @@ def check_mesh(case, element_size, cache_dir=None):
     return subdivided(band), CHECK_SUBDIVIDED
 
 
-def alone_case(case, body_name):
-    """``case`` with only the body ``body_name`` and the sources on it.
-
-    Examples
-    --------
-    >>> import bemcheck
-    >>> case = bemcheck.load_case(bemcheck.example_path("demo"))
-    >>> sub = alone_case(case, "cab_up")
-    >>> [b.name for b in sub.bodies], [s.name for s in sub.sources]
-    (['cab_up'], ['ctl_up'])
-    """
-    import dataclasses
-
-    return dataclasses.replace(case, bodies=(case.body(body_name),),
-                               sources=tuple(s for s in case.sources if s.on == body_name))
-
-
 def bem_task(case, task, device="auto", cache_dir=None):
     """Solve one sweep task; the answer is ``(arrays, meta)`` for the part store.
 
@@ -155,7 +157,7 @@ def bem_task(case, task, device="auto", cache_dir=None):
     ----------
     case : Case
     task : Task
-        Frequency [Hz], element size [m] and kind (SOLVE, CHECK, ALONE) of the solve.
+        Frequency [Hz], element size [m] and kind (SOLVE or CHECK) of the solve.
     device : {"auto", "numba"}
     cache_dir : path, optional
         Mesh cache folder.
@@ -163,33 +165,31 @@ def bem_task(case, task, device="auto", cache_dir=None):
     Returns
     -------
     (dict, dict)
-        Arrays: ``far_field`` (D, S), ``points`` (P, S), and for SOLVE and
-        CHECK also ``impedance`` and ``power_matrix`` (S, S); a CHECK adds
-        ``size_ratio`` (its mesh's sizes over the band mesh's), a SOLVE the
-        surface solution (:func:`stored_solve`).  ALONE columns are the
-        sources on ``task.body`` in case order.  Meta: mesh and timings.
+        Arrays: ``far_field`` (D, S), ``points`` (P, S), ``impedance`` and
+        ``power_matrix`` (S, S); a CHECK adds ``size_ratio`` (its mesh's
+        sizes over the band mesh's), a SOLVE the surface solution
+        (:func:`stored_solve`) and, where a source sits on a body,
+        ``own_far_field`` (D, S): each source with only its own body.
+        Meta: mesh and timings.
     """
     import time
 
     from bemcheck.mesh import SurfaceMesh, mesh_scene
-    from bemcheck.run.sweep import ALONE, CHECK, SOLVE
+    from bemcheck.run.sweep import CHECK, SOLVE
 
     start = time.perf_counter()
-    solved = alone_case(case, task.body) if task.kind == ALONE else case
     if not case.bodies:  # nothing scatters: the solver answers the free field
         mesh = SurfaceMesh(np.zeros((0, 3)), np.zeros((0, 3), dtype=int), np.zeros(0, dtype=int))
     elif task.kind == CHECK:
         mesh, ratio = check_mesh(case, task.element_size, cache_dir)
     else:
-        mesh = mesh_scene(solved, task.element_size, cache_dir=cache_dir)
+        mesh = mesh_scene(case, task.element_size, cache_dir=cache_dir)
     directions = for_observers(case.observers.far_field)
-    arrays, sol = solve_case_frequency(solved, mesh, task.frequency, directions, device)
+    arrays, sol = solve_case_frequency(case, mesh, task.frequency, directions, device, alone=task.kind == SOLVE)
     if task.kind == SOLVE:
         arrays.update(_surface_arrays(sol, mesh))
-    elif task.kind == CHECK:
-        arrays["size_ratio"] = np.array(ratio)
     else:
-        arrays = {"far_field": arrays["far_field"], "points": arrays["points"]}
+        arrays["size_ratio"] = np.array(ratio)
     seconds = time.perf_counter() - start
     meta = {
         "elements": int(mesh.n_triangles),

@@ -85,6 +85,10 @@ class BemSolution:
         ``"numba"`` or ``"none"`` (no bodies, nothing assembled).
     seconds : dict
         Wall time [s]: ``assembly``, ``lu``, ``solve``, ``fields``.
+    own_far_field : (D, S) ndarray of complex or None
+        With ``alone`` given: the far field of each listed source with only
+        its own body present; the other columns hold the incident field
+        alone (a monopole's free field).  None otherwise.
     """
 
     frequency: float
@@ -101,6 +105,7 @@ class BemSolution:
     elements_per_wavelength: float
     device: str
     seconds: dict
+    own_far_field: np.ndarray | None = None
 
     def power(self, q):
         """Radiated power Re(qᴴ P q) of strengths ``q`` [W].
@@ -115,7 +120,8 @@ class BemSolution:
 
 
 def solve_frequency(
-    mesh, frequency, medium, monopoles, directions=None, points=None, pistons=(), velocities=None, *, power=True, coupling=None
+    mesh, frequency, medium, monopoles, directions=None, points=None, pistons=(), velocities=None, *, power=True, coupling=None,
+    alone=()
 ):
     """Solve the rigid-body scattering of every source at one frequency.
 
@@ -146,6 +152,11 @@ def solve_frequency(
         is then NaN).
     coupling : complex, optional
         Burton–Miller η, default i/k; 0 for the plain equation (studies only).
+    alone : sequence of (sequence of int, sequence of int)
+        Bodies to solve alone as well, each as (its domain tags in ``mesh``,
+        the solver columns of the sources on it): the diagonal block of the
+        scene's matrix is the body's own, so it costs one small LU and no
+        assembly (``BemSolution.own_far_field``).
 
     Returns
     -------
@@ -185,7 +196,8 @@ def solve_frequency(
         at_obs = flds.moments(obs)
         check_targets(at_obs, obs, "points")
 
-        system = assemble(surface, flds.k, coupling)
+        blocks = [np.unique(surface.triangles[np.isin(surface.domains, tags)]) for tags, _ in alone]
+        system = assemble(surface, flds.k, coupling, blocks)
         t1 = time.perf_counter()
         iwr = 1j * 2.0 * np.pi * frequency * medium.density
         rhs = -iwr * (at_src.single + system.coupling * at_src.double).T
@@ -203,6 +215,7 @@ def solve_frequency(
         field[on] = at_obs.nearest[on] @ u
         far = flds.far_field(dirs, u)
         p_mat = _power_matrix(flds, surface, x_src, u, medium) if power else np.full(impedance.shape, np.nan + 0j)
+        own = _own_far_field(system, flds, dirs, rhs, [c for _, c in alone]) if alone else None
         t3 = time.perf_counter()
 
         pressure = np.full((len(mesh.vertices), u.shape[1]), np.nan + 0j)
@@ -223,7 +236,17 @@ def solve_frequency(
             elements_per_wavelength=2.0 * np.pi / flds.k / h,
             device=system.device,
             seconds={**system.seconds, "solve": t2 - t1, "fields": t3 - t2},
+            own_far_field=own,
         )
+
+
+def _own_far_field(system, flds, dirs, rhs, columns):
+    """(D, S) far fields with each listed source's own body alone (see ``solve_frequency``'s ``alone``)."""
+    own = flds.far_field(dirs, np.zeros(rhs.shape, dtype=complex))
+    for i, cols in enumerate(columns):
+        u = system.solve_alone(i, rhs)
+        own[:, cols] = flds.far_field(dirs, u)[:, cols]
+    return own
 
 
 def _power_matrix(flds, surface, x_src, u, medium):

@@ -51,6 +51,11 @@ class System:
         ``"numba"``.
     seconds : dict
         Wall time [s] of ``"assembly"`` and ``"lu"``.
+    blocks : tuple of (ndarray, tuple)
+        For each body kept alone: its vertex indices and the LU of the
+        matrix's diagonal block on them, which is that body's own
+        Burton–Miller matrix (P1 unknowns of distinct bodies are distinct,
+        and every entry integrates over the test and trial supports only).
     """
 
     k: float
@@ -60,10 +65,22 @@ class System:
     grid: object
     device: str
     seconds: dict
+    blocks: tuple = ()
 
     def solve(self, rhs):
         """Solve for all right-hand sides at once: (nv, S) -> (nv, S) surface pressures."""
         return lu_solve(self.lu, rhs, trans=1, check_finite=False)
+
+    def solve_alone(self, i, rhs):
+        """Surface pressures with only block ``i``'s body present: (nv, S) -> (nv, S), zero off that body.
+
+        ``rhs`` is the whole scene's right-hand side; its rows on the body are
+        the body's own (the incident field and the prescribed velocities on it).
+        """
+        idx, lu = self.blocks[i]
+        u = np.zeros(rhs.shape, dtype=complex)
+        u[idx] = lu_solve(lu, rhs[idx], trans=1, check_finite=False)
+        return u
 
 
 def _grid(surface):
@@ -99,7 +116,7 @@ def available_memory():
     return None
 
 
-def check_memory(n_unknowns, available=None):
+def check_memory(n_unknowns, available=None, block_unknowns=()):
     """Refuse a solve whose dense matrices would not fit in memory, before allocating them.
 
     Parameters
@@ -108,6 +125,8 @@ def check_memory(n_unknowns, available=None):
         P1 unknowns N (mesh vertices).
     available : int, optional
         Bytes free; default :func:`available_memory`.
+    block_unknowns : sequence of int
+        Unknowns of the bodies also solved alone: one more dense block each.
 
     Raises
     ------
@@ -119,7 +138,7 @@ def check_memory(n_unknowns, available=None):
     >>> check_memory(1_000, available=10**9)   # 32 MB needed: fine
     """
     available = available_memory() if available is None else available
-    needed = DENSE_ARRAYS * 16.0 * float(n_unknowns) ** 2
+    needed = DENSE_ARRAYS * 16.0 * float(n_unknowns) ** 2 + 16.0 * sum(float(n) ** 2 for n in block_unknowns)
     if available is not None and needed > available:
         gib = 1024.0**3
         raise BemcheckInputError(
@@ -129,7 +148,7 @@ def check_memory(n_unknowns, available=None):
         )
 
 
-def assemble(surface, k, coupling=None):
+def assemble(surface, k, coupling=None, blocks=()):
     """Assemble and LU-factorise the Burton–Miller matrix of ``surface`` at wavenumber ``k``.
 
     Parameters
@@ -141,22 +160,27 @@ def assemble(surface, k, coupling=None):
     coupling : complex, optional
         η; default i/k.  η = 0 gives the plain equation, which fails at the
         interior eigenfrequencies (for studies only).
+    blocks : sequence of (n_b,) array_like of int
+        Vertex indices of bodies to be solvable alone too (see ``System.blocks``).
 
     Returns
     -------
     System
     """
-    check_memory(surface.n_vertices)
+    check_memory(surface.n_vertices, block_unknowns=[len(b) for b in blocks])
     device = current_device()
     eta = 1j / k if coupling is None else complex(coupling)
     t0 = time.perf_counter()
     grid = _grid(surface)
     a = burton_miller_matrix(surface, grid, k, eta)
     t1 = time.perf_counter()
+    # the blocks are copied out before the whole matrix is factorised in place
+    kept = tuple((np.asarray(b), lu_factor(a[np.ix_(b, b)].T, overwrite_a=True, check_finite=False))
+                 for b in (np.asarray(b, dtype=np.intp) for b in blocks))
     lu = lu_factor(a.T, overwrite_a=True, check_finite=False)
     t2 = time.perf_counter()
     note_assembly()
-    return System(k, eta, lu, surface, grid, device, {"assembly": t1 - t0, "lu": t2 - t1})
+    return System(k, eta, lu, surface, grid, device, {"assembly": t1 - t0, "lu": t2 - t1}, kept)
 
 
 def velocity_rhs(system, support, g):

@@ -72,7 +72,6 @@ def test_each_task_says_what_it_is():
     label = task_label(Task("k", f2, 0, 0.06, harmonic=True), names)
     assert label.startswith("harmonic 2 of note 'Bb3', 466.2 Hz")
     assert task_label(Task("k", 898.0, 0, 0.06, kind="check")).startswith("error check 898.0 Hz")
-    assert task_label(Task("k", 898.0, 0, 0.06, kind="alone", body="bell")).startswith("bell alone 898.0 Hz")
 
 
 def test_on_a_terminal_the_lines_scroll_above_a_live_bar():
