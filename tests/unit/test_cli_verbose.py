@@ -167,7 +167,8 @@ def test_verbose_box_mesh_figures_follow_from_the_mesh(box_runs):
     assert len(times) == 6 and all(d == device for _, _, d in times)
     for parts, total, _ in times:
         named = {k: float(v) for k, v in re.findall(r"(\w[\w ,()-]*?) ([\d.]+) s", parts)}
-        assert {"assembly", "lu"} <= set(named) and sum(named.values()) == pytest.approx(float(total), abs=0.02)
+        # each part and the total are printed to 0.01 s: up to half a unit of rounding in each
+        assert {"assembly", "lu"} <= set(named) and sum(named.values()) == pytest.approx(float(total), abs=0.005 * (len(named) + 1))
 
 
 def test_verbose_box_reports_cache_hits_and_the_numerical_error(box_runs):
