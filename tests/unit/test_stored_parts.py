@@ -26,7 +26,7 @@ def _run(tmp_path, name, capsys):
     case = tmp_path / "case.toml"
     case.write_text(FREE_CASE)
     out = tmp_path / name
-    code = main(["run", str(case), "--out", str(out), "--model", "bem", "--no-report"])
+    code = main(["run", str(case), "--out", str(out), "--model", "both", "--no-report"])
     return code, capsys.readouterr().err, out
 
 

@@ -91,7 +91,7 @@ def test_no_scheduler_there_is_refused_in_bounded_time(kind, tmp_path, capsys, m
     case_file.write_text(FREE_CASE)
     out = tmp_path / "out"
     code = []
-    argv = ["run", str(case_file), "--out", str(out), "--model", "bem", "--no-report", "--scheduler", address]
+    argv = ["run", str(case_file), "--out", str(out), "--model", "both", "--no-report", "--scheduler", address]
     runner = threading.Thread(target=lambda: code.append(main(argv)), daemon=True)
     runner.start()
     runner.join(HANG_S)
