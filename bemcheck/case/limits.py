@@ -75,7 +75,7 @@ MAX_TRIALS = 100_000
 # Memory the results take per frequency, direction and signal (each source and
 # the controlled system): complex pressures of both models, departures, status
 # and masks, with the copies made while combining and writing.  Measured: 139
-# bytes (peak resident memory of `bemcheck run` on a case without
+# bytes (peak resident memory of `bemcheck run` (both models) on a case without
 # bodies, 181 frequencies x 3,600 directions x 3 signals, 485 MiB against 226 MiB
 # with 12 directions); rounded up.
 RESULT_BYTES = 200
