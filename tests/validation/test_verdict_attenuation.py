@@ -240,3 +240,22 @@ def test_decomposition_on_two_spheres(tmp_path):
     np.testing.assert_allclose(ds["source_model_level_db"].values[:, 0] + ds["other_bodies_level_db"].values[:, 0],
                                total, atol=1e-9)
     assert np.abs(ds["other_bodies_level_db"].values).max() > 0.1  # the other sphere does scatter
+
+
+def test_rules_of_thumb_say_what_each_length_is_and_where_it_falls():
+    """ka = 0.5 with a the body's bounding radius (common practice, no source): for the
+    demo's bell, a = sqrt(mouth_radius² + length²) = sqrt(0.09² + 0.35²) m, so 343 × 0.5 /
+    (2π a) = 75.5 Hz, below the 100-898 Hz band; kd = π with d the distance to the nearest
+    primary (Nelson et al. 1987) at c / 2d."""
+    import bemcheck
+    from bemcheck.compare import rules_of_thumb
+
+    case = bemcheck.load_case(bemcheck.example_path("demo"))
+    rows = {(r["rule"], r["what"]): r for r in rules_of_thumb(case)}
+    bell = rows[("ka = 0.5", "bell")]
+    a = np.hypot(0.09, 0.35)
+    assert bell["length_m"] == pytest.approx(a) and "bounding radius" in bell["length"]
+    assert bell["frequency_hz"] == pytest.approx(0.5 * 343.0 / (2 * np.pi * a)) and bell["in_band"] == "below the band"
+    stand = rows[("kd = π", "ctl_stand")]
+    d = np.linalg.norm(np.subtract(case.sources[4].position, case.sources[0].position))
+    assert stand["frequency_hz"] == pytest.approx(343.0 / (2 * d)) and stand["in_band"] == "above the band"
