@@ -1,4 +1,4 @@
-"""Catalogue of bad inputs, end to end through the `bemcheck` command (issue 9).
+"""Catalogue of bad inputs, end to end through the `bemcheck` command.
 
 Every row runs ``main([...])`` in this process and asserts the contract of
 ``bemcheck/cli.py``: exit code 2, a message on stderr naming the file, the key

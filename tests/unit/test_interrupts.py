@@ -1,4 +1,4 @@
-"""Interrupted and overlapping runs, and numbers that must never be silently wrong (issue 9).
+"""Interrupted and overlapping runs, and numbers that must never be silently wrong.
 
 Real `bemcheck run` processes are killed while the run folder is watched,
 so each signal lands at a known stage; the rerun must give what an
