@@ -53,7 +53,7 @@ def sweep_summary(sweep):
 
     The speed-up is the median over the frequencies both codes solved of
     reference time / bemcheck time.  Solves the reference was not timed on
-    (the self-check on the finer mesh, the harmonics) are extrapolated: the
+    (the error checks, the harmonics) are extrapolated: the
     harmonics at bemcheck's median time on the band mesh, the reference's
     missing solves at bemcheck's time times the median ratio.
     """
