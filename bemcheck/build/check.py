@@ -14,7 +14,8 @@ import numpy as np
 import xarray as xr
 
 from bemcheck.build.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
-from bemcheck.build.notes import Demand, check_drivers, primary_volume_velocity
+from bemcheck.build.note_levels import note_lines, note_strengths, note_variables, primary_weights
+from bemcheck.build.notes import Demand, check_drivers
 from bemcheck.build.placement import PERCENTILES, placement_study
 from bemcheck.build.safety import ear_levels
 from bemcheck.observers import for_observers
@@ -42,11 +43,24 @@ class BuildReport:
     lines: tuple
 
 
-def _note_primaries(case, spectrum):
-    """(H, Np) primary strengths for a note: its levels shared in proportion to the primaries' strengths."""
-    q_note = primary_volume_velocity(spectrum, case.medium)
-    given = np.array([s.strength if s.strength is not None else 1.0 for s in case.primaries], dtype=float)
-    return q_note[:, None] * (given / given.sum())[None, :]
+def _note_primaries(case, strengths):
+    """(H, Np) primary strengths for a note: each harmonic's strength shared in proportion to the primaries' strengths."""
+    used = np.array([s.used_m3s for s in strengths])
+    return used[:, None] * primary_weights(case)[None, :]
+
+
+def _field_at(case, surface_at):
+    """``field_at(frequency, points)`` for :func:`note_strengths`: the stored BEM solve's field, or why there is none."""
+    def field_at(f, points):
+        if not case.bodies:
+            return "no bodies: the free field is the monopole's"
+        stored = surface_at(f) if surface_at is not None else None
+        if stored is None:
+            return "the BEM was not solved at this frequency" if surface_at is not None else "no BEM in this run"
+        if isinstance(stored, str):
+            return stored
+        return stored.field_at(case.medium, points)
+    return field_at
 
 
 def harmonic_plan(case):
@@ -90,7 +104,9 @@ def before_build(case, free_at, bem_at=None, surface_at=None):
     p_without = np.zeros((n_h, n_p), complex)
     p_with = np.zeros((n_h, n_p), complex)
     att_designed = np.zeros(n_h)
-    q_by_note = {n.name: _note_primaries(case, n) for n in case.all_notes}
+    field_at = _field_at(case, surface_at)
+    strengths = {n.name: note_strengths(case, n, field_at) for n in case.all_notes}
+    q_by_note = {name: _note_primaries(case, s) for name, s in strengths.items()}
     for i, (note, h, f) in enumerate(plan):
         q_p = q_by_note[note][h - 1]
         free = free_at(f)
@@ -110,7 +126,11 @@ def before_build(case, free_at, bem_at=None, surface_at=None):
     ears = _ears(case, plan, p_without, p_with, check)
     placement = placement_study(case, plan, q_designed, surface_at)
     ds = _dataset(case, plan, names, q_designed, q_reopt, scattered, p_without, p_with, att_designed, placement)
+    by_harmonic = [s for n in case.all_notes for s in strengths[n.name]]
+    note_variables(ds, by_harmonic)
     summary, lines = _go_no_go(case, check, ears, placement, scattered, bem_at is not None)
+    summary["note_levels"] = [s.as_dict() for s in by_harmonic]
+    lines += note_lines(by_harmonic, case.all_notes)
     return BuildReport(ds, summary, tuple(lines))
 
 

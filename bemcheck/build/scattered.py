@@ -95,6 +95,35 @@ class StoredSolve:
         out[mono] = np.maximum(distance - MIN_SOURCE_GAP * h, 0.0)
         return out
 
+    def field_at(self, medium, points):
+        """Total pressure at ``points`` (P, 3) [m] per unit strength of each source: (P, S), case order.
+
+        The incident field of the monopoles plus the field the stored
+        surface solution radiates (Kirchhoff–Helmholtz integral); the free
+        field without bodies.  Points must lie in the air.
+
+        Examples
+        --------
+        >>> from bemcheck.case.model import Medium
+        >>> from bemcheck.mesh.surface import SurfaceMesh
+        >>> none = SurfaceMesh(np.zeros((0, 3)), np.zeros((0, 3), int), np.zeros(0, int))
+        >>> s = StoredSolve(100.0, np.zeros((1, 3)), np.zeros((1, 1), complex), np.zeros((0, 1), complex),
+        ...                 np.zeros((0, 0)), none, np.array([0]), np.zeros((1, 3)))
+        >>> round(float(abs(s.field_at(Medium(343.0, 1.2), [[1.0, 0.0, 0.0]])[0, 0])), 2)
+        60.0
+        """
+        x = np.asarray(points, dtype=float).reshape(-1, 3)
+        f = self.frequency
+        incident = freefield.transfer_matrix(f, medium, self.monopoles, x).reshape(len(x), len(self.monopoles))
+        surface = surface_from_mesh(self.mesh)
+        if surface.n_triangles == 0:
+            return incident[:, self.column]
+        fields = Fields.build(surface, f, medium, self.monopoles, self.normal_velocity)
+        mom = fields.moments(x)
+        check_targets(mom, x, "points")
+        field = fields.pad(incident) + fields.scattered(mom, self.surface_pressure[surface.mesh_vertex])
+        return field[:, self.column]
+
     def impedance_at(self, medium, order):
         """Impedances of the sources ``order`` (case indices), in that order, at moved positions.
 

@@ -1,6 +1,8 @@
 """Read a case file (TOML) into a validated :class:`~bemcheck.case.model.Case`."""
 
+import math
 import tomllib
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -124,7 +126,8 @@ def parse_case(text, path=Path("<case>")):
     drivers = tuple(_driver(r) for r in top.subs("driver"))
     _unique([d.name for d in drivers], "driver", file)
     _check_driver_refs(sources, drivers, file)
-    played = tuple(_note(r) for r in top.subs("note"))
+    first = next(s for s in sources if s.role == "primary")
+    played = tuple(_measured_at(_note(r), first, by_name) for r in top.subs("note"))
     _unique([n.name for n in played], "note", file)
     build = _build(top.sub("build", None))
     top.done()
@@ -267,17 +270,18 @@ def _source(r, bodies):
     driver = r.string("driver", None)
     tolerance = r.number("position_tolerance", 0.0, within=limits.PLACEMENT)
     r.done()
-    return Source(
+    source = Source(
         name=name,
         role=role,
         position=tuple(float(v) for v in position),
         on=on,
         strength=strength,
-        spectrum=spectrum,
+        spectrum=None,
         radiator=radiator,
         driver=driver,
         position_tolerance=tolerance,
     )
+    return source if spectrum is None else replace(source, spectrum=_measured_at(spectrum, source, bodies))
 
 
 def _position_on(body, radiator):
@@ -399,12 +403,40 @@ def _spectrum(r, name):
     for i, level in enumerate(levels):
         if not -20.0 <= level <= 200.0:
             r.fail(f"spl_at_1m[{i}]", "an SPL in dB re 20 µPa between -20 and 200", level)
+    direction = r.raw("direction", None)
+    if direction is not None:
+        direction = _direction(r, direction)
+    distance = r.number("distance", 1.0, positive=True)
     r.done()
-    return Spectrum(fundamental, levels, name)
+    return Spectrum(fundamental, levels, name, direction=direction, distance=distance)
+
+
+def _direction(r, value):
+    """Unit vector [x, y, z] from ``[azimuth_deg, elevation_deg]`` in the scene frame:
+    azimuth from +x toward +y, elevation toward +z."""
+    expected = "an angle pair [azimuth_deg, elevation_deg] (azimuth from +x toward +y, elevation toward +z)"
+    if not isinstance(value, list) or len(value) != 2:
+        r.fail("direction", expected, value)
+    az = r.check_number("direction[0]", value[0], low=-360.0, high=360.0)
+    el = r.check_number("direction[1]", value[1], low=-90.0, high=90.0)
+    a, e = math.radians(az), math.radians(el)
+    return (math.cos(e) * math.cos(a), math.cos(e) * math.sin(a), math.sin(e))
 
 
 def _note(r):
     return _spectrum(r, r.string("name"))
+
+
+def _measured_at(spectrum, source, bodies):
+    """The spectrum with its measurement point resolved from ``source``, the primary it is
+    measured from: along ``direction``, by default the axis of the body the primary is on
+    (+x for a primary on no body)."""
+    d = spectrum.direction
+    if d is None:
+        d = tuple(float(v) for v in np.asarray(bodies[source.on].axis) / np.linalg.norm(bodies[source.on].axis)) \
+            if source.on is not None else (1.0, 0.0, 0.0)
+    at = tuple(float(v) for v in np.asarray(source.position) + spectrum.distance * np.asarray(d))
+    return replace(spectrum, direction=d, at=at)
 
 
 _DRIVER_KEYS = ("re", "bl", "mms", "cms", "rms", "sd", "xmax", "vb", "rated_power")

@@ -92,11 +92,20 @@ class Body:
 
 @dataclass(frozen=True)
 class Spectrum:
-    """A played note: fundamental [Hz] and the SPL at 1 m of each harmonic [dB re 20 µPa]."""
+    """A played note: fundamental [Hz] and the SPL of each harmonic where it was measured [dB re 20 µPa].
+
+    ``direction`` (unit vector, scene frame) and ``distance`` [m] say where
+    the levels were measured, from the primary; ``at`` is that point [m],
+    resolved at load time (None only for a spectrum built by hand, which is
+    then read as measured at 1 m in the free field).
+    """
 
     fundamental: float
     spl_at_1m: tuple[float, ...]
     name: str = ""
+    direction: Vec3 | None = None
+    distance: float = 1.0
+    at: Vec3 | None = None
 
     @property
     def harmonics(self):

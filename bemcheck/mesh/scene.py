@@ -163,6 +163,14 @@ def check_clearances(case, mesh, element_size, source_margin=None):
             if _inside([obs.at], v, tri)[0]:
                 raise GeometryError(f"observer point '{obs.name}' at {_fmt(obs.at)} is inside "
                                     f"body '{name}'; expected a point in the air")
+    measured = [(f"note[{i}]", n) for i, n in enumerate(case.played)]
+    measured += [(f"source[{i}].spectrum", s.spectrum) for i, s in enumerate(case.sources) if s.spectrum is not None]
+    for key, note in measured:
+        for name, tri in surfaces.items():
+            if note.at is not None and _inside([note.at], v, tri)[0]:
+                raise GeometryError(f"{case.path}: {key}.distance: the point the levels of '{note.name}' were "
+                                    f"measured at ({note.distance:g} m from the primary along {key}.direction) "
+                                    f"at {_fmt(note.at)} is inside body '{name}'; expected a point in the air")
 
 
 def _check_pair(a, b, v, ta, tb, h):

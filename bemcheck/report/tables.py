@@ -303,6 +303,34 @@ def placement_rows(bb):
     return rows, notes
 
 
+def note_level_rows(bb):
+    """How each harmonic's level became the primary strength: route, both strengths, their difference.
+
+    Examples
+    --------
+    >>> rows = note_level_rows({"note_levels": [{"note": "A", "harmonic": 1, "frequency_hz": 110.0, "route": "monopole",
+    ...     "reason": "no bodies", "volume_velocity_peak_m3s": 1e-3, "monopole_volume_velocity_peak_m3s": 1e-3,
+    ...     "bem_volume_velocity_peak_m3s": None, "bem_minus_monopole_db": None}]})
+    >>> rows[1]
+    ('A', '1', '110 Hz', 'monopole (no bodies)', '0.001', '0.001', '', '')
+    """
+    header = ("note", "harmonic", "frequency", "strength from", "used [m³/s peak]", "monopole [m³/s peak]",
+              "BEM [m³/s peak]", "BEM − monopole [dB]")
+    rows = [header]
+    for r in bb.get("note_levels", []):
+        route = r["route"] if r["route"] == "bem" else f"{r['route']} ({r['reason']})"
+        bem, diff = r["bem_volume_velocity_peak_m3s"], r["bem_minus_monopole_db"]
+        rows.append((r["note"], str(r["harmonic"]), hz(r["frequency_hz"]), route, _cell(r["volume_velocity_peak_m3s"]),
+                     _cell(r["monopole_volume_velocity_peak_m3s"]), "" if bem is None else _cell(bem),
+                     "" if diff is None else f"{diff:+.1f}"))
+    return rows
+
+
+NOTE_LEVELS_NOTE = ("Each harmonic's level, measured at the note's direction and distance from the primary, gives the "
+                    "primary's strength through the BEM's field at that point where the BEM ran (the bell's "
+                    "directivity and the scattering included), else through a free-field monopole.")
+
+
 def before_build_sections(summary):
     """The before-build check (``summary["before_build"]``) as (title, rows, notes) tables, or none.
 
@@ -318,6 +346,8 @@ def before_build_sections(summary):
     if bb.get("drives"):
         keep = ("source", "driver", "note", "harmonic", "frequency", "volume_velocity", "voltage", "excursion", "nominal_power", "excursion_margin_db", "power_margin_db")
         sections.append((DRIVE_TITLE, records_rows([{k: r[k] for k in keep if k in r} for r in bb["drives"]]), ()))
+    if bb.get("note_levels"):
+        sections.append(("Primary strength from the played levels", note_level_rows(bb), (NOTE_LEVELS_NOTE,)))
     for e in bb.get("ears", []):
         rows = [("point", "dB(A) without control", "dB(A) with control")]
         rows += [(p, f"{a:.1f}", f"{b:.1f}") for p, a, b in zip(e["points"], e["dba_without"], e["dba_with"])]

@@ -73,6 +73,7 @@ far_field = { plane = "xy", step_deg = 30.0 }
 points = [ { name = "ear", at = [0.0, 1.0, 0.0] } ]
 """
 
+NOTE = '[[note]]\nname = "n"\nfundamental = 100.0\nspl_at_1m = [90.0]\n{where}\n[observers]'
 BOX = '[[body]]\nname = "cab2"\nkind = "box"\nsize = [0.2, 0.2, 0.2]\nat = [{x}, 0.0, 0.0]\n[[source]]\nname = "p"'
 
 
@@ -266,6 +267,18 @@ ROWS = [
         why="mesh groups are named <body>.<face>: a body 'cab2.x' would pass for a face of 'cab2'"),
     Row("empty frequency subset", ("--frequencies", "empty value"), extra=("--frequencies", "")),
     Row("blank frequency subset", ("--frequencies", "empty value"), extra=("--frequencies", "  ")),
+    # -- where a note's levels were measured -------------------------------
+    Row("note direction given as a vector", ("{case}", "note[0].direction", "an angle pair [azimuth_deg, elevation_deg]"),
+        changes=(("[observers]", NOTE.format(where="direction = [1.0, 0.0, 0.0]")),)),
+    Row("note elevation beyond the pole", ("{case}", "note[0].direction[1]", "≤ 90"),
+        changes=(("[observers]", NOTE.format(where="direction = [0.0, 120.0]")),)),
+    Row("note distance zero", ("{case}", "note[0].distance", "a positive number"),
+        changes=(("[observers]", NOTE.format(where="distance = 0.0")),)),
+    Row("note distance negative", ("{case}", "note[0].distance", "a positive number"),
+        changes=(("[observers]", NOTE.format(where="distance = -1.0")),)),
+    Row("note measured inside a body", ("{case}", "note[0].distance", "inside body 'cab'", "expected a point in the air"),
+        changes=(("[observers]", NOTE.format(where="direction = [180.0, 0.0]\ndistance = 0.45")),),
+        why="primary at x = 0.5 m, 0.45 m toward -x: (0.05, 0, 0), |0.05| < 0.1: inside the octahedron"),
 ]
 
 

@@ -84,3 +84,71 @@ def test_missing_or_unknown_driver_names_the_source():
         check_drivers({"demo": DEMO}, {}, need, AIR, where="demo.toml: ")
     with pytest.raises(CaseError, match=r"source `c1`\.driver: no driver called 'tiny' \(defined: demo\)"):
         check_drivers({"demo": DEMO}, {"c1": "tiny"}, need, AIR)
+
+
+MEASURED = """
+[case]
+title = "Where a note was measured (invented test layout)"
+[frequencies]
+list = [200.0]
+[[body]]
+name = "ball"
+kind = "sphere"
+at = [1.0, 2.0, 0.5]
+axis = [0.0, 3.0, 4.0]
+radius = 0.1
+[[source]]
+name = "p"
+role = "primary"
+on = "ball"
+{own}
+[[source]]
+name = "free"
+role = "primary"
+at = [-1.0, 0.0, 0.0]
+strength = 1e-3
+[[note]]
+name = "n"
+fundamental = 100.0
+spl_at_1m = [90.0]
+{where}
+"""
+
+
+def _measured(own="strength = 1e-3", where=""):
+    from bemcheck.case import parse_case
+
+    return parse_case(MEASURED.format(own=own, where=where))
+
+
+def test_note_measured_on_the_primary_axis_by_default():
+    """No `direction`: the axis of the body the first primary sits on (here (0, 0.6, 0.8)),
+    `distance` 1 m by default; the point is the primary's position plus distance × direction."""
+    case = _measured()
+    note, p = case.played[0], case.sources[0]
+    assert note.direction == pytest.approx((0.0, 0.6, 0.8))
+    assert note.distance == 1.0
+    assert note.at == pytest.approx(np.add(p.position, (0.0, 0.6, 0.8)))
+    assert np.linalg.norm(np.subtract(p.position, (1.0, 2.0, 0.5))) == pytest.approx(0.12)
+
+
+def test_note_direction_as_azimuth_and_elevation():
+    """direction = [azimuth, elevation] in degrees: (cos e cos a, cos e sin a, sin e), azimuth
+    from +x toward +y, elevation toward +z; [90, 0] is +y, [0, 90] is +z, [225, -30] is
+    (-0.6124, -0.6124, -0.5)."""
+    for angles, unit in (([90.0, 0.0], (0.0, 1.0, 0.0)), ([0.0, 90.0], (0.0, 0.0, 1.0)),
+                         ([225.0, -30.0], (-0.612372, -0.612372, -0.5))):
+        note = _measured(where=f"direction = {angles}\ndistance = 2.0").played[0]
+        assert note.direction == pytest.approx(unit, abs=1e-6)
+        assert note.distance == 2.0
+
+
+def test_a_primary_spectrum_is_measured_from_its_own_primary():
+    """A [source.spectrum] is measured from the primary it belongs to; on no body, along +x."""
+    spec = MEASURED.replace('at = [-1.0, 0.0, 0.0]\nstrength = 1e-3',
+                            'at = [-1.0, 0.0, 0.0]\n[source.spectrum]\nfundamental = 50.0\nspl_at_1m = [80.0]\ndistance = 3.0')
+    from bemcheck.case import parse_case
+
+    case = parse_case(spec.format(own="strength = 1e-3", where=""))
+    own = case.sources[1].spectrum
+    assert own.direction == (1.0, 0.0, 0.0) and own.at == pytest.approx((2.0, 0.0, 0.0))

@@ -88,15 +88,16 @@ def check_of(case, surface_at):
     return before_build(case, free_at, free_at, surface_at)
 
 
-def never(f):
-    raise AssertionError("no stored solve may be asked for")
+def no_surface(f):
+    """The note levels ask every harmonic's stored solve for the primary's field; none here."""
+    return "stand-in: no surface solution"
 
 
 def test_controls_on_cabinets_are_never_given_a_scattered_spread():
     """A piston on a cabinet's face moves with its cabinet: no scattered figure, the reason
     said, the free-field figure kept and labelled as such, no go/no-go item invented."""
     case = layout(BOX, CAB_CONTROL)
-    build = check_of(case, never)
+    build = check_of(case, no_surface)
     ps = build.summary["placement_scattered"]
     assert ps["moved"] == [] and ps["held"][0]["source"] == "on_cab"
     assert "piston on cab's driver face" in ps["held"][0]["why"]
