@@ -17,6 +17,7 @@ from bemcheck.build.drivers import excursion_limited_volume_velocity, volume_vel
 from bemcheck.build.note_levels import note_lines, note_strengths, note_variables, primary_weights
 from bemcheck.build.notes import Demand, check_drivers
 from bemcheck.build.placement import PERCENTILES, placement_study
+from bemcheck.build.ears import MODEL_BEM, MODEL_FREE, PointPressures, ear_items, ear_summary, point_variables
 from bemcheck.build.safety import ear_levels
 from bemcheck.observers import for_observers
 from bemcheck.solvers.control import attenuation_db
@@ -103,6 +104,7 @@ def before_build(case, free_at, bem_at=None, surface_at=None):
     scattered = np.zeros(n_h, bool)
     p_without = np.zeros((n_h, n_p), complex)
     p_with = np.zeros((n_h, n_p), complex)
+    p_controls = np.zeros((n_h, n_p), complex)
     att_designed = np.zeros(n_h)
     field_at = _field_at(case, surface_at)
     strengths = {n.name: note_strengths(case, n, field_at) for n in case.all_notes}
@@ -119,13 +121,16 @@ def before_build(case, free_at, bem_at=None, surface_at=None):
         q_reopt[i, controls] = control_strengths(case, world, directions, q_p)
         only = np.where(np.isin(np.arange(n_s), primary), q_designed[i], 0.0)
         p_without[i] = world.points @ only
+        p_controls[i] = world.points @ (q_designed[i] - only)
         p_with[i] = world.points @ q_designed[i]
         att_designed[i] = attenuation_db(world.power(only), world.power(q_designed[i]))
 
     check = _driver_check(case, plan, q_designed, q_reopt, controls)
-    ears = _ears(case, plan, p_without, p_with, check)
+    points = PointPressures(p_without, p_controls, p_with, tuple(MODEL_BEM if s else MODEL_FREE for s in scattered))
+    ears = _ears(case, plan, points, check)
     placement = placement_study(case, plan, q_designed, surface_at)
     ds = _dataset(case, plan, names, q_designed, q_reopt, scattered, p_without, p_with, att_designed, placement)
+    point_variables(ds, plan, points)
     by_harmonic = [s for n in case.all_notes for s in strengths[n.name]]
     note_variables(ds, by_harmonic)
     summary, lines = _go_no_go(case, check, ears, placement, scattered, bem_at is not None)
@@ -150,7 +155,7 @@ def _driver_check(case, plan, q_designed, q_reopt, controls):
     return check_drivers(drivers, driver_of, demands, case.medium, where=f"{case.path}: ")
 
 
-def _ears(case, plan, p_without, p_with, check):
+def _ears(case, plan, points, check):
     if not case.observers.points:
         return []
     out = []
@@ -160,11 +165,13 @@ def _ears(case, plan, p_without, p_with, check):
         out.append((note, ear_levels(
             [p.name for p in case.observers.points],
             np.array([plan[i][2] for i in idx]),
-            p_without[idx].T,
-            p_with[idx].T,
+            points.instrument[idx].T,
+            points.total[idx].T,
             limit_dba=case.build.ear_limit_dba,
             drive_rows=rows,
             note=note,
+            pressure_controls=points.controls[idx].T,
+            models=[points.models[i] for i in idx],
         )))
     return out
 
@@ -311,9 +318,7 @@ def _go_no_go(case, check, ears, placement, scattered, bem_ran):
             item(True, f"loudspeakers deliver every harmonic; smallest margin {worst.margin_db:+.1f} dB ({worst.source}, {worst.note} h{worst.harmonic}, {worst.limit})")
         else:
             item(False, f"{first.source} ({first.driver}) fails first at {first.note} harmonic {first.harmonic} ({first.frequency:.0f} Hz): {first.limit} margin {first.margin_db:+.1f} dB")
-    for note, e in ears:
-        loud = float(np.max(np.maximum(e.dba_without, e.dba_with))) if len(e.points) else 0.0
-        item(not e.cautions, f"levels at observer points for {note}: up to {loud:.0f} dB(A) (limit {e.limit_dba:g} dB(A))")
+    ear_items(ears, item, lines)
     if placement:
         _placement_items(placement, item, lines)
     if not bem_ran:
@@ -325,10 +330,7 @@ def _go_no_go(case, check, ears, placement, scattered, bem_ran):
         "go": all(i["go"] for i in items),
         "items": items,
         "drives": [r.__dict__ for r in check.rows] if check else [],
-        "ears": [
-            {"note": note, "points": list(e.points), "dba_without": [float(v) for v in e.dba_without], "dba_with": [float(v) for v in e.dba_with], "cautions": list(e.cautions)}
-            for note, e in ears
-        ],
+        "ears": ear_summary(ears),
         "placement": free_rows,
         "placement_scattered": scattered_placement,
     }

@@ -100,16 +100,19 @@ def overall_dba(frequencies, levels):
 
 @dataclass(frozen=True)
 class EarLevels:
-    """Levels at named points for one note, without and with control.
+    """Levels at named points for one note: the instrument alone, the controls alone and both.
 
     Attributes
     ----------
     points : (P,) tuple of str
     frequencies : (H,) ndarray [Hz]
-    spl_without, spl_with : (P, H) ndarray [dB re 20 µPa]
-    dba_without, dba_with : (P,) ndarray [dB(A)]
+    spl_without, spl_controls, spl_with : (P, H) ndarray [dB re 20 µPa]
+        The instrument (primaries) alone, the controls alone, the total.
+    dba_without, dba_controls, dba_with : (P,) ndarray [dB(A)]
     limit_dba : float
     cautions : tuple of str
+    models : (H,) tuple of str
+        The model each harmonic's levels come from (e.g. ``"BEM"``, ``"free field"``).
     """
 
     points: tuple[str, ...]
@@ -120,6 +123,19 @@ class EarLevels:
     dba_with: np.ndarray
     limit_dba: float
     cautions: tuple[str, ...]
+    spl_controls: np.ndarray | None = None
+    dba_controls: np.ndarray | None = None
+    models: tuple[str, ...] = ()
+
+    @property
+    def raised_by_control(self):
+        """(P,) bool: above the limit with control, and higher than the instrument alone."""
+        return (self.dba_with > self.limit_dba) & (self.dba_with > self.dba_without)
+
+    @property
+    def instrument_over(self):
+        """(P,) bool: the instrument alone is above the limit (a caution about the instrument)."""
+        return self.dba_without > self.limit_dba
 
 
 _DEFER = (
@@ -129,7 +145,7 @@ _DEFER = (
 
 
 def ear_levels(points, frequencies, pressure_without, pressure_with, *,
-               limit_dba=DEFAULT_LIMIT_DBA, drive_rows=(), note=""):
+               limit_dba=DEFAULT_LIMIT_DBA, drive_rows=(), note="", pressure_controls=None, models=()):
     """SPL per harmonic and overall dB(A) at observer points, with cautions.
 
     Parameters
@@ -149,6 +165,11 @@ def ear_levels(points, frequencies, pressure_without, pressure_with, *,
         margin adds a caution.
     note : str
         Label of the note, used in caution texts.
+    pressure_controls : (P, H) array_like of complex, optional
+        Pressure from the controls alone [Pa]; by default ``pressure_with -
+        pressure_without`` (the fields add: the problem is linear).
+    models : sequence of str, length H
+        The model each harmonic's pressures come from, for the texts.
 
     Returns
     -------
@@ -158,34 +179,39 @@ def ear_levels(points, frequencies, pressure_without, pressure_with, *,
     --------
     >>> p = [[np.sqrt(2.0)]]  # 1 Pa RMS at 1 kHz
     >>> r = ear_levels(["ear"], [1000.0], p, p)
-    >>> round(float(r.dba_with[0]), 2), len(r.cautions)
-    (93.98, 2)
+    >>> round(float(r.dba_with[0]), 2), len(r.cautions), bool(r.instrument_over[0]), bool(r.raised_by_control[0])
+    (93.98, 1, True, False)
     """
     names = tuple(points)
     f = np.asarray(frequencies, dtype=float).reshape(-1)
     shape = (len(names), f.size)
-    levels = []
-    for label, p in (("pressure_without", pressure_without), ("pressure_with", pressure_with)):
-        p = np.asarray(p, dtype=complex)
-        if p.shape != shape:
-            raise ValueError(f"{label}: expected shape {shape} (points, harmonics), got {p.shape}")
-        levels.append(spl_from_pressure(p))
-    spl_without, spl_with = levels
-    dba_without = overall_dba(f, spl_without)
-    dba_with = overall_dba(f, spl_with)
+    given = {"pressure_without": pressure_without, "pressure_with": pressure_with}
+    if pressure_controls is not None:
+        given["pressure_controls"] = pressure_controls
+    for label, p in given.items():
+        if np.shape(p) != shape:
+            raise ValueError(f"{label}: expected shape {shape} (points, harmonics), got {np.shape(p)}")
+    p_without, p_with = (np.asarray(p, dtype=complex) for p in (pressure_without, pressure_with))
+    p_controls = p_with - p_without if pressure_controls is None else np.asarray(pressure_controls, dtype=complex)
+    levels = [spl_from_pressure(p) for p in (p_without, p_controls, p_with)]
+    spl_without, spl_controls, spl_with = levels
+    dba_without, dba_controls, dba_with = (overall_dba(f, spl) for spl in levels)
     of_note = f" for {note}" if note else ""
+    models = tuple(models)
+    where = f" ({', '.join(dict.fromkeys(models))})" if models else ""
     cautions = []
-    for name, before, after in zip(names, dba_without, dba_with):
-        if after > limit_dba:
-            raised = " Control raises it here." if after > before else ""
+    for name, before, by_control, after in zip(names, dba_without, dba_controls, dba_with):
+        if after > limit_dba and after > before:
             cautions.append(
-                f"{name}: {after:.1f} dB(A) with control{of_note}, above the caution level of "
-                f"{limit_dba:g} dB(A).{raised} Long exposure at this level can damage hearing. {_DEFER}"
+                f"{name}: {after:.1f} dB(A) with control{of_note}{where}, above the caution level of "
+                f"{limit_dba:g} dB(A): the controls raise it (instrument alone {before:.1f}, controls alone "
+                f"{by_control:.1f} dB(A)). Long exposure at this level can damage hearing. {_DEFER}"
             )
         if before > limit_dba:
             cautions.append(
-                f"{name}: {before:.1f} dB(A) from the instrument alone{of_note}, above the caution "
-                f"level of {limit_dba:g} dB(A). Long exposure at this level can damage hearing. {_DEFER}"
+                f"{name}: {before:.1f} dB(A) from the instrument alone{of_note}{where}, above the caution "
+                f"level of {limit_dba:g} dB(A) (with control {after:.1f} dB(A)): a caution about the "
+                f"instrument, not the layout. Long exposure at this level can damage hearing. {_DEFER}"
             )
     for row in drive_rows:
         if row.power_margin_db < 0.0:
@@ -199,5 +225,5 @@ def ear_levels(points, frequencies, pressure_without, pressure_with, *,
     return EarLevels(
         points=names, frequencies=f, spl_without=spl_without, spl_with=spl_with,
         dba_without=dba_without, dba_with=dba_with, limit_dba=float(limit_dba),
-        cautions=tuple(cautions),
+        cautions=tuple(cautions), spl_controls=spl_controls, dba_controls=dba_controls, models=models,
     )

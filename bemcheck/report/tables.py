@@ -326,6 +326,31 @@ def note_level_rows(bb):
     return rows
 
 
+def ear_rows(e):
+    """One note's levels at the points: the instrument alone, the controls alone, the total; and notes.
+
+    Examples
+    --------
+    >>> rows, notes = ear_rows({"points": ["ear"], "dba_without": [90.0], "dba_controls": [80.0], "dba_with": [86.0],
+    ...     "raised_by_control": [False], "instrument_over": [True], "models": ["BEM"], "limit_dba": 85.0, "cautions": []})
+    >>> rows[1]
+    ('ear', '90.0', '80.0', '86.0', 'the instrument alone (a caution, not a no-go)')
+    """
+    rows = [("point", "instrument alone [dB(A)]", "controls alone [dB(A)]", "total [dB(A)]", "over the limit because of")]
+    n = len(e["points"])
+    controls = e.get("dba_controls", [None] * n)
+    raised = e.get("raised_by_control", [False] * n)
+    over = e.get("instrument_over", [False] * n)
+    for p, a, c, b, r, o in zip(e["points"], e["dba_without"], controls, e["dba_with"], raised, over):
+        why = "the controls (no-go)" if r else "the instrument alone (a caution, not a no-go)" if o else ""
+        rows.append((p, f"{a:.1f}", "" if c is None else f"{c:.1f}", f"{b:.1f}", why))
+    notes = []
+    if e.get("models"):
+        notes.append(f"Model: {', '.join(dict.fromkeys(e['models']))}; limit {e.get('limit_dba', 85.0):g} dB(A). "
+                     "The total is the complex sum of the two parts, so it can be below either.")
+    return rows, notes + list(e["cautions"])
+
+
 NOTE_LEVELS_NOTE = ("Each harmonic's level, measured at the note's direction and distance from the primary, gives the "
                     "primary's strength through the BEM's field at that point where the BEM ran (the bell's "
                     "directivity and the scattering included), else through a free-field monopole.")
@@ -349,10 +374,7 @@ def before_build_sections(summary):
     if bb.get("note_levels"):
         sections.append(("Primary strength from the played levels", note_level_rows(bb), (NOTE_LEVELS_NOTE,)))
     for e in bb.get("ears", []):
-        rows = [("point", "dB(A) without control", "dB(A) with control")]
-        rows += [(p, f"{a:.1f}", f"{b:.1f}") for p, a, b in zip(e["points"], e["dba_without"], e["dba_with"])]
-        rows += [(c, "", "") for c in e["cautions"]]
-        sections.append((f"Levels at the observer points, note {e['note']}", rows, ()))
+        sections.append((f"Levels at the observer points, note {e['note']}", *ear_rows(e)))
     placement = placement_rows(bb)
     if placement:
         sections.append(("Placement tolerance: attenuation over random builds", *placement))

@@ -37,11 +37,28 @@ def test_caution_above_limit_names_point_and_defers():
     assert len(r.cautions) == 1
     text = r.cautions[0]
     assert text.startswith("player left ear: 88.0 dB(A) with control for demo note")
-    assert "Control raises it here." in text
+    assert "the controls raise it" in text
     assert "local" in text and "not a safety assessment" in text
-    # The same level is fine under a looser limit, and flagged twice when both exceed.
+    # The same level is fine under a looser limit; the instrument alone over it is its own caution.
     assert ear_levels(["e"], F, quiet, loud, limit_dba=90.0).cautions == ()
-    assert len(ear_levels(["e"], F, loud, loud).cautions) == 2
+    both = ear_levels(["e"], F, loud, loud)
+    assert len(both.cautions) == 1 and "from the instrument alone" in both.cautions[0]
+    assert "not the layout" in both.cautions[0]
+
+
+def test_attribution_instrument_or_controls():
+    """Which part is over the limit (85 dB(A); levels at 1 kHz, where A = 0, IEC 61672-1:2013):
+    an instrument at 90 dB(A) that control lowers to 80 is a caution about the instrument, not
+    the layout; an instrument at 80 that control raises to 90 is the controls' doing.  The
+    controls alone are p_with - p_without (the fields add: linear acoustics)."""
+    at = np.array([1000.0])
+    lowered = ear_levels(["ear"], at, amplitude([[90.0]]), amplitude([[80.0]]))
+    assert lowered.instrument_over[0] and not lowered.raised_by_control[0]
+    raised = ear_levels(["ear"], at, amplitude([[80.0]]), amplitude([[90.0]]))
+    assert raised.raised_by_control[0] and not raised.instrument_over[0]
+    # in phase: the controls alone give 90 - 80 dB of pressure, 20 log10(10^4.5 - 10^4) dB
+    assert raised.dba_controls[0] == pytest.approx(20 * np.log10(10 ** 4.5 - 10 ** 4.0), abs=1e-9)
+    assert raised.spl_controls.shape == (1, 1)
 
 
 def test_low_frequency_energy_is_discounted():

@@ -16,6 +16,7 @@ import numpy as np
 import pytest
 
 from bemcheck.build.check import before_build
+from bemcheck.build.ears import MODEL_BEM
 from bemcheck.build.note_levels import BEM, MONOPOLE, note_strengths, strength_for_level
 from bemcheck.build.scattered import StoredSolve
 from bemcheck.case import parse_case
@@ -58,6 +59,7 @@ direction = [0.0, {elevation}]
 distance = 1.2
 [observers]
 far_field = {{ plane = "xz", step_deg = 30.0 }}
+points = [ {{ name = "ear", at = [0.0, 0.3, 0.05] }} ]
 """
 
 
@@ -128,13 +130,17 @@ def test_strength_beside_a_sphere_against_the_series(beside):
 def test_the_check_uses_the_bem_strength_and_says_so(beside):
     """before_build takes the BEM's strength for the primary at every harmonic the BEM solved,
     reports the route and the difference, and falls back to the monopole (saying why) where
-    the stored solve is missing."""
+    the stored solve is missing.  With the exact sphere world (Duda & Martens 1998) as the
+    model with scattering, the levels at the ear name it, and instrument + controls = total
+    (complex) at every harmonic and point, each part equal to the exact field of its strengths."""
     case, solves = beside
     d = for_observers(case.observers.far_field)
     x = np.array([s.position for s in case.sources])
 
+    ears = np.array([p.at for p in case.observers.points])
+
     def free_at(f):
-        return free_response(f, case.medium, x, d.unit, np.zeros((0, 3)))
+        return free_response(f, case.medium, x, d.unit, ears)
 
     build = before_build(case, free_at, None, lambda f: solves.get(f) or "not stored")
     rows = note_strengths(case, case.played[0], lambda f, pts: solves[f].field_at(case.medium, pts))
@@ -143,6 +149,20 @@ def test_the_check_uses_the_bem_strength_and_says_so(beside):
     assert used == pytest.approx([r.bem_m3s for r in rows], rel=1e-12)
     assert np.abs(build.dataset["q_required_designed"].sel(source="p").values) == pytest.approx(used, rel=1e-12)
     assert any("primary strength from the BEM's field" in line for line in build.lines)
+    def exact_at(f):
+        return sphere_response(f, case.medium, (0, 0, 0), RADIUS, x, d.unit, ears)
+
+    with_bem = before_build(case, free_at, exact_at, lambda f: solves[f])
+    assert with_bem.summary["ears"][0]["models"] == [MODEL_BEM, MODEL_BEM]
+    ds = with_bem.dataset
+    total = ds["p_points_total"].values
+    np.testing.assert_allclose(ds["p_points_instrument"].values + ds["p_points_controls"].values, total,
+                               rtol=1e-12, atol=1e-12 * np.abs(total).max())
+    q = ds["q_required_designed"].values
+    for i, f in enumerate((800.0, 1600.0)):
+        exact = exact_at(f).points
+        assert total[i] == pytest.approx(exact @ q[i], rel=1e-12)
+        assert ds["p_points_instrument"].values[i] == pytest.approx(exact[:, 0] * q[i, 0], rel=1e-12)
     half = before_build(case, free_at, None, lambda f: solves[f] if f == 800.0 else "not stored here")
     assert [r["route"] for r in half.summary["note_levels"]] == [BEM, MONOPOLE]
     assert half.summary["note_levels"][1]["reason"] == "not stored here"
