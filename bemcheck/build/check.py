@@ -13,6 +13,7 @@ from dataclasses import dataclass
 import numpy as np
 import xarray as xr
 
+from bemcheck.build.channels import channel_items, channel_study, channel_summary, channel_variables
 from bemcheck.build.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
 from bemcheck.build.note_levels import note_lines, note_strengths, note_variables, primary_weights
 from bemcheck.build.notes import Demand, check_drivers
@@ -129,12 +130,16 @@ def before_build(case, free_at, bem_at=None, surface_at=None):
     points = PointPressures(p_without, p_controls, p_with, tuple(MODEL_BEM if s else MODEL_FREE for s in scattered))
     ears = _ears(case, plan, points, check)
     placement = placement_study(case, plan, q_designed, surface_at)
+    channels = channel_study(case, plan, q_designed, controls, free_at, bem_at)
     ds = _dataset(case, plan, names, q_designed, q_reopt, scattered, p_without, p_with, att_designed, placement)
     point_variables(ds, plan, points)
+    if channels:
+        channel_variables(ds, channels)
     by_harmonic = [s for n in case.all_notes for s in strengths[n.name]]
     note_variables(ds, by_harmonic)
-    summary, lines = _go_no_go(case, check, ears, placement, scattered, bem_at is not None)
+    summary, lines = _go_no_go(case, check, ears, placement, scattered, bem_at is not None, channels)
     summary["note_levels"] = [s.as_dict() for s in by_harmonic]
+    summary["channel_errors"] = channel_summary(case, channels)
     lines += note_lines(by_harmonic, case.all_notes)
     return BuildReport(ds, summary, tuple(lines))
 
@@ -302,7 +307,7 @@ def _placement_summary(placement):
     return free_rows, scattered
 
 
-def _go_no_go(case, check, ears, placement, scattered, bem_ran):
+def _go_no_go(case, check, ears, placement, scattered, bem_ran, channels=()):
     lines, items = [], []
 
     def item(ok, text):
@@ -321,6 +326,7 @@ def _go_no_go(case, check, ears, placement, scattered, bem_ran):
     ear_items(ears, item, lines)
     if placement:
         _placement_items(placement, item, lines)
+    channel_items(case, channels, item)
     if not bem_ran:
         lines.append("  note: no BEM in this run; every harmonic was checked in the free-field model only")
     elif not scattered.all():

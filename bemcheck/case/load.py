@@ -465,6 +465,9 @@ def _build(r):
         ear_limit_dba=r.number("ear_limit_dba", BuildChecks.ear_limit_dba, positive=True),
         max_loss_db=r.number("max_loss_db", BuildChecks.max_loss_db, positive=True),
         trials=r.integer("trials", BuildChecks.trials, low=10, high=limits.MAX_TRIALS),
+        channel_gain_db=r.number("channel_gain_db", 0.0, non_negative=True, high=20.0),
+        channel_phase_deg=r.number("channel_phase_deg", 0.0, non_negative=True, high=180.0),
+        channel_delay_s=r.number("channel_delay_s", 0.0, non_negative=True, high=1.0),
     )
     r.done()
     return b

@@ -212,12 +212,18 @@ class BuildChecks:
     (e.g. Directive 2003/10/EC, upper exposure action value for an 8-hour day);
     local regulation decides.
     ``max_loss_db`` : loss of attenuation the placement tolerance may cost [dB].
-    ``trials`` : Monte Carlo draws of the placement study.
+    ``trials`` : Monte Carlo draws of the placement and channel studies.
+    ``channel_gain_db``, ``channel_phase_deg``, ``channel_delay_s`` : tolerances
+    of each control channel's gain [dB], phase [degree] and delay [s]
+    (uniform in ±, independent per channel); all 0: no channel study.
     """
 
     ear_limit_dba: float = 85.0
     max_loss_db: float = 1.0
     trials: int = 400
+    channel_gain_db: float = 0.0
+    channel_phase_deg: float = 0.0
+    channel_delay_s: float = 0.0
 
 
 @dataclass(frozen=True)

@@ -351,6 +351,38 @@ def ear_rows(e):
     return rows, notes + list(e["cautions"])
 
 
+def channel_rows(ce):
+    """The control-channel study per harmonic and model: rows (header first) and notes.
+
+    Examples
+    --------
+    >>> st = {"designed_db": 20.0, "p5_db": 15.0, "p50_db": 18.0, "p95_db": 19.9, "gain_tolerance_needed_db": 0.3,
+    ...       "gain_tolerance_found": True, "phase_tolerance_needed_deg": 2.0, "phase_tolerance_found": True}
+    >>> rows, notes = channel_rows({"gain_db": 1.0, "phase_deg": 5.0, "delay_s": 0.0, "trials": 400, "max_loss_db": 1.0,
+    ...     "rows": [{"note": "A", "harmonic": 1, "frequency_hz": 110.0, "free": st, "bem": None}]})
+    >>> rows[1][3:], rows[2][3:5]
+    (('free field', '20.0 dB', '15.0 dB', '18.0 dB', '19.9 dB', '±0.30 dB', '±2.0°'), ('BEM', 'not computed'))
+    """
+    header = ("note", "harmonic", "frequency", "model", "as designed", "5 % of builds", "median", "95 % of builds",
+              "gain tolerance needed", "phase tolerance needed")
+    rows = [header]
+
+    def cells(st):
+        gain = f"±{st['gain_tolerance_needed_db']:.2f} dB" + ("" if st["gain_tolerance_found"] else " or more")
+        phase = f"±{st['phase_tolerance_needed_deg']:.1f}°" + ("" if st["phase_tolerance_found"] else " or more")
+        return (db(st["designed_db"]), db(st["p5_db"]), db(st["p50_db"]), db(st["p95_db"]), gain, phase)
+
+    for r in ce["rows"]:
+        rows.append((r["note"], str(r["harmonic"]), hz(r["frequency_hz"]), "free field", *cells(r["free"])))
+        rows.append(("", "", "", "BEM", *(cells(r["bem"]) if r["bem"] else ("not computed", "", "", "", "", ""))))
+    delay = f", delay ±{ce['delay_s']:g} s" if ce["delay_s"] else ""
+    notes = [f"Each control channel's gain within ±{ce['gain_db']:g} dB, phase within ±{ce['phase_deg']:g}°{delay} "
+             f"(uniform, independent per channel), {ce['trials']} builds. Tolerance needed: the largest gain error "
+             f"(phase exact), or phase error (gain exact), keeping 95 % of builds within {ce['max_loss_db']:g} dB of "
+             "the design. BEM: not computed where the BEM did not run at that harmonic."]
+    return rows, notes
+
+
 NOTE_LEVELS_NOTE = ("Each harmonic's level, measured at the note's direction and distance from the primary, gives the "
                     "primary's strength through the BEM's field at that point where the BEM ran (the bell's "
                     "directivity and the scattering included), else through a free-field monopole.")
@@ -378,4 +410,6 @@ def before_build_sections(summary):
     placement = placement_rows(bb)
     if placement:
         sections.append(("Placement tolerance: attenuation over random builds", *placement))
+    if bb.get("channel_errors"):
+        sections.append(("Control channels: attenuation over gain, phase and delay errors", *channel_rows(bb["channel_errors"])))
     return sections

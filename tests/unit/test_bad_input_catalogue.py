@@ -279,6 +279,13 @@ ROWS = [
     Row("note measured inside a body", ("{case}", "note[0].distance", "inside body 'cab'", "expected a point in the air"),
         changes=(("[observers]", NOTE.format(where="direction = [180.0, 0.0]\ndistance = 0.45")),),
         why="primary at x = 0.5 m, 0.45 m toward -x: (0.05, 0, 0), |0.05| < 0.1: inside the octahedron"),
+    # -- control-channel tolerances ----------------------------------------
+    Row("channel gain tolerance negative", ("{case}", "build.channel_gain_db", "≥ 0"),
+        changes=(("[observers]", "[build]\nchannel_gain_db = -0.5\n[observers]"),)),
+    Row("channel phase tolerance beyond half a turn", ("{case}", "build.channel_phase_deg", "≤ 180"),
+        changes=(("[observers]", "[build]\nchannel_phase_deg = 270.0\n[observers]"),)),
+    Row("channel delay tolerance negative", ("{case}", "build.channel_delay_s", "≥ 0"),
+        changes=(("[observers]", "[build]\nchannel_delay_s = -1e-4\n[observers]"),)),
 ]
 
 
