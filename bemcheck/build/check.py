@@ -16,7 +16,7 @@ import xarray as xr
 from bemcheck.build.channels import channel_items, channel_study, channel_summary, channel_variables
 from bemcheck.build.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
 from bemcheck.build.note_levels import note_lines, note_strengths, note_variables, primary_weights
-from bemcheck.build.notes import Demand, check_drivers
+from bemcheck.build.notes import DESIGNED, REOPTIMISED, Demand, check_drivers, drive_variables
 from bemcheck.build.placement import PERCENTILES, placement_study
 from bemcheck.build.ears import MODEL_BEM, MODEL_FREE, PointPressures, ear_items, ear_summary, point_variables
 from bemcheck.build.safety import ear_levels
@@ -133,6 +133,8 @@ def before_build(case, free_at, bem_at=None, surface_at=None):
     channels = channel_study(case, plan, q_designed, controls, free_at, bem_at)
     ds = _dataset(case, plan, names, q_designed, q_reopt, scattered, p_without, p_with, att_designed, placement)
     point_variables(ds, plan, points)
+    if check is not None:
+        drive_variables(ds, check, plan)
     if channels:
         channel_variables(ds, channels)
     by_harmonic = [s for n in case.all_notes for s in strengths[n.name]]
@@ -153,8 +155,8 @@ def _driver_check(case, plan, q_designed, q_reopt, controls):
         if name not in driver_of:
             continue
         for i, (note, h, f) in enumerate(plan):
-            q = max(abs(q_designed[i, c]), abs(q_reopt[i, c]))
-            demands.append(Demand(name, note, h, f, q))
+            demands.append(Demand(name, note, h, f, q_designed[i, c], DESIGNED))
+            demands.append(Demand(name, note, h, f, q_reopt[i, c], REOPTIMISED))
     if not demands:
         return None
     return check_drivers(drivers, driver_of, demands, case.medium, where=f"{case.path}: ")
@@ -320,9 +322,9 @@ def _go_no_go(case, check, ears, placement, scattered, bem_ran, channels=()):
         first = check.first_failure
         if first is None:
             worst = check.worst
-            item(True, f"loudspeakers deliver every harmonic; smallest margin {worst.margin_db:+.1f} dB ({worst.source}, {worst.note} h{worst.harmonic}, {worst.limit})")
+            item(True, f"loudspeakers deliver every harmonic, designed and re-optimised; smallest margin {worst.margin_db:+.1f} dB ({worst.source}, {worst.note} h{worst.harmonic}, {worst.demand}, {worst.limit})")
         else:
-            item(False, f"{first.source} ({first.driver}) fails first at {first.note} harmonic {first.harmonic} ({first.frequency:.0f} Hz): {first.limit} margin {first.margin_db:+.1f} dB")
+            item(False, f"{first.source} ({first.driver}) fails first at {first.note} harmonic {first.harmonic} ({first.frequency_hz:.0f} Hz, {first.demand} demand): {first.limit} margin {first.margin_db:+.1f} dB")
     ear_items(ears, item, lines)
     if placement:
         _placement_items(placement, item, lines)

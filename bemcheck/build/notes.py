@@ -47,12 +47,17 @@ def primary_volume_velocity(spectrum, medium=Medium()):
     return volume_velocity_from_spl(np.asarray(spectrum.harmonics), medium, np.asarray(spectrum.spl_at_1m))
 
 
+DESIGNED = "designed"
+REOPTIMISED = "reoptimised"
+
+
 @dataclass(frozen=True)
 class Demand:
     """A volume velocity one control source must deliver for one harmonic of one note.
 
     source : control source name; note : note label; harmonic : 1 for the
-    fundamental; frequency [Hz]; volume_velocity : complex peak amplitude [m³/s].
+    fundamental; frequency [Hz]; volume_velocity : complex peak amplitude [m³/s];
+    demand : ``"designed"`` (the free-field design) or ``"reoptimised"`` (with scattering).
     """
 
     source: str
@@ -60,26 +65,31 @@ class Demand:
     harmonic: int
     frequency: float
     volume_velocity: complex
+    demand: str = DESIGNED
 
 
 @dataclass(frozen=True)
 class DriveRow:
-    """One demand checked against its driver; margins in dB, negative means over the limit.
+    """One demand checked against its driver, units in the names; margins in dB, negative means over the limit.
 
-    voltage [V] and excursion [m] are peak magnitudes; coil_power and
-    nominal_power [W] as in :class:`~bemcheck.build.drivers.Drive`.
+    ``electrical_power_w`` is the real power the amplifier delivers, ½ Re(V I*);
+    ``nominal_power_w`` is V_rms²/Re, the quantity a driver's rating limits;
+    ``demand`` says whether the volume velocity is the free-field design's
+    or the one re-optimised with scattering.
     """
 
     source: str
     driver: str
     note: str
     harmonic: int
-    frequency: float
-    volume_velocity: float
-    voltage: float
-    excursion: float
-    coil_power: float
-    nominal_power: float
+    frequency_hz: float
+    demand: str
+    volume_velocity_peak_m3s: float
+    voltage_rms_v: float
+    current_rms_a: float
+    excursion_peak_m: float
+    electrical_power_w: float
+    nominal_power_w: float
     excursion_margin_db: float
     power_margin_db: float
 
@@ -167,11 +177,48 @@ def check_drivers(drivers, driver_of, demands, medium=Medium(), *, where=""):
         rows.append(
             DriveRow(
                 source=demand.source, driver=name, note=demand.note, harmonic=demand.harmonic,
-                frequency=float(demand.frequency), volume_velocity=float(abs(demand.volume_velocity)),
-                voltage=float(abs(d.voltage)), excursion=float(abs(d.excursion)),
-                coil_power=float(d.coil_power), nominal_power=float(d.nominal_power),
+                frequency_hz=float(demand.frequency), demand=demand.demand,
+                volume_velocity_peak_m3s=float(abs(demand.volume_velocity)),
+                voltage_rms_v=float(abs(d.voltage)) / np.sqrt(2.0), current_rms_a=float(abs(d.current)) / np.sqrt(2.0),
+                excursion_peak_m=float(abs(d.excursion)),
+                electrical_power_w=float(0.5 * np.real(d.voltage * np.conj(d.current))),
+                nominal_power_w=float(d.nominal_power),
                 excursion_margin_db=float(d.excursion_margin_db), power_margin_db=float(d.power_margin_db),
             )
         )
     return DriverCheck(tuple(rows))
 
+
+
+DRIVE_FIGURES = (
+    ("volume_velocity_peak_m3s", "m^3/s", "volume velocity asked (peak)"),
+    ("voltage_rms_v", "V", "drive voltage (RMS)"),
+    ("current_rms_a", "A", "drive current (RMS)"),
+    ("excursion_peak_m", "m", "cone excursion (peak)"),
+    ("electrical_power_w", "W", "real electrical power, Re(V I*)/2"),
+    ("nominal_power_w", "W", "V_rms^2/Re, the quantity the rating limits"),
+    ("excursion_margin_db", "dB", "margin to xmax (negative: over)"),
+    ("power_margin_db", "dB", "margin to the rated power (negative: over)"),
+)
+
+
+def drive_variables(ds, check, plan):
+    """Add ``drive_<figure>`` (harmonic, source, demand) to ``ds`` in place, from a DriverCheck.
+
+    ``plan`` is the (note, harmonic number, frequency) of each harmonic index;
+    sources without a driver hold 0 and ``drive_checked`` false for them.
+    """
+    index = {(note, h): i for i, (note, h, _) in enumerate(plan)}
+    sources = list(ds["source"].values)
+    demands = [DESIGNED, REOPTIMISED]
+    ds.coords["demand"] = ("demand", demands)
+    checked = np.zeros(len(sources), bool)
+    values = {name: np.zeros((len(plan), len(sources), 2)) for name, _, _ in DRIVE_FIGURES}
+    for r in check.rows:
+        i, j, k = index[(r.note, r.harmonic)], sources.index(r.source), demands.index(r.demand)
+        checked[j] = True
+        for name, _, _ in DRIVE_FIGURES:
+            values[name][i, j, k] = getattr(r, name)
+    for name, units, what in DRIVE_FIGURES:
+        ds[f"drive_{name}"] = (("harmonic", "source", "demand"), values[name], {"units": units, "long_name": what})
+    ds["drive_checked"] = ("source", checked, {"long_name": "true for the controls whose loudspeaker was checked"})

@@ -217,7 +217,7 @@ def ear_levels(points, frequencies, pressure_without, pressure_with, *,
         if row.power_margin_db < 0.0:
             cautions.append(
                 f"{row.source} ({row.driver}), {row.note} harmonic {row.harmonic} at "
-                f"{row.frequency:.1f} Hz: needs {row.nominal_power:.3g} W, "
+                f"{row.frequency_hz:.1f} Hz ({row.demand}): needs {row.nominal_power_w:.3g} W, "
                 f"{-row.power_margin_db:.1f} dB over the driver's rating. Over-driving can "
                 "overheat or damage the loudspeaker; use a larger driver or a lower level, "
                 "and follow the maker's data and local electrical codes."

@@ -72,11 +72,15 @@ def test_low_frequency_energy_is_discounted():
 
 def test_drive_power_over_rating_gives_caution():
     quiet = amplitude([[60.0, 60.0, 60.0]])
-    over = DriveRow("c1", "demo", "demo note", 1, 58.27, 0.08, 35.5, 1.6e-2, 150.0, 210.3, -10.3, -6.2)
-    within = DriveRow("c1", "demo", "demo note", 2, 116.5, 0.02, 19.4, 2.0e-3, 20.0, 31.3, 7.7, 2.0)
+    over = DriveRow("c1", "demo", "demo note", 1, frequency_hz=58.27, demand="designed", volume_velocity_peak_m3s=0.08,
+                    voltage_rms_v=25.1, current_rms_a=5.0, excursion_peak_m=1.6e-2, electrical_power_w=150.0,
+                    nominal_power_w=210.3, excursion_margin_db=-10.3, power_margin_db=-6.2)
+    within = DriveRow("c1", "demo", "demo note", 2, frequency_hz=116.5, demand="designed", volume_velocity_peak_m3s=0.02,
+                      voltage_rms_v=13.7, current_rms_a=2.0, excursion_peak_m=2.0e-3, electrical_power_w=20.0,
+                      nominal_power_w=31.3, excursion_margin_db=7.7, power_margin_db=2.0)
     r = ear_levels(["ear"], F, quiet, quiet, drive_rows=[over, within])
     assert len(r.cautions) == 1
-    assert r.cautions[0].startswith("c1 (demo), demo note harmonic 1 at 58.3 Hz: needs 210 W, 6.2 dB over")
+    assert r.cautions[0].startswith("c1 (demo), demo note harmonic 1 at 58.3 Hz (designed): needs 210 W, 6.2 dB over")
     assert "local electrical codes" in r.cautions[0]
 
 

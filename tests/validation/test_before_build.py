@@ -147,3 +147,26 @@ def test_controls_raising_an_ear_level_are_a_no_go(tmp_path):
     parts = ds["p_points_instrument"].values + ds["p_points_controls"].values
     assert total.shape == (3, 2)
     np.testing.assert_allclose(parts, total, rtol=1e-12, atol=1e-12 * np.abs(total).max())
+
+
+def test_drive_figures_carry_their_units(tmp_path):
+    """summary.json and results.nc name each drive figure with its unit, give the designed and
+    re-optimised demands as rows of their own, and the real electrical power balances the heat
+    in the coil and in the suspension: ½Re(V I*) = I_rms² Re + ½ Rms |q/Sd|² (closed box of
+    Small 1972, JAES 20(5) 383-395: the electrical and mechanical resistances dissipate; the
+    radiation load is not in the driver's circuit)."""
+    case = parse_case(CASE.format(driver="big"))
+    out = run_case(case, tmp_path, model="free")
+    drives = out.summary["before_build"]["drives"]
+    assert {"frequency_hz", "volume_velocity_peak_m3s", "voltage_rms_v", "current_rms_a", "excursion_peak_m",
+            "electrical_power_w", "excursion_margin_db", "power_margin_db", "demand"} <= set(drives[0])
+    assert [r["demand"] for r in drives[:2]] == ["designed", "reoptimised"] and len(drives) == 6
+    d = case.drivers[1]
+    for r in drives:
+        u = r["volume_velocity_peak_m3s"] / d.sd
+        assert r["electrical_power_w"] == pytest.approx(r["current_rms_a"] ** 2 * d.re + 0.5 * d.rms * u ** 2, rel=1e-9)
+    ds = bemcheck.load_results(tmp_path)
+    v = ds["drive_voltage_rms_v"].sel(source="c")
+    assert v.dims == ("harmonic", "demand") and ds["drive_voltage_rms_v"].attrs["units"] == "V"
+    assert float(v.sel(demand="designed")[1]) == pytest.approx(drives[2]["voltage_rms_v"], rel=1e-12)
+    assert ds["drive_checked"].values.tolist() == [False, True]
