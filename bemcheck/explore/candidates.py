@@ -12,6 +12,7 @@ import numpy as np
 
 from bemcheck.case.explore import PLANES
 from bemcheck.case.limits import COINCIDENT
+from bemcheck.mesh.distance import winding_number
 from bemcheck.solvers.bem import MIN_SOURCE_GAP
 from bemcheck.solvers.bem_integrals import moments
 from bemcheck.solvers.bem_surface import surface_from_mesh
@@ -107,10 +108,11 @@ def screen(spec, meshes, occupied):
         surface = surface_from_mesh(mesh)
         if surface.n_triangles == 0:
             continue
-        # The wavenumber does not enter the inside test or the gap.
-        mom = moments(surface, x, 1.0, single=False)
-        inside |= mom.inside
-        close |= mom.gap < MIN_SOURCE_GAP
+        # The winding number, not the moments' inside test: that one sums solid angles of near
+        # triangles and took a sphere's centre, far from every triangle, for a point on the surface.
+        inside |= winding_number(x, mesh.vertices, mesh.triangles) > 0.5
+        # The wavenumber does not enter the gap.
+        close |= moments(surface, x, 1.0, single=False).gap < MIN_SOURCE_GAP
     close &= ~inside
     occ = np.asarray(occupied, dtype=float).reshape(-1, 3)
     near = np.linalg.norm(x[:, None, :] - occ[None, :, :], axis=2).min(axis=1, initial=np.inf) < COINCIDENT
