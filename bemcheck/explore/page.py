@@ -20,6 +20,7 @@ from bemcheck.run.results import atomic_write_bytes
 PAGE_FILE = "explore.html"
 _AXES = "xyz"
 _MARK = {"chosen_free": ("o", FREE), "chosen_bem": ("x", SCATTERED)}
+_NAME = {"free": "free field", "bem": "with scattering"}
 
 
 def _png(fig):
@@ -57,7 +58,7 @@ def map_figure(ds, grid, values, title, outline):
                 marker, colour = _MARK[design]
                 pos = ds["chosen_position"].sel(design=design).values
                 ax.plot(pos[:, a], pos[:, b], marker, color="white", mec=colour, mew=1.8, ms=8, ls="none",
-                        label=f"chosen, {design.split('_')[1]} model")
+                        label=f"chosen {_NAME[design.split('_')[1]]}")
             ax.set_title("free field" if model == "free" else "with scattering")
             ax.set_xlabel(f"{_AXES[a]} [m]")
             ax.grid(False)
@@ -79,7 +80,7 @@ def curves_figure(ds):
                 a = ds["layout_attenuation_db"].sel(design=design, model=model).values
                 e = ds["layout_attenuation_error_db"].sel(design=design, model=model).values
                 colour = CYCLE[i]
-                ax.semilogx(f, a, ls, color=colour, label=f"chosen in {design.split('_')[1]} model, evaluated {model}")
+                ax.semilogx(f, a, ls, color=colour, label=f"chosen {_NAME[design.split('_')[1]]}, evaluated {_NAME[model]}")
                 if np.any(e > 0):
                     ax.fill_between(f, a - e, a + e, color=colour, alpha=0.15, lw=0)
         ax.set_xlabel("frequency [Hz]")
@@ -116,7 +117,7 @@ def render_page(ds, grid, outline, lines):
     for design in DESIGNS:
         pos = ds["chosen_position"].sel(design=design).values.round(3).tolist()
         band = ds["layout_attenuation_band_db"].sel(design=design)
-        rows.append((design.replace("_", " in ") + " model", "; ".join(map(str, pos)),
+        rows.append((f"chosen {_NAME[design.split('_')[1]]}", "; ".join(map(str, pos)),
                      f"{float(band.sel(model='free')):.1f}", f"{float(band.sel(model='bem')):.1f}"))
     parts = ["<ul>" + "".join(f"<li>{escape(line)}</li>" for line in lines) + "</ul>", _table(rows),
              _img(curves_figure(ds), "Power attenuation of each chosen layout in both models (band: numerical error).")]
@@ -124,7 +125,7 @@ def render_page(ds, grid, outline, lines):
         band = {m: ds[f"single_control_attenuation_{m}_band_db"].values for m in MODELS}
         parts.append(_img(map_figure(ds, grid, band, "one control: band-averaged attenuation", outline),
                           "Minimum power attenuation with one control at each grid point, averaged over the frequencies "
-                          "(grey: dropped candidates; dots: bodies near the plane)."))
+                          "(blank: dropped candidates; dots: the bodies' mesh vertices near the plane)."))
         for f in ds["frequency"].values:
             one = {m: ds[f"single_control_attenuation_{m}_db"].sel(frequency=f).values for m in MODELS}
             parts.append(_img(map_figure(ds, grid, one, f"one control at {f:.0f} Hz", outline),

@@ -76,3 +76,33 @@ def test_candidate_at_a_control_and_the_written_layout_agree_with_run(tmp_path, 
     best = int(np.argmax(ex["single_control_attenuation_bem_band_db"].values))
     assert int(ex["chosen_candidate"].sel(design="chosen_bem").values[0]) == best
     assert "3 of 3 candidates kept" in capsys.readouterr().out
+
+
+def test_grid_without_bodies_writes_maps_and_cf_attributes(tmp_path, capsys):
+    """Without bodies the BEM answers the free field (both maps equal); the page has the band-averaged
+    map, one map per frequency and the curves; every variable carries units or a long name (CF conventions 1.10, sec. 3)."""
+    text = """
+[case]
+title = "grid"
+[frequencies]
+list = [100.0, 200.0]
+[[source]]
+name = "p"
+role = "primary"
+at = [0.0, 0.0, 0.0]
+strength = 1e-3
+[explore]
+grid = { plane = "yz", origin = [0.1, -0.2, -0.2], size = [0.4, 0.4], step = 0.1 }
+"""
+    case = tmp_path / "grid.toml"
+    case.write_text(text)
+    assert main(["explore", str(case), "--out", str(tmp_path / "ex"), "--quiet"]) == 0
+    ds = read_dataset(tmp_path / "ex" / "explore.nc")
+    assert ds.sizes["candidate"] == 25
+    assert np.array_equal(ds["single_control_attenuation_free_db"], ds["single_control_attenuation_bem_db"])
+    for name, var in ds.data_vars.items():
+        assert "long_name" in var.attrs, name
+    assert ds["single_control_attenuation_bem_db"].attrs["units"] == "dB"
+    page = (tmp_path / "ex" / "explore.html").read_text()
+    assert page.count("<img") == 1 + 1 + 2
+    assert "25 of 25 candidates kept" in capsys.readouterr().out
