@@ -63,6 +63,9 @@ def _parser():
     rep.add_argument("folder", type=Path, help="the run folder given to `bemcheck run --out`")
 
     sub.add_parser("examples", help="list the example case files shipped with bemcheck")
+    from bemcheck.explore.entry import add_parser as add_explore
+
+    add_explore(sub)
     return p
 
 
@@ -246,7 +249,13 @@ def _cmd_examples(args, out):
     return EXIT_OK
 
 
-_COMMANDS = {"check": _cmd_check, "mesh": _cmd_mesh, "run": _cmd_run, "report": _cmd_report, "examples": _cmd_examples}
+def _cmd_explore(args, out):
+    from bemcheck.explore.entry import run_command
+
+    return run_command(args, out, sys.stderr)
+
+
+_COMMANDS = {"explore": _cmd_explore, "check": _cmd_check, "mesh": _cmd_mesh, "run": _cmd_run, "report": _cmd_report, "examples": _cmd_examples}
 
 
 def main(argv=None):

@@ -28,6 +28,7 @@ from bemcheck.case.model import (
     Sphere,
     Tolerance,
 )
+from bemcheck.case.explore import read_explore
 from bemcheck.case.limits import COINCIDENT, COORDINATE, DIRECTION, FREQUENCY, SIZE
 from bemcheck.case.reader import TableReader
 from bemcheck.errors import CaseError
@@ -130,6 +131,7 @@ def parse_case(text, path=Path("<case>")):
     played = tuple(_measured_at(_note(r), first, by_name) for r in top.subs("note"))
     _unique([n.name for n in played], "note", file)
     build = _build(top.sub("build", None))
+    explore = read_explore(top.sub("explore", None), sources, file)
     top.done()
     case = Case(
         title=title,
@@ -145,6 +147,7 @@ def parse_case(text, path=Path("<case>")):
         drivers=drivers,
         played=played,
         build=build,
+        explore=explore,
         path=Path(path),
         text=text,
     )

@@ -8,6 +8,8 @@ the physics uses them.  Positions are 3-tuples in the scene frame.
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from bemcheck.case.explore import ExploreSpec
+
 Vec3 = tuple[float, float, float]
 
 
@@ -250,6 +252,7 @@ class Case:
     drivers: tuple = ()
     played: tuple[Spectrum, ...] = ()
     build: BuildChecks = field(default_factory=BuildChecks)
+    explore: ExploreSpec | None = None
     notes: str = ""
     path: Path | None = None
     text: str = ""

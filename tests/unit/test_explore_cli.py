@@ -1,0 +1,108 @@
+"""`bemcheck explore` on the command line: bad input refused before anything is written, and the
+numbers against `bemcheck run` of the same layout (a candidate at an existing control's position, and
+the layout explore writes)."""
+
+import numpy as np
+import pytest
+
+from bemcheck.cli import main
+from bemcheck.run.results import read_dataset
+
+HEAD = """
+[case]
+title = "explore cli"
+[frequencies]
+list = [250.0, 400.0]
+[mesh]
+elements_per_wavelength = 6
+band_octaves = 2
+[[body]]
+name = "ball"
+kind = "sphere"
+radius = 0.1
+[[source]]
+name = "p"
+role = "primary"
+at = [0.0, 0.0, 0.2]
+strength = 1e-3
+[[source]]
+name = "c"
+role = "control"
+at = [0.12, 0.0, 0.05]
+"""
+
+
+def _write(tmp_path, text):
+    path = tmp_path / "case.toml"
+    path.write_text(HEAD + text)
+    return path
+
+
+@pytest.mark.parametrize("table, key, expected", [
+    ("[explore]\npoints = []\n", "explore.points", "non-empty list"),
+    ('[explore]\ngrid = { plane = "xy", origin = [0.2, 0.2, 0.0], size = [0.2, 0.2], step = 0.0 }\n', "explore.grid.step", "positive"),
+    ("[explore]\npoints = [[0.3, 0.0, 0.0], [0.0, 0.3, 0.0]]\ncontrols = 3\n", "explore.controls", "at most the number of candidates"),
+    ("[explore]\npoints = [[0.0, 0.0, 0.0], [0.05, 0.0, 0.0]]\n", "explore.points", "every candidate was dropped (0 of 2 candidates kept; dropped: 2 inside a body)"),
+    ('[explore]\npoints = [[0.3, 0.0, 0.0]]\nfixed = ["p"]\n', "explore.fixed[0]", "the name of a control source"),
+    ("", "explore", "required table is missing"),
+])
+def test_bad_input_exits_2_naming_file_and_key_and_writes_nothing(tmp_path, capsys, table, key, expected):
+    case = _write(tmp_path, table)
+    out = tmp_path / "out"
+    assert main(["explore", str(case), "--out", str(out), "--mesh-cache", str(tmp_path / "cache")]) == 2
+    err = capsys.readouterr().err
+    assert f"{case}: {key}:" in err and expected in err and "Traceback" not in err
+    assert not out.exists()
+
+
+def test_candidate_at_a_control_and_the_written_layout_agree_with_run(tmp_path, capsys):
+    """The same layout gives the same attenuation in `bemcheck run` and `bemcheck explore`
+    (both minimise the power with the same solver and meshes; common practice, no source)."""
+    cache = str(tmp_path / "cache")
+    case = _write(tmp_path, "[explore]\npoints = [[0.12, 0.0, 0.05], [0.0, 0.14, 0.1], [-0.15, 0.0, 0.0]]\n")
+    assert main(["run", str(case), "--out", str(tmp_path / "run"), "--no-report", "--quiet", "--mesh-cache", cache]) == 0
+    assert main(["explore", str(case), "--out", str(tmp_path / "ex"), "--quiet", "--mesh-cache", cache]) == 0
+    run = read_dataset(tmp_path / "run" / "results.nc")
+    ex = read_dataset(tmp_path / "ex" / "explore.nc")
+    for model in ("free", "bem"):
+        assert np.allclose(ex[f"single_control_attenuation_{model}_db"].values[:, 0], run[f"attenuation_{model}_db"].values, atol=1e-6)
+    layout = tmp_path / "ex" / "layout.toml"
+    assert main(["run", str(layout), "--out", str(tmp_path / "run2"), "--no-report", "--quiet", "--mesh-cache", cache]) == 0
+    run2 = read_dataset(tmp_path / "run2" / "results.nc")
+    reported = ex["layout_attenuation_db"].sel(design="chosen_bem")
+    for model in ("free", "bem"):
+        assert np.allclose(reported.sel(model=model).values, run2[f"attenuation_{model}_db"].values, atol=1e-6)
+    # The scattering choice is the best single candidate of the band-averaged map.
+    best = int(np.argmax(ex["single_control_attenuation_bem_band_db"].values))
+    assert int(ex["chosen_candidate"].sel(design="chosen_bem").values[0]) == best
+    assert "3 of 3 candidates kept" in capsys.readouterr().out
+
+
+def test_grid_without_bodies_writes_maps_and_cf_attributes(tmp_path, capsys):
+    """Without bodies the BEM answers the free field (both maps equal); the page has the band-averaged
+    map, one map per frequency and the curves; every variable carries units or a long name (CF conventions 1.10, sec. 3)."""
+    text = """
+[case]
+title = "grid"
+[frequencies]
+list = [100.0, 200.0]
+[[source]]
+name = "p"
+role = "primary"
+at = [0.0, 0.0, 0.0]
+strength = 1e-3
+[explore]
+grid = { plane = "yz", origin = [0.1, -0.2, -0.2], size = [0.4, 0.4], step = 0.1 }
+"""
+    case = tmp_path / "grid.toml"
+    case.write_text(text)
+    assert main(["explore", str(case), "--out", str(tmp_path / "ex"), "--quiet"]) == 0
+    ds = read_dataset(tmp_path / "ex" / "explore.nc")
+    assert ds.sizes["candidate"] == 25
+    assert np.array_equal(ds["single_control_attenuation_free_db"], ds["single_control_attenuation_bem_db"])
+    for name, var in ds.data_vars.items():
+        assert "long_name" in var.attrs, name
+    assert ds["single_control_attenuation_bem_db"].attrs["units"] == "dB"
+    page = (tmp_path / "ex" / "explore.html").read_text()
+    assert page.count("<img") == 1 + 1 + 2
+    assert "25 of 25 candidates kept" in capsys.readouterr().out
