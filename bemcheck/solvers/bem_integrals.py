@@ -208,7 +208,8 @@ def moments(surface, targets, k, single=True, p0_support=None):
     solid = acc.solid_far.copy()
     near = np.flatnonzero(skip)
     np.add.at(solid, ti[near], solid_angles(x[ti[near]], surface.corners(tt[near])) / FOUR_PI)
-    snapped = (solid < -0.5) & (distance <= SNAP_INSIDE * size)
+    # a point with no triangle near it (size inf) is deep inside or far outside, never snapped
+    snapped = (solid < -0.5) & np.isfinite(size) & (distance <= SNAP_INSIDE * size)
     return Moments(
         single=acc.single if single else None,
         double=acc.double,

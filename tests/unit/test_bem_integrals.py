@@ -111,6 +111,17 @@ def test_laplace_double_layer_of_one_is_zero_outside_and_minus_one_inside():
     np.testing.assert_allclose(m.solid[len(out) :], -1.0, atol=1e-6)
 
 
+def test_a_point_deep_inside_with_no_triangle_near_is_inside():
+    """The centre of a sphere 0.1 m in radius meshed with 0.02 m elements: no triangle is
+    near it, the solid angle is -1 (Gauss, as above), so it is inside, not 'on the surface'
+    (the snap onto the surface is for points within a fraction of an element of it)."""
+    from tests.support.icosphere import icosphere
+
+    s = surface_from_mesh(icosphere(0.1, 4))
+    m = moments(s, np.array([[0.0, 0.0, 0.0], [0.0, 0.0, 0.5]]), K, single=False)
+    assert m.inside.tolist() == [True, False] and not m.on_surface.any()
+
+
 @pytest.fixture(scope="module")
 def plane_wave_on_sphere():
     """A plane wave's P1 trace and P0 normal derivative on a 1,280-triangle sphere."""
