@@ -107,7 +107,15 @@ def first_solve_guard():
     try:
         yield
     finally:
+        # A Ctrl-C held back is taken here and raised in this frame: left pending,
+        # its handler would run at the next bytecode, which may be a finaliser of
+        # the compiler's objects, where the interrupt is swallowed.
+        held = signal.SIGINT in signal.sigpending()
+        if held:
+            signal.sigwait({signal.SIGINT})
         signal.pthread_sigmask(signal.SIG_SETMASK, previous)
+        if held:
+            raise KeyboardInterrupt
 
 
 def note_assembly():
