@@ -92,29 +92,28 @@ def first_solve_guard():
     """Hold Ctrl-C back during a process's first solve, while numba compiles the kernels.
 
     An interrupt that lands inside the compiler's callbacks is swallowed
-    there (printed as an ignored exception), and the run would go on.  With
-    SIGINT blocked it stays pending and is delivered as soon as the first
-    solve with bodies ends, before its answer is stored.  Later solves are
-    not guarded.
+    there (printed as an ignored exception), and the run would go on.  Held
+    back, it is raised as soon as the first solve with bodies ends, before
+    its answer is stored.  Later solves are not guarded.
     Only the main thread of a POSIX process can do this; elsewhere it does
     nothing.
     """
     if _state["assembled"] or threading.current_thread() is not threading.main_thread() or not hasattr(signal, "pthread_sigmask"):
         yield
         return
-    previous = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
-    # a layout without bodies compiles nothing: guarding lasts until a solve has assembled
+    # Ctrl-C is noted, not raised, while the kernels compile, and raised here
+    # after the solve.  Blocking SIGINT in this thread is not enough: the
+    # kernel may hand it to another thread (BLAS, numba workers), and Python
+    # then runs its handler in this thread at the next bytecode, which may be
+    # inside the compiler's callbacks or finalisers, where it is swallowed.
+    interrupted = []
+    previous = signal.signal(signal.SIGINT, lambda signum, frame: interrupted.append(signum))
     try:
         yield
     finally:
-        # A Ctrl-C held back is taken here and raised in this frame: left pending,
-        # its handler would run at the next bytecode, which may be a finaliser of
-        # the compiler's objects, where the interrupt is swallowed.
-        held = signal.SIGINT in signal.sigpending()
-        if held:
-            signal.sigwait({signal.SIGINT})
-        signal.pthread_sigmask(signal.SIG_SETMASK, previous)
-        if held:
+        if previous is not None:
+            signal.signal(signal.SIGINT, previous)
+        if interrupted:
             raise KeyboardInterrupt
 
 
