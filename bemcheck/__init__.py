@@ -12,8 +12,8 @@ Examples
 
 from bemcheck.case import Case, load_case
 from bemcheck.errors import BemcheckInputError, CaseError, GeometryError
-from bemcheck.examples_index import example_names, example_path
-from bemcheck.run.results import load_results
+from bemcheck.case.examples import example_names, example_path
+from bemcheck.results.files import load_results
 from bemcheck.run.runner import run_case
 
 __version__ = "0.1.0"

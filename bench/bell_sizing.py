@@ -36,7 +36,7 @@ from bemcheck.mesh import mesh_scene, plan_bands
 from bemcheck.mesh.checks import check_surface
 from bemcheck.mesh.gmsh_session import session, triangles_by_group
 from bemcheck.mesh.surface import SurfaceMesh
-from bemcheck.solvers.bem import solve_frequency
+from bemcheck.solvers.bem.solve import solve_frequency
 
 HERE = Path(__file__).resolve().parent
 OUT = HERE / "bell_results.json"

@@ -55,7 +55,7 @@ def _warm_up(reference=False):
     from tests.support.icosphere import icosphere, voxel_body
 
     from bemcheck.case.model import Medium
-    from bemcheck.solvers.bem import solve_frequency
+    from bemcheck.solvers.bem.solve import solve_frequency
 
     cube = voxel_body([[[True]]], 0.3, n=3, face_tags={(2, 1): ("cube.driver", 2)}, name="cube")
     args = (cube, 200.0, Medium(), [[0.9, 0.15, 0.15]], ring(8))
@@ -135,7 +135,7 @@ def scaling(sizes, radius=0.3, elements_per_wavelength=8.0, budget_s=np.inf):
     from tests.support.icosphere import icosphere
 
     from bemcheck.case.model import Medium
-    from bemcheck.solvers.bem import solve_frequency
+    from bemcheck.solvers.bem.solve import solve_frequency
 
     medium = Medium()
     sources = 2.0 * radius * np.array([[1.0, 0, 0], [0, 1.0, 0], [0, -0.6, 0.8], [-0.6, 0, 0.8]])
@@ -212,7 +212,7 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
         their far-field differences; ``planned`` counts every task a run of
         the case makes, ``harmonics`` the extra solves at played notes.
     """
-    from bemcheck.build.check import harmonic_plan
+    from bemcheck.prebuild.check import harmonic_plan
     from bemcheck.case import load_case
     from bemcheck.mesh import mesh_scene, plan_bands
     from bemcheck.observers import for_observers

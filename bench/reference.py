@@ -7,7 +7,7 @@ data (a new ``complex_callable``, compiled by numba each time), its own
 operators if it is a piston, and its own GMRES solve; the far field comes
 from bempp-cl's far-field operators.
 
-Same formulation and signs as :mod:`bemcheck.solvers.bem_system`, exp(-iωt),
+Same formulation and signs as :mod:`bemcheck.solvers.bem.system`, exp(-iωt),
 G = e^{ikR}/(4πR), P1 total surface pressure u, prescribed ∂p/∂n = g on a
 piston (g = iωρ v_n):
 

@@ -182,7 +182,7 @@ def _cold(cold, sweep):
         f"What \"warm\" can mean here: the mesh cache spares gmsh; numba's on-disk cache ({cold['numba_cache_files']} files "
         "after the cold run) holds only small helpers, because bemcheck compiles its assembly kernels in every "
         "process (code loaded from numba's cache differed in the last bit from freshly compiled code, and a resumed "
-        "sweep must equal an uninterrupted one bit for bit; see bemcheck/solvers/bem_kernel.py).  A process that "
+        "sweep must equal an uninterrupted one bit for bit; see bemcheck/solvers/bem/kernel.py).  A process that "
         "stays alive (one `bemcheck run` solving many frequencies, a `--workers` pool or a Dask worker) compiles "
         "once; its figure is the last row (the sweep's first frequency, measured after compiling).",
     ]

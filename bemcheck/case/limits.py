@@ -134,7 +134,7 @@ def _check_result_size(case, n_directions, file):
     needed = RESULT_BYTES * len(case.frequencies) * n_directions * signals
     if needed < 2**28:
         return  # 256 MiB: any machine bemcheck runs on holds that
-    from bemcheck.solvers.bem_system import available_memory
+    from bemcheck.solvers.bem.system import available_memory
 
     available = available_memory()
     if available is not None and needed > available:

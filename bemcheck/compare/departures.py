@@ -17,7 +17,7 @@ from bemcheck.compare.attenuation import attenuation, mean_square_db
 from bemcheck.compare.errors import amplitude_error, level_error_db, phase_error_deg, richardson
 from bemcheck.compare.trust import significant
 from bemcheck.observers import in_sector
-from bemcheck.solvers.strengths import control_strengths, full_strengths, source_indices
+from bemcheck.solvers.control.strengths import control_strengths, full_strengths, source_indices
 
 CONTROLLED = "controlled"
 # Pressures below this fraction of a signal's largest far-field amplitude at

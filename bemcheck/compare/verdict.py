@@ -17,7 +17,7 @@ import numpy as np
 
 from bemcheck.compare.trust import DEPARTS, NOT_RESOLVED, crossing_frequency
 from bemcheck.observers import in_sector
-from bemcheck.solvers.strengths import source_indices
+from bemcheck.solvers.control.strengths import source_indices
 
 PASS, FAIL, UNRESOLVED = "PASS", "FAIL", "NOT RESOLVED"
 

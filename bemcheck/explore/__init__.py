@@ -2,5 +2,5 @@
 
 Free-standing point candidates leave the bodies unchanged, so one
 factorisation per frequency serves every candidate (each one more
-right-hand side of :func:`bemcheck.solvers.bem.solve_frequency`).
+right-hand side of :func:`bemcheck.solvers.bem.solve.solve_frequency`).
 """

@@ -3,7 +3,7 @@
 Everything works on one model's :class:`~bemcheck.explore.solve.Forms`
 (columns: primaries, fixed controls, candidates), so the free field and the
 BEM are treated alike.  The controls take the strengths that minimise the
-total power in that model (:func:`bemcheck.solvers.control.optimal_power_control`)
+total power in that model (:func:`bemcheck.solvers.control.optimal.optimal_power_control`)
 and the attenuation and its error are those of ``bemcheck run``
 (:func:`bemcheck.compare.attenuation.attenuation`).
 
@@ -20,7 +20,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from bemcheck.compare.attenuation import attenuation, power_db
-from bemcheck.solvers.control import ConditioningWarning, optimal_power_control
+from bemcheck.solvers.control.optimal import ConditioningWarning, optimal_power_control
 
 # Passes of exchange refinement at most; each pass that changes nothing ends it.
 MAX_EXCHANGE_PASSES = 20

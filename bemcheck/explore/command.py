@@ -94,7 +94,7 @@ def explore_case(case, out_dir, cache_dir=None, progress=None):
     -------
     ExploreOutcome
     """
-    from bemcheck.run.results import atomic_write_bytes, write_dataset
+    from bemcheck.results.files import atomic_write_bytes, write_dataset
     from bemcheck.run.runner import prepare_folder
     from bemcheck.run.store import RunLock
 

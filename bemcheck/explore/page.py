@@ -15,7 +15,7 @@ from bemcheck.case.explore import PLANES
 from bemcheck.explore.results import DESIGNS, MODELS
 from bemcheck.report.html import CSS
 from bemcheck.report.style import CYCLE, DPI, FREE, INK, SCATTERED, new_figure, styled
-from bemcheck.run.results import atomic_write_bytes
+from bemcheck.results.files import atomic_write_bytes
 
 PAGE_FILE = "explore.html"
 _AXES = "xyz"

@@ -1,7 +1,7 @@
 """The per-frequency solves of an exploration: every candidate one more right-hand side.
 
 For each frequency the case's band mesh is assembled and factorised once
-(:func:`bemcheck.solvers.bem.solve_frequency`); the primaries, the fixed
+(:func:`bemcheck.solvers.bem.solve.solve_frequency`); the primaries, the fixed
 controls and every candidate are monopole (or piston) columns of that one
 solve, so the power forms between all of them (mutual and self resistances
 with scattering) come out together.  The same is done on the band's
@@ -17,7 +17,7 @@ import numpy as np
 
 from bemcheck.case.model import Source
 from bemcheck.solvers.response import free_response
-from bemcheck.solvers.strengths import primary_strengths
+from bemcheck.solvers.control.strengths import primary_strengths
 
 
 @dataclass(frozen=True)

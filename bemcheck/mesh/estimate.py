@@ -85,7 +85,7 @@ def check_mesh_size(case, element_size, refine=1.0, available=None):
         BEM matrices at least exceed the available memory; the message names
         the largest body, its triangles and the keys setting the size.
     """
-    from bemcheck.solvers.bem_system import DENSE_ARRAYS, available_memory
+    from bemcheck.solvers.bem.system import DENSE_ARRAYS, available_memory
 
     h = element_size / refine
     counts = []

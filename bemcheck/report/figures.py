@@ -12,7 +12,7 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Rectangle
 from matplotlib.ticker import FixedLocator, FormatStrFormatter, NullFormatter, NullLocator
 
-from bemcheck.build.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
+from bemcheck.prebuild.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
 from bemcheck.case.model import Tolerance
 from bemcheck.compare import CONTROLLED
 from bemcheck.compare.trust import NOT_RESOLVED
@@ -382,7 +382,7 @@ def make_figures(ds, out_dir, *, case=None, mesh=None, signals=None, frequencies
     ----------
     ds : xarray.Dataset
         Results of a run (free-field only or both models); see
-        :mod:`bemcheck.run.dataset`.
+        :mod:`bemcheck.results.dataset`.
     out_dir : str or Path
         Folder for the files; created if needed.
     case : Case, optional

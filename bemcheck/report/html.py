@@ -16,7 +16,7 @@ from bemcheck.errors import BemcheckInputError
 from bemcheck.report import tables
 from bemcheck.report.figures import make_figures
 from bemcheck.report.signals import case_of, has_bem
-from bemcheck.run.results import SUMMARY_FILE, atomic_write_bytes, load_results
+from bemcheck.results.files import SUMMARY_FILE, atomic_write_bytes, load_results
 
 REPORT_FILE = "report.html"
 FIGURES_DIR = "figures"
@@ -341,7 +341,7 @@ def write_report(folder, ds, summary, mesh=None, extra_sections=(), case=None):
     folder : str or Path
         The run folder; figures go to ``folder/figures``.
     ds : xarray.Dataset
-        The run's results (see :mod:`bemcheck.run.dataset`).
+        The run's results (see :mod:`bemcheck.results.dataset`).
     summary : dict
         The run's summary; ``summary["verdict"]`` from
         :func:`bemcheck.compare.verdict` when both models ran.

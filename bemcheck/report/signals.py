@@ -8,7 +8,7 @@ from bemcheck.case import parse_case
 from bemcheck.compare import CONTROLLED
 from bemcheck.compare.departures import designed_strengths
 from bemcheck.errors import BemcheckInputError
-from bemcheck.solvers.strengths import primary_strengths
+from bemcheck.solvers.control.strengths import primary_strengths
 
 def has_bem(ds):
     """Whether the run holds the BEM model (else it is a free-field run)."""

@@ -15,7 +15,7 @@ from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.colors import LinearSegmentedColormap, SymLogNorm
 from matplotlib.figure import Figure
 
-from bemcheck.run.results import atomic_write_bytes
+from bemcheck.results.files import atomic_write_bytes
 
 INK = "#1e2b35"
 MUTED = "#6b7680"

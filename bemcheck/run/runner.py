@@ -14,9 +14,9 @@ from bemcheck.compare import verdict_lines
 from bemcheck.errors import BemcheckInputError
 from bemcheck.mesh.estimate import check_mesh_size
 from bemcheck.observers import for_observers
-from bemcheck.run.combine import combine
-from bemcheck.run.dataset import run_attributes
-from bemcheck.run.results import RESULTS_FILE, SUMMARY_FILE, read_dataset, write_dataset, write_summary
+from bemcheck.results.combine import combine
+from bemcheck.results.dataset import run_attributes
+from bemcheck.results.files import RESULTS_FILE, SUMMARY_FILE, read_dataset, write_dataset, write_summary
 from bemcheck.run.store import PartStore, RunLock
 from bemcheck.run.progress import COMPILE_HINT_S, Progress
 from bemcheck.run.sweep import CHECK, SOLVE, execute, plan_tasks, task_label
@@ -147,7 +147,7 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
         from bemcheck.mesh.scene import check_file_bodies
 
         check_file_bodies(case, cache_dir)  # before hours of solves, not at the top band
-    from bemcheck.build.check import harmonic_plan
+    from bemcheck.prebuild.check import harmonic_plan
 
     if case.bodies:  # the finest band mesh of the sweep, before any mesh is made
         check_mesh_size(case, min(b.element_size for b in bands))
@@ -213,7 +213,7 @@ def _mesh_ahead(case, todo, cache_dir, progress):
 
 def _say_compile(case, todo, workers, scheduler, progress):
     """Warn that the first task of each process compiles the kernels (bodies only: no bodies, no kernels)."""
-    from bemcheck.solvers.bem_device import kernels_compiled
+    from bemcheck.solvers.bem.device import kernels_compiled
 
     if not case.bodies or not todo:
         return
@@ -331,7 +331,7 @@ def harmonic_names(case):
     >>> harmonic_names(bemcheck.load_case(bemcheck.example_path("free-pair")))
     {}
     """
-    from bemcheck.build.check import harmonic_plan
+    from bemcheck.prebuild.check import harmonic_plan
 
     names = {}
     for note, h, f in harmonic_plan(case):
@@ -346,7 +346,7 @@ def _before_build(case, directions, solved, stored):
     sweep stored (:func:`bemcheck.run.tasks.stored_solve`); a part without
     one (a sweep answered by another solver) says so instead.
     """
-    from bemcheck.build.check import before_build
+    from bemcheck.prebuild.check import before_build
     from bemcheck.run.tasks import stored_solve
 
     sources = np.array([s.position for s in case.sources])

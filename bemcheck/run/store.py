@@ -23,7 +23,7 @@ import numpy as np
 
 from bemcheck.errors import BemcheckInputError
 
-from bemcheck.run.results import NonFiniteResult, atomic_write_bytes
+from bemcheck.results.files import NonFiniteResult, atomic_write_bytes
 
 PARTS = "parts"
 LOCK = ".bemcheck.lock"

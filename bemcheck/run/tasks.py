@@ -6,7 +6,7 @@ kernels (in memory), so a long-lived worker pays the compile cost once.
 
 Besides the fields, a solve at a band's mesh keeps what re-evaluating the
 impedances at moved monopoles needs (the placement study with scattering,
-:mod:`bemcheck.build.scattered`): the total surface pressure of every source
+:mod:`bemcheck.prebuild.scattered`): the total surface pressure of every source
 (N unknowns × S sources, complex), the pistons' normal velocities (on their
 faces only) and the mesh itself, so no remeshing and no mesh cache is needed
 to use it later.
@@ -61,7 +61,7 @@ def solve_case_frequency(case, mesh, frequency, directions, device="auto", alone
     ----------
     alone : bool
         Also solve every body that carries a source with only that body
-        present (``own_far_field``; see :func:`bemcheck.solvers.bem.solve_frequency`).
+        present (``own_far_field``; see :func:`bemcheck.solvers.bem.solve.solve_frequency`).
 
     Returns
     -------
@@ -71,8 +71,8 @@ def solve_case_frequency(case, mesh, frequency, directions, device="auto", alone
         with columns in ``case.sources`` order; and the solver's own
         solution (columns in solver order).
     """
-    from bemcheck.solvers.bem import solve_frequency
-    from bemcheck.solvers.bem_device import configure_device
+    from bemcheck.solvers.bem.solve import solve_frequency
+    from bemcheck.solvers.bem.device import configure_device
 
     configure_device(device)
     order, points, groups = _column_order(case)
@@ -207,7 +207,7 @@ def bem_task(case, task, device="auto", cache_dir=None):
 
 def _surface_arrays(sol, mesh):
     """What :func:`stored_solve` needs, all finite (the part store refuses NaN)."""
-    from bemcheck.solvers.bem_surface import surface_from_mesh
+    from bemcheck.solvers.bem.surface import surface_from_mesh
 
     used = surface_from_mesh(mesh).mesh_vertex
     v = np.asarray(sol.normal_velocity, dtype=float)  # (nt, V); only the pistons' faces are not zero
@@ -240,9 +240,9 @@ def stored_solve(case, frequency, arrays):
         None when the part holds no surface solution (a sweep answered by
         something other than :func:`bem_task`).
     """
-    from bemcheck.build.scattered import StoredSolve
+    from bemcheck.prebuild.scattered import StoredSolve
     from bemcheck.mesh.surface import SurfaceMesh
-    from bemcheck.solvers.bem_surface import surface_from_mesh
+    from bemcheck.solvers.bem.surface import surface_from_mesh
 
     if any(name not in arrays for name in SURFACE_ARRAYS):
         return None

@@ -1,7 +1,7 @@
 """Catalogue of bad inputs, end to end through the `bemcheck` command.
 
 Every row runs ``main([...])`` in this process and asserts the contract of
-``bemcheck/cli.py``: exit code 2, a message on stderr naming the file, the key
+``bemcheck/cli/app.py``: exit code 2, a message on stderr naming the file, the key
 or the element and what was expected, no traceback, and nothing half-written
 (no results.nc, summary.json or report.html, no ``*.part`` temporary, no lock).
 The case-file rows of ``test_case_loader.py`` are not repeated here; these
@@ -40,7 +40,7 @@ import pytest
 import bemcheck
 from bemcheck.cli import main
 from bemcheck.mesh.scene import check_file_bodies
-from bemcheck.run import results
+from bemcheck.results import files as results
 
 DATA = Path(__file__).resolve().parents[1] / "data" / "bad"
 OUTPUTS = ("results.nc", "summary.json", "report.html", ".bemcheck.lock")
@@ -423,7 +423,7 @@ def test_disk_full_mid_sweep_keeps_nothing_half_written_and_resumes(tmp_path, ca
     only the tasks not stored and gives the numbers of a run that never failed.
 
     A sweep with no bodies: the BEM path answers the free field (see
-    tests/validation/test_run_without_bodies.py), so the sweep machinery runs
+    tests/verification/test_run_without_bodies.py), so the sweep machinery runs
     without a solver's compile time.
     """
     case = tmp_path / "case.toml"

@@ -4,8 +4,8 @@ import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from bemcheck.solvers.bem_assembly import colour_triangles
-from bemcheck.solvers.bem_kernel import surface_curls
+from bemcheck.solvers.bem.assembly import colour_triangles
+from bemcheck.solvers.bem.kernel import surface_curls
 from tests.support.icosphere import icosphere
 
 
@@ -51,7 +51,7 @@ def test_cosine_and_sine_against_numpy():
     """The fast (cos, sin) against numpy's libm values over the arguments the
     assembly and the far field meet (a few hundred radians either side of 0):
     within 5e-14 absolute."""
-    from bemcheck.solvers.bem_kernel import cis
+    from bemcheck.solvers.bem.kernel import cis
 
     x = np.concatenate([np.linspace(0.0, 10.0, 20001), np.geomspace(10.0, 400.0, 5001)])
     x = np.concatenate([x, -x])

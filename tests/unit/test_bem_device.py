@@ -5,9 +5,9 @@ import sys
 
 import pytest
 
-from bemcheck.solvers import bem_device
-from bemcheck.solvers.bem_surface import surface_from_mesh
-from bemcheck.solvers.bem_system import assemble
+from bemcheck.solvers.bem import device as bem_device
+from bemcheck.solvers.bem.surface import surface_from_mesh
+from bemcheck.solvers.bem.system import assemble
 from tests.support.icosphere import icosphere
 
 def test_numba_is_configured_and_recorded():
@@ -33,9 +33,9 @@ def test_import_is_quiet_and_lazy():
     prints "Could not find Gmsh" on import when no gmsh binary is on PATH)."""
     code = (
         "import sys\n"
-        "import bemcheck.solvers.bem\n"
+        "import bemcheck.solvers.bem.solve\n"
         "assert 'bempp_cl' not in sys.modules\n"
-        "from bemcheck.solvers.bem_device import bempp\n"
+        "from bemcheck.solvers.bem.device import bempp\n"
         "bempp()\n"
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=300)
@@ -46,7 +46,7 @@ def test_import_is_quiet_and_lazy():
 def test_a_solve_too_large_for_the_memory_is_refused_before_allocating():
     """2 dense N x N complex arrays at 16 bytes per entry: N = 40,000 needs 47.7 GiB."""
     from bemcheck.errors import BemcheckInputError
-    from bemcheck.solvers.bem_system import check_memory
+    from bemcheck.solvers.bem.system import check_memory
 
     with pytest.raises(BemcheckInputError, match=r"40,000 unknowns needs about 47.7 GiB.*24.0 GiB"):
         check_memory(40_000, available=24 * 1024**3)

@@ -8,9 +8,9 @@ surface we check identities that hold exactly instead.
 import numpy as np
 import pytest
 
-from bemcheck.solvers.bem_device import bempp
-from bemcheck.solvers.bem_integrals import far_field_moments, moments
-from bemcheck.solvers.bem_surface import surface_from_mesh
+from bemcheck.solvers.bem.device import bempp
+from bemcheck.solvers.bem.integrals import far_field_moments, moments
+from bemcheck.solvers.bem.surface import surface_from_mesh
 from tests.support.icosphere import icosphere, ray_hit, voxel_body
 
 K = 2.0

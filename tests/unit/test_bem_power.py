@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from bemcheck.solvers.bem_power import LEBEDEV_ORDERS, power_directions
+from bemcheck.solvers.bem.power import LEBEDEV_ORDERS, power_directions
 
 
 @pytest.mark.parametrize("k, radius", [(0.5, 0.2), (6.0, 0.5), (20.0, 1.0), (90.0, 1.0)])

@@ -5,9 +5,9 @@ from math import factorial
 import numpy as np
 import pytest
 
-from bemcheck.solvers import bem_quadrature as quad
-from bemcheck.solvers.bem_integrals import moments
-from bemcheck.solvers.bem_surface import Surface
+from bemcheck.solvers.bem import quadrature as quad
+from bemcheck.solvers.bem.integrals import moments
+from bemcheck.solvers.bem.surface import Surface
 
 TRI = np.array([[0.0, 0.0, 0.0], [1.0, 0.0, 0.0], [0.2, 0.9, 0.0]])
 

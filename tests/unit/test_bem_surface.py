@@ -5,7 +5,7 @@ import pytest
 
 from bemcheck.errors import BemcheckInputError, GeometryError
 from bemcheck.mesh.surface import SurfaceMesh
-from bemcheck.solvers.bem_surface import surface_from_mesh
+from bemcheck.solvers.bem.surface import surface_from_mesh
 from tests.support.icosphere import icosphere, voxel_body
 
 

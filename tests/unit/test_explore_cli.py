@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from bemcheck.cli import main
-from bemcheck.run.results import read_dataset
+from bemcheck.results.files import read_dataset
 
 HEAD = """
 [case]

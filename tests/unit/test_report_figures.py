@@ -24,8 +24,8 @@ from bemcheck.report.layout import layout_figure
 from bemcheck.report.signals import plane_directions, polar_frequencies
 from bemcheck.report.style import file_stem
 from bemcheck.report.tables import aspect_ratios, mesh_rows
-from bemcheck.run.combine import combine
-from bemcheck.run.dataset import run_attributes
+from bemcheck.results.combine import combine
+from bemcheck.results.dataset import run_attributes
 from bemcheck.run.runner import free_responses
 from tests.support.image_source import image_response
 

@@ -12,7 +12,7 @@ import bemcheck
 from bemcheck.compare import verdict_lines
 from bemcheck.errors import BemcheckInputError
 from bemcheck.report import records_rows, report_run, write_report
-from bemcheck.run.results import write_dataset, write_summary
+from bemcheck.results.files import write_dataset, write_summary
 from tests.unit.test_report_figures import PNG_MAGIC, cube_mesh, floor_run, free_run
 
 SECTIONS = ("summary", "verdict", "trust-limits", "attenuation", "figures", "mesh", "numerical-error", "case", "cautions")

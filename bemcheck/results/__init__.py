@@ -1,0 +1,1 @@
+"""What a run leaves behind: the results dataset, its files, and atomic writes."""

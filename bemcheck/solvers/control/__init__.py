@@ -1,0 +1,1 @@
+"""Active control on top of the transfer impedances: optimal control strengths and the strengths of every signal."""
