@@ -7,7 +7,7 @@ from pathlib import Path
 
 import numpy as np
 
-from bemcheck.prebuild.drivers import Driver, check_driver
+from bemcheck.case.drivers import Driver, check_driver
 from bemcheck.case import limits
 from bemcheck.case.model import (
     Bell,
