@@ -6,7 +6,7 @@ return; :mod:`report` formats what these compute.
 
 import numpy as np
 
-from bemcheck.solvers.bem.system import DENSE_ARRAYS
+from bemcheck.memory import DENSE_ARRAYS
 
 GIB = 1024.0**3
 COMPLEX_BYTES = 16

@@ -10,6 +10,7 @@ import math
 from dataclasses import dataclass
 
 from bemcheck.errors import CaseError
+from bemcheck.memory import available_memory
 from bemcheck.observers import for_observers, in_sector
 
 
@@ -134,8 +135,6 @@ def _check_result_size(case, n_directions, file):
     needed = RESULT_BYTES * len(case.frequencies) * n_directions * signals
     if needed < 2**28:
         return  # 256 MiB: any machine bemcheck runs on holds that
-    from bemcheck.solvers.bem.system import available_memory
-
     available = available_memory()
     if available is not None and needed > available:
         gib = 1024.0**3

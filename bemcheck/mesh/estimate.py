@@ -12,6 +12,7 @@ on them would certainly not fit.
 import math
 
 from bemcheck.errors import GeometryError
+from bemcheck.memory import available_memory, dense_bytes
 
 # Inscribed facets lose a little area (under 1 % at the sizes bemcheck meshes,
 # see bemcheck/mesh/bodies.py); the bound allows twice that.
@@ -85,8 +86,6 @@ def check_mesh_size(case, element_size, refine=1.0, available=None):
         BEM matrices at least exceed the available memory; the message names
         the largest body, its triangles and the keys setting the size.
     """
-    from bemcheck.solvers.bem.system import DENSE_ARRAYS, available_memory
-
     h = element_size / refine
     counts = []
     for i, body in enumerate(case.bodies):
@@ -97,7 +96,7 @@ def check_mesh_size(case, element_size, refine=1.0, available=None):
         return
     triangles = sum(n for n, _, _ in counts)
     unknowns = triangles // 2 + 2 * len(counts)
-    needed = DENSE_ARRAYS * 16.0 * float(unknowns) ** 2
+    needed = dense_bytes(unknowns)
     available = available_memory() if available is None else available
     if triangles <= MAX_TRIANGLES and (available is None or needed <= available):
         return

@@ -5,15 +5,13 @@ run wire them to a case file.  Complex amplitudes are peak values with the
 time factor exp(-iωt); SPL is RMS, dB re 20 µPa.
 """
 
+from bemcheck.case.drivers import Driver, check_driver, driver_problems
 from bemcheck.prebuild.drivers import (
     ClosedBox,
     Drive,
-    Driver,
-    check_driver,
     closed_box,
     cone_velocity_per_volt,
     drive_for,
-    driver_problems,
     excursion_limited_volume_velocity,
     excursion_per_volt,
     rated_voltage,

@@ -18,7 +18,7 @@ from pathlib import Path
 
 import pytest
 
-import bemcheck.cli
+import bemcheck.cli.examples
 from bemcheck.cli import main
 from bemcheck.run.store import LOCK, LockOwner, RunLock
 
@@ -55,7 +55,7 @@ def _break_examples(monkeypatch):
     def broken(args, out):
         raise RuntimeError(_BROKEN)
 
-    monkeypatch.setitem(bemcheck.cli._COMMANDS, "examples", broken)
+    monkeypatch.setattr(bemcheck.cli.examples, "execute", broken)
 
 
 def test_internal_failure_keeps_the_traceback_in_a_log(tmp_path, monkeypatch, capsys):
@@ -90,11 +90,11 @@ def test_full_temporary_folder_leaves_no_cut_short_log(tmp_path):
     logs = tmp_path / "tmp"
     logs.mkdir()
     script = (
-        "import resource, signal, sys, bemcheck.cli as cli\n"
+        "import resource, signal, sys, bemcheck.cli.app as cli\n"
         "signal.signal(signal.SIGXFSZ, signal.SIG_IGN)\n"
         "def broken(args, out):\n"
         f"    raise RuntimeError({_BROKEN!r} + ' ' + 'x' * 4000)\n"
-        "cli._COMMANDS['examples'] = broken\n"
+        "cli.examples.execute = broken\n"
         "resource.setrlimit(resource.RLIMIT_FSIZE, (512, 512))\n"
         "sys.exit(cli.main(['examples']))\n"
     )

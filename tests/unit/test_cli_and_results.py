@@ -106,7 +106,7 @@ def test_model_bem_and_device_are_gone(tmp_path, capsys):
 @pytest.mark.parametrize("spec, taken", [("112.2", "112.2"), ("112.25,898", "112.2, 898"), ("112.2:127", "112.2, 126")])
 def test_frequencies_match_within_a_stated_tolerance_and_say_which(spec, taken):
     """A value printed with four digits (the report's 112.2 for 2^(1/6)·100 = 112.246 Hz) names that frequency."""
-    from bemcheck.cli.app import FREQUENCY_MATCH, _subset
+    from bemcheck.cli.run import FREQUENCY_MATCH, _subset
 
     case = bemcheck.load_case(bemcheck.example_path("demo"))
     keep = _subset(case, spec, "demo.toml")
@@ -115,7 +115,7 @@ def test_frequencies_match_within_a_stated_tolerance_and_say_which(spec, taken):
 
 
 def test_frequencies_outside_the_tolerance_are_refused(capsys):
-    from bemcheck.cli.app import _subset
+    from bemcheck.cli.run import _subset
     from bemcheck.errors import CaseError
 
     case = bemcheck.load_case(bemcheck.example_path("demo"))

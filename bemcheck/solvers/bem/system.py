@@ -26,6 +26,7 @@ from scipy.linalg import lu_factor, lu_solve
 from scipy.sparse import coo_matrix
 
 from bemcheck.errors import BemcheckInputError
+from bemcheck.memory import available_memory, dense_bytes
 from bemcheck.solvers.bem.assembly import burton_miller_matrix, velocity_matrix
 from bemcheck.solvers.bem.device import bempp, current_device, note_assembly
 
@@ -95,27 +96,6 @@ def _grid(surface):
     return grid
 
 
-# N x N complex arrays held at the peak of a solve: the matrix and the
-# transposed pair blocks during assembly (the LU works in place); measured
-# 2.1 in bench/.
-DENSE_ARRAYS = 2
-
-
-def available_memory():
-    """Memory the system could give this process now [bytes], or None where unknown.
-
-    Linux's MemAvailable (free memory plus what the page cache can yield).
-    """
-    try:
-        with open("/proc/meminfo") as fh:
-            for line in fh:
-                if line.startswith("MemAvailable:"):
-                    return int(line.split()[1]) * 1024
-    except (OSError, ValueError, IndexError):
-        return None
-    return None
-
-
 def check_memory(n_unknowns, available=None, block_unknowns=()):
     """Refuse a solve whose dense matrices would not fit in memory, before allocating them.
 
@@ -131,14 +111,14 @@ def check_memory(n_unknowns, available=None, block_unknowns=()):
     Raises
     ------
     BemcheckInputError
-        When DENSE_ARRAYS · 16 N² bytes exceed what is available.
+        When :func:`~bemcheck.memory.dense_bytes` exceeds what is available.
 
     Examples
     --------
     >>> check_memory(1_000, available=10**9)   # 32 MB needed: fine
     """
     available = available_memory() if available is None else available
-    needed = DENSE_ARRAYS * 16.0 * float(n_unknowns) ** 2 + 16.0 * sum(float(n) ** 2 for n in block_unknowns)
+    needed = dense_bytes(n_unknowns, block_unknowns)
     if available is not None and needed > available:
         gib = 1024.0**3
         raise BemcheckInputError(
