@@ -3,6 +3,8 @@
 import dataclasses
 import tomllib
 
+from bemcheck.mesh import plan_bands
+
 _DRIVER_UNITS = (("re", "Ω"), ("bl", "T·m"), ("mms", "kg"), ("cms", "m/N"), ("rms", "kg/s"), ("sd", "m²"),
                  ("xmax", "m"), ("vb", "m³"), ("rated_power", "W"), ("le", "H"))
 
@@ -38,7 +40,6 @@ def _shape_text(body):
 
 
 def _mesh_lines(case):
-    from bemcheck.mesh import plan_bands
 
     lines = [_row("mesh", f"{case.mesh.elements_per_wavelength:g} elements per wavelength, bands of "
                           f"{case.mesh.band_octaves:g} octave(s)")]

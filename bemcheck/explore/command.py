@@ -22,6 +22,9 @@ from bemcheck.explore.page import PAGE_FILE, write_page
 from bemcheck.explore.results import DESIGNS, EXPLORE_FILE, MODELS, Choice, explore_dataset
 from bemcheck.explore.solve import band_meshes, base_sources, solve_candidates
 from bemcheck.observers import for_observers
+from bemcheck.results.files import atomic_write_bytes, write_dataset
+from bemcheck.run.runner import prepare_folder
+from bemcheck.run.store import RunLock
 
 LAYOUT_FILES = {"chosen_bem": "layout.toml", "chosen_free": "layout_free.toml"}
 CHOSEN = {"chosen_bem": "chosen with scattering", "chosen_free": "chosen in the free field"}
@@ -94,9 +97,6 @@ def explore_case(case, out_dir, cache_dir=None, progress=None):
     -------
     ExploreOutcome
     """
-    from bemcheck.results.files import atomic_write_bytes, write_dataset
-    from bemcheck.run.runner import prepare_folder
-    from bemcheck.run.store import RunLock
 
     if case.explore is None:
         raise CaseError(f"{case.path or '<case>'}: explore: required table is missing; expected an [explore] table "

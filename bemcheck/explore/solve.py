@@ -16,8 +16,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from bemcheck.case.model import Source
-from bemcheck.solvers.response import free_response
+from bemcheck.mesh import band_of, mesh_scene, plan_bands
+from bemcheck.run.tasks import check_mesh, solve_case_frequency
 from bemcheck.solvers.control.strengths import primary_strengths
+from bemcheck.solvers.response import free_response
 
 
 @dataclass(frozen=True)
@@ -93,8 +95,6 @@ def with_candidates(case, positions):
 
 def band_meshes(case, cache_dir=None):
     """Each band's mesh and check mesh: {band index: (mesh, check mesh, size ratio)}; {} without bodies."""
-    from bemcheck.mesh import mesh_scene, plan_bands
-    from bemcheck.run.tasks import check_mesh
 
     if not case.bodies:
         return {}
@@ -125,8 +125,6 @@ def solve_candidates(case, positions, meshes, directions, progress=None):
     -------
     ExploreSolves
     """
-    from bemcheck.mesh import band_of, plan_bands
-    from bemcheck.run.tasks import solve_case_frequency
 
     full = with_candidates(case, positions)
     xyz = np.array([s.position for s in full.sources])

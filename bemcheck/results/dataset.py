@@ -1,9 +1,10 @@
 """Lay per-frequency model responses out as one labelled xarray Dataset."""
 
+from importlib.metadata import version as _dist_version
+
 import numpy as np
 import xarray as xr
 
-from importlib.metadata import version as _dist_version
 from bemcheck.solvers.control.optimal import attenuation_db
 from bemcheck.solvers.control.strengths import control_strengths, full_strengths, primary_strengths, source_indices
 

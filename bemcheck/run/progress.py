@@ -13,6 +13,8 @@ import sys
 import threading
 import time
 
+from bemcheck.run.sweep import task_label
+
 # Longest silence a run allows itself [s] (common practice, no source: a
 # user starts to wonder after a few seconds).
 HEARTBEAT_S = 5.0
@@ -139,7 +141,6 @@ class Progress:
     """
 
     def __init__(self, stream=None, quiet=False, heartbeat_s=HEARTBEAT_S, label=None):
-        from bemcheck.run.sweep import task_label
 
         self.stream = stream or sys.stderr
         self.quiet = quiet

@@ -12,14 +12,20 @@ import numpy as np
 
 from bemcheck.compare import verdict_lines
 from bemcheck.errors import BemcheckInputError
+from bemcheck.mesh import mesh_scene, plan_bands
 from bemcheck.mesh.estimate import check_mesh_size
+from bemcheck.mesh.scene import check_file_bodies
 from bemcheck.observers import for_observers
+from bemcheck.prebuild.check import before_build, harmonic_plan
 from bemcheck.results.combine import combine
 from bemcheck.results.dataset import run_attributes
 from bemcheck.results.files import RESULTS_FILE, SUMMARY_FILE, read_dataset, write_dataset, write_summary
-from bemcheck.run.store import PartStore, RunLock
+from bemcheck.run import tasks as bem_tasks
 from bemcheck.run.progress import COMPILE_HINT_S, Progress
+from bemcheck.run.store import PartStore, RunLock
 from bemcheck.run.sweep import CHECK, SOLVE, execute, plan_tasks, task_label
+from bemcheck.run.tasks import check_mesh, stored_solve
+from bemcheck.solvers.bem.device import kernels_compiled
 from bemcheck.solvers.response import FieldResponse, free_response
 
 MODELS = ("free", "both")
@@ -140,14 +146,11 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
     BemSweep
     """
     if bands is None:
-        from bemcheck.mesh import plan_bands
 
         bands = plan_bands(case)
     if any(b.kind == "file" for b in case.bodies):
-        from bemcheck.mesh.scene import check_file_bodies
 
         check_file_bodies(case, cache_dir)  # before hours of solves, not at the top band
-    from bemcheck.prebuild.check import harmonic_plan
 
     if case.bodies:  # the finest band mesh of the sweep, before any mesh is made
         check_mesh_size(case, min(b.element_size for b in bands))
@@ -156,7 +159,6 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
     progress = progress or Progress(quiet=True)
     store = PartStore(folder)
     if solve is None:
-        from bemcheck.run import tasks as bem_tasks
 
         solve = functools.partial(bem_tasks.bem_task, case, device=device, cache_dir=cache_dir)
         _mesh_ahead(case, [t for t in plan if not store.has(t.key)], cache_dir, progress)
@@ -194,8 +196,6 @@ def _mesh_ahead(case, todo, cache_dir, progress):
     """
     if not case.bodies:
         return
-    from bemcheck.mesh import mesh_scene
-    from bemcheck.run.tasks import check_mesh
 
     sizes = sorted({t.element_size for t in todo}, reverse=True)
     for i, size in enumerate(sizes):
@@ -213,7 +213,6 @@ def _mesh_ahead(case, todo, cache_dir, progress):
 
 def _say_compile(case, todo, workers, scheduler, progress):
     """Warn that the first task of each process compiles the kernels (bodies only: no bodies, no kernels)."""
-    from bemcheck.solvers.bem.device import kernels_compiled
 
     if not case.bodies or not todo:
         return
@@ -314,7 +313,6 @@ def _write_report(case, folder, options, progress):
 
     mesh = None
     if "p_bem" in read_dataset(folder / RESULTS_FILE).data_vars and case.bodies and "solve" not in options:
-        from bemcheck.mesh import mesh_scene, plan_bands
 
         progress.step("report: reading the finest mesh for the layout figure")
         mesh = mesh_scene(case, min(b.element_size for b in plan_bands(case)), cache_dir=options.get("cache_dir"))
@@ -331,7 +329,6 @@ def harmonic_names(case):
     >>> harmonic_names(bemcheck.load_case(bemcheck.example_path("free-pair")))
     {}
     """
-    from bemcheck.prebuild.check import harmonic_plan
 
     names = {}
     for note, h, f in harmonic_plan(case):
@@ -346,8 +343,6 @@ def _before_build(case, directions, solved, stored):
     sweep stored (:func:`bemcheck.run.tasks.stored_solve`); a part without
     one (a sweep answered by another solver) says so instead.
     """
-    from bemcheck.prebuild.check import before_build
-    from bemcheck.run.tasks import stored_solve
 
     sources = np.array([s.position for s in case.sources])
     points = np.array([p.at for p in case.observers.points]).reshape(-1, 3)

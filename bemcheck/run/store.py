@@ -22,8 +22,12 @@ from pathlib import Path
 import numpy as np
 
 from bemcheck.errors import BemcheckInputError
-
 from bemcheck.results.files import NonFiniteResult, atomic_write_bytes
+
+# Version of what a task stores.  It enters every task's key
+# (bemcheck.run.sweep.plan_tasks), so parts written in another format are
+# never read as this one.
+PART_FORMAT = 5
 
 PARTS = "parts"
 LOCK = ".bemcheck.lock"

@@ -17,7 +17,7 @@ from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass
 
 from bemcheck.errors import BemcheckInputError
-from bemcheck.run.tasks import PART_FORMAT
+from bemcheck.run.store import PART_FORMAT
 
 # Kinds of task.  SOLVE: a case frequency (or a played harmonic) on its
 # band's mesh, with every body that carries a source also solved alone (from

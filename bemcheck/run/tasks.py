@@ -12,15 +12,19 @@ faces only) and the mesh itself, so no remeshing and no mesh cache is needed
 to use it later.
 """
 
+import time
+
 import numpy as np
 
 from bemcheck.case.load import PISTON_FACES
+from bemcheck.mesh import SurfaceMesh, mesh_scene
 from bemcheck.observers import for_observers
+from bemcheck.prebuild.scattered import StoredSolve
+from bemcheck.run.sweep import CHECK, SOLVE, bodies_with_sources
+from bemcheck.solvers.bem.device import configure_device
+from bemcheck.solvers.bem.solve import solve_frequency
+from bemcheck.solvers.bem.surface import surface_from_mesh
 
-# Version of what a task stores.  It enters every task's key
-# (bemcheck.run.sweep.plan_tasks), so parts written in another format are
-# never read as this one.
-PART_FORMAT = 5
 # The error-estimate mesh of a frequency has every size, the geometric bounds
 # included, this many times the band mesh's: P1 errors scale as h², so the
 # two solutions differ by (CHECK_COARSEN² − 1) times the band mesh's error
@@ -47,7 +51,6 @@ def _column_order(case):
 
 def _alone_groups(case, mesh, order):
     """(domain tags, solver columns) of every body carrying a source, for ``solve_frequency(alone=...)``."""
-    from bemcheck.run.sweep import bodies_with_sources
 
     column = np.argsort(order)  # case source i sits in solver column column[i]
     return [(mesh.tags_of_body(name), [int(column[i]) for i, s in enumerate(case.sources) if s.on == name])
@@ -71,8 +74,6 @@ def solve_case_frequency(case, mesh, frequency, directions, device="auto", alone
         with columns in ``case.sources`` order; and the solver's own
         solution (columns in solver order).
     """
-    from bemcheck.solvers.bem.solve import solve_frequency
-    from bemcheck.solvers.bem.device import configure_device
 
     configure_device(device)
     order, points, groups = _column_order(case)
@@ -97,13 +98,11 @@ def subdivided(mesh):
 
     Examples
     --------
-    >>> from bemcheck.mesh.surface import SurfaceMesh
     >>> m = SurfaceMesh(np.eye(3), np.array([[0, 1, 2]]), np.array([1]))
     >>> s = subdivided(m)
     >>> s.n_triangles, s.n_vertices, round(float(s.areas().sum() / m.areas().sum()), 12)
     (4, 6, 1.0)
     """
-    from bemcheck.mesh.surface import SurfaceMesh
 
     tri = np.asarray(mesh.triangles)
     edges = np.sort(np.concatenate([tri[:, [0, 1]], tri[:, [1, 2]], tri[:, [2, 0]]]), axis=1)
@@ -139,7 +138,6 @@ def check_mesh(case, element_size, cache_dir=None):
     >>> ratio
     0.5
     """
-    from bemcheck.mesh import mesh_scene
 
     band = mesh_scene(case, element_size, cache_dir=cache_dir)
     if not any(b.kind == "file" for b in case.bodies):
@@ -172,10 +170,7 @@ def bem_task(case, task, device="auto", cache_dir=None):
         ``own_far_field`` (D, S): each source with only its own body.
         Meta: mesh and timings.
     """
-    import time
 
-    from bemcheck.mesh import SurfaceMesh, mesh_scene
-    from bemcheck.run.sweep import CHECK, SOLVE
 
     start = time.perf_counter()
     if not case.bodies:  # nothing scatters: the solver answers the free field
@@ -207,7 +202,6 @@ def bem_task(case, task, device="auto", cache_dir=None):
 
 def _surface_arrays(sol, mesh):
     """What :func:`stored_solve` needs, all finite (the part store refuses NaN)."""
-    from bemcheck.solvers.bem.surface import surface_from_mesh
 
     used = surface_from_mesh(mesh).mesh_vertex
     v = np.asarray(sol.normal_velocity, dtype=float)  # (nt, V); only the pistons' faces are not zero
@@ -240,9 +234,6 @@ def stored_solve(case, frequency, arrays):
         None when the part holds no surface solution (a sweep answered by
         something other than :func:`bem_task`).
     """
-    from bemcheck.prebuild.scattered import StoredSolve
-    from bemcheck.mesh.surface import SurfaceMesh
-    from bemcheck.solvers.bem.surface import surface_from_mesh
 
     if any(name not in arrays for name in SURFACE_ARRAYS):
         return None

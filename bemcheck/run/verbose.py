@@ -9,6 +9,8 @@ from pathlib import Path
 import numpy as np
 
 from bemcheck.errors import BemcheckInputError
+from bemcheck.mesh import cache
+from bemcheck.mesh.bodies import mesh_key
 from bemcheck.run.tasks import CHECK_COARSEN
 
 
@@ -30,8 +32,6 @@ def mesh_cache_lines(case, bands, cache_dir=None):
     """
     if not case.bodies:
         return ["mesh cache: not used (no bodies to mesh)"]
-    from bemcheck.mesh import cache
-    from bemcheck.mesh.bodies import mesh_key
 
     folder = cache.default_cache_dir() if cache_dir is None else Path(cache_dir)
     base_dir = Path(case.path).parent if case.path else None
