@@ -11,8 +11,8 @@ Examples
 """
 
 from bemcheck.case import Case, load_case
-from bemcheck.errors import BemcheckInputError, CaseError, GeometryError
 from bemcheck.case.examples import example_names, example_path
+from bemcheck.errors import BemcheckInputError, CaseError, GeometryError
 from bemcheck.results.files import load_results
 from bemcheck.run.runner import run_case
 

@@ -31,7 +31,8 @@ from pathlib import Path
 import numpy as np
 import report
 
-from bemcheck.case.model import Bell, Body, Case, MeshSettings, Medium, Source
+from bemcheck.case.model import Body, Case, Medium, MeshSettings, Source
+from bemcheck.case.shapes import Bell
 from bemcheck.mesh import mesh_scene, plan_bands
 from bemcheck.mesh.checks import check_surface
 from bemcheck.mesh.gmsh_session import session, triangles_by_group
@@ -52,7 +53,7 @@ DIRECTIONS = np.stack([np.sin(AZIMUTH), np.zeros_like(AZIMUTH), np.cos(AZIMUTH)]
 
 
 def _case():
-    body = Body("bell", "bell", BELL)
+    body = Body("bell", BELL)
     piston = Source("mouth", "primary", (0.0, 0.0, 0.0), on="bell", radiator="piston")
     return Case("trombone-size bell (invented dimensions)", FREQUENCIES, (piston,), medium=MEDIUM,
                 mesh=MeshSettings(elements_per_wavelength=6.0, band_octaves=1.0), bodies=(body,))

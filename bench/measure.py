@@ -52,10 +52,9 @@ def _warm_up(reference=False):
     too: the first sphere after the cube still took 20-35 s more than the
     next one (measured here), compiling something the cube did not need.
     """
-    from tests.support.icosphere import icosphere, voxel_body
-
     from bemcheck.case.model import Medium
     from bemcheck.solvers.bem.solve import solve_frequency
+    from tests.support.icosphere import icosphere, voxel_body
 
     cube = voxel_body([[[True]]], 0.3, n=3, face_tags={(2, 1): ("cube.driver", 2)}, name="cube")
     args = (cube, 200.0, Medium(), [[0.9, 0.15, 0.15]], ring(8))
@@ -132,10 +131,9 @@ def scaling(sizes, radius=0.3, elements_per_wavelength=8.0, budget_s=np.inf):
         ``warm_up_s``, ``baseline_rss`` [bytes], ``rows`` (one dict per size,
         with the far field's error against the exact series) and ``skipped``.
     """
-    from tests.support.icosphere import icosphere
-
     from bemcheck.case.model import Medium
     from bemcheck.solvers.bem.solve import solve_frequency
+    from tests.support.icosphere import icosphere
 
     medium = Medium()
     sources = 2.0 * radius * np.array([[1.0, 0, 0], [0, 1.0, 0], [0, -0.6, 0.8], [-0.6, 0, 0.8]])
@@ -178,11 +176,10 @@ def scaling(sizes, radius=0.3, elements_per_wavelength=8.0, budget_s=np.inf):
 
 def _case_columns(case):
     """Monopole positions, piston groups, and the case order of the solver's columns (monopoles, then pistons)."""
-    from bemcheck.case.load import PISTON_FACES
 
     points = [i for i, s in enumerate(case.sources) if s.radiator == "point"]
     pistons = [i for i, s in enumerate(case.sources) if s.radiator == "piston"]
-    groups = [f"{case.sources[i].on}.{PISTON_FACES[case.body(case.sources[i].on).kind]}" for i in pistons]
+    groups = [f"{case.sources[i].on}.{case.body(case.sources[i].on).shape.PISTON_FACE}" for i in pistons]
     x = np.array([case.sources[i].position for i in points]).reshape(-1, 3)
     return x, groups, np.argsort(points + pistons)
 
@@ -212,13 +209,14 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
         their far-field differences; ``planned`` counts every task a run of
         the case makes, ``harmonics`` the extra solves at played notes.
     """
-    from bemcheck.prebuild.check import harmonic_plan
+    from reference import reference_solve
+
     from bemcheck.case import load_case
     from bemcheck.mesh import mesh_scene, plan_bands
     from bemcheck.observers import for_observers
+    from bemcheck.prebuild.check import harmonic_plan
     from bemcheck.run.sweep import CHECK, SOLVE, plan_tasks
     from bemcheck.run.tasks import bem_task, check_mesh
-    from reference import reference_solve
 
     case = load_case(case_path)
     plan = plan_tasks(case, plan_bands(case), harmonics=[f for _, _, f in harmonic_plan(case)])

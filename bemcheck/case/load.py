@@ -7,43 +7,33 @@ from pathlib import Path
 
 import numpy as np
 
-from bemcheck.case.drivers import Driver, check_driver
 from bemcheck.case import limits
+from bemcheck.case.drivers import Driver, check_driver
+from bemcheck.case.explore import read_explore
+from bemcheck.case.limits import COINCIDENT, COORDINATE, DIRECTION, FREQUENCY
 from bemcheck.case.model import (
-    Bell,
     Body,
-    Box,
     BuildChecks,
     Case,
     Control,
     FarField,
-    MeshFile,
-    MeshSettings,
     Medium,
-    Observers,
+    MeshSettings,
     ObserverPoint,
+    Observers,
     Sector,
     Source,
     Spectrum,
-    Sphere,
     Tolerance,
 )
-from bemcheck.case.explore import read_explore
-from bemcheck.case.limits import COINCIDENT, COORDINATE, DIRECTION, FREQUENCY, SIZE
 from bemcheck.case.reader import TableReader
+from bemcheck.case.shapes import SHAPES
 from bemcheck.errors import CaseError
 from bemcheck.frames import place
 from bemcheck.observers import PLANES, lebedev_degrees
 
-BODY_KINDS = ("bell", "box", "sphere", "file")
 ROLES = ("primary", "control")
 OBJECTIVES = ("power", "sector", "delay")
-# A source placed with `on` sits this far in front of the face it is on [m]
-# (common practice, no source: clear of the surface by more than the
-# near-field quadrature error of the coarsest mesh we build).
-STANDOFF = 0.02
-# The face that moves as a piston, by body kind (the physical group "<body>.<face>").
-PISTON_FACES = {"bell": "mouth", "box": "driver"}
 
 
 def load_case(path):
@@ -84,10 +74,11 @@ def load_case(path):
     case = parse_case(text, path)
     # Here, not in parse_case: a report re-reads a stored case text after its mesh files may have moved.
     for i, body in enumerate(case.bodies):
-        if body.kind == "file" and not body.shape.path.is_file():
-            found = "a folder" if body.shape.path.is_dir() else "nothing"
-            raise CaseError(f"{path}: body[{i}].path: expected an existing mesh file "
-                            f"(relative to the case file's folder), found {found} at {body.shape.path}")
+        for file in body.shape.files():
+            if not file.is_file():
+                found = "a folder" if file.is_dir() else "nothing"
+                raise CaseError(f"{path}: body[{i}].path: expected an existing mesh file "
+                                f"(relative to the case file's folder), found {found} at {file}")
     return case
 
 
@@ -207,38 +198,12 @@ def _body(r, case_path):
     name = r.string("name")
     if "." in name:  # mesh groups are named "<body>.<face>": "ball.x" would read as a face of "ball"
         r.fail("name", "a name without '.' (mesh groups are named <body>.<face>, e.g. 'bell.mouth')", name)
-    kind = r.string("kind", choices=BODY_KINDS)
+    kind = r.string("kind", choices=tuple(SHAPES))
     at = r.vector("at", (0.0, 0.0, 0.0), within=COORDINATE)
     axis = r.vector("axis", (0.0, 0.0, 1.0), nonzero=True, within=DIRECTION)
-    if kind == "bell":
-        shape = Bell(
-            mouth_radius=r.number("mouth_radius", positive=True, within=SIZE),
-            throat_radius=r.number("throat_radius", positive=True, within=SIZE),
-            length=r.number("length", positive=True, within=SIZE),
-            flare=r.number("flare", positive=True, within=limits.FLARE),
-            rim_radius=r.number("rim_radius", positive=True, within=SIZE),
-            cap_depth=r.number("cap_depth", 0.0, non_negative=True),
-        )
-        if shape.throat_radius >= shape.mouth_radius:
-            r.fail("throat_radius", f"less than mouth_radius ({shape.mouth_radius:g} m)", shape.throat_radius)
-        if shape.rim_radius >= shape.mouth_radius:
-            r.fail("rim_radius", f"less than mouth_radius ({shape.mouth_radius:g} m)", shape.rim_radius)
-        if shape.cap_depth >= shape.length:
-            r.fail("cap_depth", f"less than length ({shape.length:g} m)", shape.cap_depth)
-    elif kind == "box":
-        size = r.numbers("size", length=3, positive=True, within=SIZE)
-        shape = Box(size=size, edge_radius=r.number("edge_radius", 0.0, non_negative=True))
-        if 2.0 * shape.edge_radius >= min(size):
-            r.fail("edge_radius", f"less than half the smallest side ({min(size) / 2:g} m)", shape.edge_radius)
-    elif kind == "sphere":
-        shape = Sphere(radius=r.number("radius", positive=True, within=SIZE))
-    else:
-        file = Path(r.string("path"))
-        if not file.is_absolute():
-            file = Path(case_path).parent / file
-        shape = MeshFile(path=file, scale=r.number("scale", 1.0, positive=True, within=limits.SCALE))
+    shape = SHAPES[kind].read(r, Path(case_path).parent)
     r.done()
-    return Body(name=name, kind=kind, shape=shape, at=at, axis=axis)
+    return Body(name=name, shape=shape, at=at, axis=axis)
 
 
 def _source(r, bodies):
@@ -251,13 +216,15 @@ def _source(r, bodies):
     at = r.vector("at", None, within=COORDINATE)
     if at is None and on is None:
         r.fail("at", "a position [x, y, z] in m (or `on` naming a body)")
-    if radiator == "piston" and (on is None or bodies[on].kind not in PISTON_FACES):
-        r.fail("on", "the name of a bell or a box (a piston is a bell's mouth cap or a box's driver face)", on)
+    if radiator == "piston" and (on is None or bodies[on].shape.PISTON_FACE is None):
+        kinds = " or a ".join(k for k, s in SHAPES.items() if s.PISTON_FACE is not None)
+        faces = ", ".join(f"a {k}'s {s.PISTON_FACE} face" for k, s in SHAPES.items() if s.PISTON_FACE is not None)
+        r.fail("on", f"the name of a {kinds} (a piston is {faces})", on)
     if radiator == "piston" and at is not None:
         r.fail("at", f"no position for a piston (it is the face of body '{on}', and the free-field model puts "
                "its monopole at the face's centre)", list(at))
-    if at is None and bodies[on].kind == "file":
-        r.fail("at", "a position [x, y, z] in m (a file body has no known face to put a source `on`)")
+    if at is None and bodies[on].shape.anchor(radiator) is None:
+        r.fail("at", f"a position [x, y, z] in m (a {bodies[on].kind} body has no known face to put a source `on`)")
     position = at if at is not None else _position_on(bodies[on], radiator)
     strength = r.raw("strength", None)
     spectrum_r = r.sub("spectrum", None)
@@ -289,13 +256,7 @@ def _source(r, bodies):
 
 def _position_on(body, radiator):
     """Where a source named ``on`` a body sits, in the scene frame [m]."""
-    if body.kind == "box":
-        local = (0.0, 0.0, body.shape.size[0] / 2.0 + (0.0 if radiator == "piston" else STANDOFF))
-    elif body.kind == "bell":
-        local = (0.0, 0.0, 0.0 if radiator == "piston" else STANDOFF - body.shape.cap_depth)
-    else:  # a sphere; file bodies are refused by the caller
-        local = (0.0, 0.0, body.shape.radius + STANDOFF)
-    return place([local], body.at, body.axis)[0]
+    return place([body.shape.anchor(radiator)], body.at, body.axis)[0]
 
 
 def _check_sources(sources, file):

@@ -9,8 +9,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from bemcheck.case.explore import ExploreSpec
-
-Vec3 = tuple[float, float, float]
+from bemcheck.case.shapes import Shape, Vec3
 
 
 @dataclass(frozen=True)
@@ -37,59 +36,27 @@ class MeshSettings:
 
 
 @dataclass(frozen=True)
-class Bell:
-    """A Bessel-horn bell of revolution, mouth at the body origin opening toward +z.
-
-    r(x) = b (x + x0)^(-flare), x measured from the mouth toward the throat,
-    fitted so r(0) = mouth_radius and r(length) = throat_radius.
-    """
-
-    mouth_radius: float
-    throat_radius: float
-    length: float
-    flare: float
-    rim_radius: float
-    cap_depth: float = 0.0
-
-
-@dataclass(frozen=True)
-class Box:
-    """A loudspeaker cabinet centred on the body origin; the driver face looks along +z.
-
-    ``size`` is (depth, width, height): depth along the body axis.
-    """
-
-    size: Vec3
-    edge_radius: float = 0.0
-
-
-@dataclass(frozen=True)
-class Sphere:
-    """A rigid sphere centred on the body origin (a listener's head, a validation body)."""
-
-    radius: float
-
-
-@dataclass(frozen=True)
-class MeshFile:
-    """A closed surface mesh brought from CAD; ``scale`` turns file units into metres."""
-
-    path: Path
-    scale: float = 1.0
-
-
-Shape = Bell | Box | Sphere | MeshFile
-
-
-@dataclass(frozen=True)
 class Body:
-    """A rigid scatterer placed in the scene: body origin at ``at``, body +z along ``axis``."""
+    """A rigid scatterer placed in the scene: body origin at ``at``, body +z along ``axis``.
+
+    ``shape`` is one of the registered body kinds (:mod:`bemcheck.case.shapes`).
+
+    Examples
+    --------
+    >>> from bemcheck.case.shapes import Sphere
+    >>> Body("head", Sphere(0.0875), at=(0.0, 0.3, 0.0)).kind
+    'sphere'
+    """
 
     name: str
-    kind: str
     shape: Shape
     at: Vec3 = (0.0, 0.0, 0.0)
     axis: Vec3 = (0.0, 0.0, 1.0)
+
+    @property
+    def kind(self):
+        """The body kind's name, as in the case file's ``kind`` key."""
+        return self.shape.KIND
 
 
 @dataclass(frozen=True)

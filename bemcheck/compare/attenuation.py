@@ -27,6 +27,7 @@ import numpy as np
 
 from bemcheck.compare.errors import CAP_DB, amplitude_error, ratio_error_db, richardson
 
+
 @dataclass(frozen=True)
 class Attenuation:
     """Attenuation of one set of strengths in one model, per direction and in power, with its error.

@@ -22,18 +22,6 @@ from bemcheck.solvers.control.strengths import source_indices
 PASS, FAIL, UNRESOLVED = "PASS", "FAIL", "NOT RESOLVED"
 
 
-def bounding_radius(body):
-    """Radius of the smallest sphere about the body origin holding the body [m]; None for file bodies."""
-    s = body.shape
-    if body.kind == "sphere":
-        return s.radius
-    if body.kind == "box":
-        return 0.5 * float(np.linalg.norm(s.size))
-    if body.kind == "bell":
-        return float(np.hypot(s.mouth_radius, s.length))
-    return None
-
-
 def _where_in_band(f, lo, hi):
     return "below the band" if f < lo else "above the band" if f > hi else "in the band"
 
@@ -64,7 +52,7 @@ def rules_of_thumb(case):
                      "frequency_hz": float(f), "in_band": _where_in_band(f, lo, hi), "source": source})
 
     for body in case.bodies:
-        a = bounding_radius(body)
+        a = body.shape.bounding_radius()
         if a:
             add("ka = 0.5", body.name, a, "a = bounding radius", 0.5 * c / (2.0 * np.pi * a),
                 "common practice, no source")

@@ -13,8 +13,8 @@ import numpy as np
 from bemcheck.case.explore import PLANES
 from bemcheck.case.limits import COINCIDENT
 from bemcheck.mesh.distance import winding_number
-from bemcheck.solvers.bem.solve import MIN_SOURCE_GAP
 from bemcheck.solvers.bem.integrals import moments
+from bemcheck.solvers.bem.solve import MIN_SOURCE_GAP
 from bemcheck.solvers.bem.surface import surface_from_mesh
 
 INSIDE, TOO_CLOSE, COINCIDES = "inside a body", "closer to a surface than the solver resolves", "at a source's position"

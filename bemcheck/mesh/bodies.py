@@ -8,7 +8,6 @@ from pathlib import Path
 
 import numpy as np
 
-from bemcheck.case.model import Bell, Box, MeshFile, Sphere
 from bemcheck.errors import GeometryError
 from bemcheck.geometry_scripts import _sizing
 from bemcheck.mesh import cache
@@ -59,19 +58,6 @@ class BodyMesh:
 def _script(name):
     # the scripts import gmsh only when building, so a cached mesh needs no gmsh
     return importlib.import_module(f"bemcheck.geometry_scripts.{name}")
-
-
-def _shape_args(shape):
-    """The geometry script's name and its shape parameters (all but the size)."""
-    if isinstance(shape, Bell):
-        return "bell", (shape.mouth_radius, shape.throat_radius, shape.length, shape.flare,
-                        shape.rim_radius, shape.cap_depth)
-    if isinstance(shape, Box):
-        depth, width, height = shape.size
-        return "box", (depth, width, height, shape.edge_radius)
-    if isinstance(shape, Sphere):
-        return "sphere", (shape.radius,)
-    raise GeometryError(f"unknown body shape {type(shape).__name__}")
 
 
 @dataclass(frozen=True)
@@ -163,8 +149,7 @@ def straddle(vertices, triangles, parts):
 
 def _generate(body, element_size, refine=1.0):
     label = f"body '{body.name}' ({body.kind})"
-    script_name, params = _shape_args(body.shape)
-    script = _script(script_name)
+    script, params = _script(body.shape.SCRIPT), body.shape.script_args()
     try:
         exact = script.solid_measures(*params)
     except ValueError as exc:
@@ -231,7 +216,7 @@ def _file_path(shape, base_dir):
 
 def mesh_key(body, element_size, base_dir=None, refine=1.0):
     """Cache key of ``body`` meshed at ``element_size`` and ``refine`` (a hex string)."""
-    if isinstance(body.shape, MeshFile):
+    if body.shape.SCRIPT is None:
         path = _file_path(body.shape, base_dir)
         try:
             blob = path.read_bytes()
@@ -239,8 +224,7 @@ def mesh_key(body, element_size, base_dir=None, refine=1.0):
             raise GeometryError(f"body '{body.name}' (mesh file {path}): cannot read it "
                                 f"({exc.strerror})") from exc
         return cache.digest("file", body.shape, None, [blob])
-    script_name, _ = _shape_args(body.shape)
-    sources = [inspect.getsource(_script(script_name)).encode(), inspect.getsource(_sizing).encode()]
+    sources = [inspect.getsource(_script(body.shape.SCRIPT)).encode(), inspect.getsource(_sizing).encode()]
     extra = {"gmsh_size_factor": GMSH_SIZE_FACTOR, "retries": RETRIES,
              "sizing_rule": _sizing.SIZING_RULE, "geometry_retries": GEOMETRY_RETRIES,
              "geometry_margin": GEOMETRY_MARGIN,
@@ -282,7 +266,7 @@ def mesh_body(body, element_size, cache_dir=None, base_dir=None, refine=1.0):
         return mesh
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", MeshNotice)
-        if isinstance(body.shape, MeshFile):
+        if body.shape.SCRIPT is None:
             path = _file_path(body.shape, base_dir)
             vertices, triangles = read_mesh_file(path, body.shape.scale, f"body '{body.name}'")
             parts, part_names = np.zeros(len(triangles), dtype=np.int64), ("",)

@@ -22,37 +22,6 @@ AREA_ALLOWANCE = 0.98
 MAX_TRIANGLES = 2_000_000
 
 
-def area_lower_bound(body):
-    """A lower bound of ``body``'s surface area [m²]; None for a file body (its mesh is given).
-
-    Sphere: 4πa².  Box with rounded edges (radius ρ, sides reduced by 2ρ):
-    flat faces, a quarter cylinder along each edge and an eighth sphere at each
-    corner.  Bell: mouth disc πa², throat disc πt², and a wall at least as
-    large as both its projection on the mouth plane, π(a² − t²), and the
-    cylinder of the throat's radius, 2πtL (the wall's radius is at least t
-    along its length L).
-
-    Examples
-    --------
-    >>> from bemcheck.case.model import Body, Box, Sphere
-    >>> round(area_lower_bound(Body("s", "sphere", Sphere(1.0))), 6)
-    12.566371
-    >>> area_lower_bound(Body("b", "box", Box((1.0, 2.0, 3.0))))
-    22.0
-    """
-    shape = body.shape
-    if body.kind == "sphere":
-        return 4.0 * math.pi * shape.radius**2
-    if body.kind == "box":
-        rho = shape.edge_radius
-        a, b, c = (s - 2.0 * rho for s in shape.size)
-        return 2.0 * (a * b + b * c + a * c) + 2.0 * math.pi * rho * (a + b + c) + 4.0 * math.pi * rho**2
-    if body.kind == "bell":
-        a, t, length = shape.mouth_radius, shape.throat_radius, shape.length
-        return math.pi * (a * a + t * t) + max(math.pi * (a * a - t * t), 2.0 * math.pi * t * length)
-    return None
-
-
 def triangles_lower_bound(area, element_size):
     """Triangles at least needed to cover ``area`` [m²] with edges up to ``element_size`` [m].
 
@@ -89,7 +58,7 @@ def check_mesh_size(case, element_size, refine=1.0, available=None):
     h = element_size / refine
     counts = []
     for i, body in enumerate(case.bodies):
-        area = area_lower_bound(body)
+        area = body.shape.area_lower_bound()
         if area is not None:
             counts.append((triangles_lower_bound(area, h), i, body))
     if not counts:
@@ -107,7 +76,7 @@ def check_mesh_size(case, element_size, refine=1.0, available=None):
     raise GeometryError(
         f"{case.path}: body[{i}] '{body.name}': at element size {1e3 * h:.3g} mm (set by the top frequency and "
         f"mesh.elements_per_wavelength = {case.mesh.elements_per_wavelength:g}{finer}) its surface of "
-        f"{area_lower_bound(body):.3g} m² needs at least {n:,} triangles; the scene at least {triangles:,} "
+        f"{body.shape.area_lower_bound():.3g} m² needs at least {n:,} triangles; the scene at least {triangles:,} "
         f"({unknowns:,} unknowns), whose dense BEM matrices need {needed / gib:,.1f} GiB, and {room} "
         f"(at most {MAX_TRIANGLES:,} triangles in any case); expected a lower top frequency, fewer elements per "
         "wavelength or a smaller body: nothing was meshed"

@@ -5,7 +5,6 @@ from pathlib import Path
 
 import numpy as np
 
-from bemcheck.case.model import MeshFile
 from bemcheck.errors import GeometryError
 from bemcheck.frames import place
 from bemcheck.mesh.bands import REFUSED_BELOW
@@ -61,7 +60,7 @@ def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     offset = 0
     for body in case.bodies:
         bm = mesh_body(body, element_size, cache_dir, base_dir, refine)
-        if isinstance(body.shape, MeshFile):
+        if body.shape.SCRIPT is None:
             _check_resolution(case, body, bm)
         tags = []
         for part in bm.part_names:
@@ -98,7 +97,7 @@ def check_file_bodies(case, cache_dir=None):
     """
     base_dir = Path(case.path).parent if case.path else None
     for body in case.bodies:
-        if isinstance(body.shape, MeshFile):
+        if body.shape.SCRIPT is None:
             _check_resolution(case, body, mesh_body(body, 0.0, cache_dir, base_dir))
 
 

@@ -18,7 +18,7 @@ from bemcheck.prebuild.drivers import (
     volume_velocity_at_rated_power,
     volume_velocity_per_volt,
 )
-from bemcheck.prebuild.notes import Demand, DriveRow, DriverCheck, check_drivers, primary_volume_velocity
+from bemcheck.prebuild.notes import Demand, DriverCheck, DriveRow, check_drivers, primary_volume_velocity
 from bemcheck.prebuild.placement import HarmonicPlacement, PlacementStudy, Study, placement_study
 from bemcheck.prebuild.safety import DEFAULT_LIMIT_DBA, EarLevels, a_weighting, ear_levels, overall_dba, sum_levels
 from bemcheck.prebuild.scattered import MovedImpedance, StoredSolve

@@ -13,17 +13,17 @@ from dataclasses import dataclass
 import numpy as np
 import xarray as xr
 
+from bemcheck.observers import for_observers
 from bemcheck.prebuild.channels import channel_items, channel_study, channel_summary, channel_variables
 from bemcheck.prebuild.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
+from bemcheck.prebuild.ears import MODEL_BEM, MODEL_FREE, PointPressures, ear_items, ear_summary, point_variables
 from bemcheck.prebuild.note_levels import note_lines, note_strengths, note_variables, primary_weights
 from bemcheck.prebuild.notes import DESIGNED, REOPTIMISED, Demand, check_drivers, drive_variables
 from bemcheck.prebuild.placement import PERCENTILES, placement_study
-from bemcheck.prebuild.ears import MODEL_BEM, MODEL_FREE, PointPressures, ear_items, ear_summary, point_variables
 from bemcheck.prebuild.safety import ear_levels
-from bemcheck.observers import for_observers
 from bemcheck.solvers.control.optimal import attenuation_db
-from bemcheck.solvers.freefield import spl_from_pressure
 from bemcheck.solvers.control.strengths import control_strengths, source_indices
+from bemcheck.solvers.freefield import spl_from_pressure
 
 
 @dataclass(frozen=True)

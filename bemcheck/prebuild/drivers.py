@@ -31,8 +31,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bemcheck.case.model import Medium
 from bemcheck.case.drivers import Driver  # noqa: F401 (the docstring examples build one)
+from bemcheck.case.model import Medium
 
 
 @dataclass(frozen=True)

@@ -13,9 +13,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bemcheck.prebuild.drivers import drive_for
 from bemcheck.case.model import Medium
 from bemcheck.errors import CaseError
+from bemcheck.prebuild.drivers import drive_for
 from bemcheck.solvers.freefield import volume_velocity_from_spl
 
 

@@ -23,10 +23,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bemcheck.prebuild.tolerance import placement_spread, tolerance_for_loss
 from bemcheck.errors import GeometryError
-from bemcheck.solvers.freefield import impedance_matrix
+from bemcheck.prebuild.tolerance import placement_spread, tolerance_for_loss
 from bemcheck.solvers.control.strengths import source_indices
+from bemcheck.solvers.freefield import impedance_matrix
 
 # Percentiles of the attenuation reported [%]; the loss is judged at the first.
 PERCENTILES = (5.0, 50.0, 95.0)

@@ -21,8 +21,8 @@ import numpy as np
 
 from bemcheck.mesh.distance import nearest_on_surface
 from bemcheck.solvers import freefield
-from bemcheck.solvers.bem.solve import MIN_SOURCE_GAP, perturbed_impedance
 from bemcheck.solvers.bem.fields import Fields, check_targets
+from bemcheck.solvers.bem.solve import MIN_SOURCE_GAP, perturbed_impedance
 from bemcheck.solvers.bem.surface import surface_from_mesh
 
 # Target-vertex pairs of surface integrals per block of a stack, to bound memory

@@ -12,11 +12,11 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Rectangle
 from matplotlib.ticker import FixedLocator, FormatStrFormatter, NullFormatter, NullLocator
 
-from bemcheck.prebuild.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
 from bemcheck.case.model import Tolerance
 from bemcheck.compare import CONTROLLED
 from bemcheck.compare.trust import NOT_RESOLVED
 from bemcheck.observers import in_sector
+from bemcheck.prebuild.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
 from bemcheck.report import style
 from bemcheck.report.layout import layout_figure
 from bemcheck.report.polar import polar_figure
@@ -28,9 +28,7 @@ from bemcheck.report.signals import (
     plane_directions,
     polar_frequencies,
     primary_q_of,
-    signal_fields,
     signal_label,
-    trust_limit_hz,
 )
 
 SECTOR_TICKS_DB = (0.0, 0.5, 1.0, 2.0, 5.0, 10.0, 20.0, 60.0)

@@ -10,6 +10,7 @@ from bemcheck.compare.departures import designed_strengths
 from bemcheck.errors import BemcheckInputError
 from bemcheck.solvers.control.strengths import primary_strengths
 
+
 def has_bem(ds):
     """Whether the run holds the BEM model (else it is a free-field run)."""
     return "p_bem" in ds.data_vars

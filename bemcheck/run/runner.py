@@ -10,6 +10,7 @@ from pathlib import Path
 
 import numpy as np
 
+from bemcheck.case.shapes import hash_body_files
 from bemcheck.compare import verdict_lines
 from bemcheck.errors import BemcheckInputError
 from bemcheck.mesh import mesh_scene, plan_bands
@@ -44,14 +45,7 @@ class RunOutcome:
 
 def case_hash(case):
     """A fingerprint of everything that changes a result: the case text and any mesh file it reads."""
-    h = hashlib.sha256(case.text.encode())
-    for body in case.bodies:
-        if body.kind == "file":
-            try:
-                h.update(Path(body.shape.path).read_bytes())
-            except OSError:
-                h.update(str(body.shape.path).encode())
-    return h.hexdigest()[:16]
+    return hash_body_files(hashlib.sha256(case.text.encode()), case.bodies).hexdigest()[:16]
 
 
 def prepare_folder(out_dir):
@@ -148,9 +142,7 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
     if bands is None:
 
         bands = plan_bands(case)
-    if any(b.kind == "file" for b in case.bodies):
-
-        check_file_bodies(case, cache_dir)  # before hours of solves, not at the top band
+    check_file_bodies(case, cache_dir)  # given meshes: before hours of solves, not at the top band
 
     if case.bodies:  # the finest band mesh of the sweep, before any mesh is made
         check_mesh_size(case, min(b.element_size for b in bands))

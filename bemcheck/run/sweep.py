@@ -16,6 +16,7 @@ import warnings
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass
 
+from bemcheck.case.shapes import hash_body_files
 from bemcheck.errors import BemcheckInputError
 from bemcheck.run.store import PART_FORMAT
 
@@ -68,18 +69,12 @@ def physics_fingerprint(case):
     """
     parts = {
         "medium": dataclasses.asdict(case.medium),
-        "bodies": [dataclasses.asdict(b) for b in case.bodies],
+        "bodies": [{"kind": b.kind, **dataclasses.asdict(b)} for b in case.bodies],
         "sources": [(s.name, s.position, s.radiator, s.on) for s in case.sources],
         "observers": dataclasses.asdict(case.observers),
     }
-    h = hashlib.sha256(json.dumps(parts, sort_keys=True, default=str).encode())
-    for b in case.bodies:
-        if b.kind == "file":
-            try:
-                h.update(b.shape.path.read_bytes())
-            except OSError:
-                pass
-    return h.hexdigest()
+    return hash_body_files(hashlib.sha256(json.dumps(parts, sort_keys=True, default=str).encode()),
+                           case.bodies).hexdigest()
 
 
 def bodies_with_sources(case):

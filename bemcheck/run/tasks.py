@@ -16,7 +16,6 @@ import time
 
 import numpy as np
 
-from bemcheck.case.load import PISTON_FACES
 from bemcheck.mesh import SurfaceMesh, mesh_scene
 from bemcheck.observers import for_observers
 from bemcheck.prebuild.scattered import StoredSolve
@@ -45,7 +44,7 @@ def _column_order(case):
     """Monopoles, then pistons, as the BEM solver orders its columns; and the piston groups."""
     points = [i for i, s in enumerate(case.sources) if s.radiator == "point"]
     pistons = [i for i, s in enumerate(case.sources) if s.radiator == "piston"]
-    groups = [f"{case.sources[i].on}.{PISTON_FACES[case.body(case.sources[i].on).kind]}" for i in pistons]
+    groups = [f"{case.sources[i].on}.{case.body(case.sources[i].on).shape.PISTON_FACE}" for i in pistons]
     return points + pistons, points, groups
 
 
@@ -140,7 +139,7 @@ def check_mesh(case, element_size, cache_dir=None):
     """
 
     band = mesh_scene(case, element_size, cache_dir=cache_dir)
-    if not any(b.kind == "file" for b in case.bodies):
+    if all(b.shape.SCRIPT is not None for b in case.bodies):  # given meshes cannot be remade coarser
         coarse = mesh_scene(case, element_size, cache_dir=cache_dir, refine=1.0 / CHECK_COARSEN)
         ratio = float(np.sqrt(band.n_triangles / coarse.n_triangles))
         if ratio >= CHECK_MIN_RATIO:

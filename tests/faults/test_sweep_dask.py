@@ -14,8 +14,8 @@ import pytest
 
 import bemcheck
 from bemcheck.run.runner import run_case
-from tests.support.image_source import image_task, slow_image_task
 from tests.faults.test_sweep_resume import BANDS, case
+from tests.support.image_source import image_task, slow_image_task
 
 ROOT = Path(__file__).resolve().parents[2]
 DASK = Path(sys.executable).with_name("dask")

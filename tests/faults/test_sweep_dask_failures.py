@@ -33,10 +33,10 @@ from bemcheck.cli import main
 from bemcheck.run import sweep
 from bemcheck.run.runner import run_case
 from bemcheck.run.sweep import plan_tasks
-from tests.support.image_source import image_task, slow_image_task
-from tests.unit.test_bad_input_catalogue import FREE_CASE, assert_nothing_half_written
 from tests.faults.test_sweep_dask import DASK, _spawn
 from tests.faults.test_sweep_resume import BANDS, case
+from tests.support.image_source import image_task, slow_image_task
+from tests.unit.test_bad_input_catalogue import FREE_CASE, assert_nothing_half_written
 
 # Generous bound for a command that should end within SCHEDULER_TIMEOUT_S: a hang detector, not a speed target.
 HANG_S = 120.0

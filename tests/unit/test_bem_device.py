@@ -10,6 +10,7 @@ from bemcheck.solvers.bem.surface import surface_from_mesh
 from bemcheck.solvers.bem.system import assemble
 from tests.support.icosphere import icosphere
 
+
 def test_numba_is_configured_and_recorded():
     assert bem_device.configure_device("numba") == "numba"
     assert bem_device.bempp().DEFAULT_DEVICE_INTERFACE == "numba"

@@ -10,7 +10,7 @@ import math
 
 import pytest
 
-from bemcheck.case.model import Case, MeshSettings, Medium
+from bemcheck.case.model import Case, Medium, MeshSettings
 from bemcheck.errors import CaseError
 from bemcheck.mesh import MeshNotice, band_of, plan_bands
 

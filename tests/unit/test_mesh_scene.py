@@ -14,8 +14,8 @@ import meshio
 import numpy as np
 import pytest
 
-from bemcheck.case.model import (Body, Box, Case, MeshFile, Observers, ObserverPoint, Source,
-                                 Sphere, Bell)
+from bemcheck.case.model import Body, Case, ObserverPoint, Observers, Source
+from bemcheck.case.shapes import Bell, Box, MeshFile, Sphere
 from bemcheck.errors import EnvironmentProblem, GeometryError
 from bemcheck.geometry_scripts import _sizing
 from bemcheck.mesh import bodies, format_band_table, mesh_scene, write_band_meshes
@@ -30,12 +30,12 @@ def scene(bodies_=(), sources=(), points=(), freqs=(500.0,)):
 
 
 def ball(name, at, radius=0.05):
-    return Body(name, "sphere", Sphere(radius), at=at)
+    return Body(name, Sphere(radius), at=at)
 
 
 def test_groups_tags_and_placement(tmp_path):
-    cab = Body("cab1", "box", Box((0.1, 0.2, 0.3)), at=(1.0, 0.0, 0.0), axis=(1.0, 0.0, 0.0))
-    case = scene([Body("bell", "bell", Bell(0.1, 0.02, 0.3, 0.8, 0.005)), cab,
+    cab = Body("cab1", Box((0.1, 0.2, 0.3)), at=(1.0, 0.0, 0.0), axis=(1.0, 0.0, 0.0))
+    case = scene([Body("bell", Bell(0.1, 0.02, 0.3, 0.8, 0.005)), cab,
                   ball("head", (0.0, 1.0, 0.0))])
     mesh = mesh_scene(case, H, tmp_path)
     assert mesh.groups == {"bell": 1, "bell.mouth": 2, "cab1": 3, "cab1.driver": 4, "head": 5}
@@ -65,7 +65,7 @@ def test_bodies_too_close(tmp_path, gap, ok):
 
 
 def test_body_inside_another(tmp_path):
-    case = scene([Body("cab", "box", Box((0.4, 0.4, 0.4))), ball("inner", (0.0, 0.0, 0.0))])
+    case = scene([Body("cab", Box((0.4, 0.4, 0.4))), ball("inner", (0.0, 0.0, 0.0))])
     with pytest.raises(GeometryError, match="intersect.*inside 'cab'"):
         mesh_scene(case, H, tmp_path)
 
@@ -87,7 +87,7 @@ def test_sources_and_observers(tmp_path):
 
 
 def test_second_run_reads_the_cache(tmp_path, monkeypatch):
-    case = scene([ball("a", (0, 0, 0)), Body("b", "box", Box((0.1, 0.1, 0.1)), at=(0.5, 0, 0))])
+    case = scene([ball("a", (0, 0, 0)), Body("b", Box((0.1, 0.1, 0.1)), at=(0.5, 0, 0))])
     first = mesh_scene(case, H, tmp_path)
     assert not list(tmp_path.glob("*.tmp")) and len(list(tmp_path.glob("*.npz"))) == 2
 
@@ -120,7 +120,7 @@ def test_file_body_relative_to_the_case(tmp_path):
                        [2, 0, 5], [1, 2, 5], [3, 1, 5], [0, 3, 5]])
     (tmp_path / "parts").mkdir()
     meshio.write(tmp_path / "parts" / "octa.ply", meshio.Mesh(octa_v * 100, [("triangle", octa_t)]))
-    body = Body("cad", "file", MeshFile("parts/octa.ply", scale=0.001), at=(0, 0, 1))
+    body = Body("cad", MeshFile("parts/octa.ply", scale=0.001), at=(0, 0, 1))
     case = Case("files", (500.0,), (), bodies=(body,), path=tmp_path / "case.toml")
     mesh = mesh_scene(case, H, tmp_path / "cache")
     assert mesh.groups == {"cad": 1}
@@ -129,7 +129,7 @@ def test_file_body_relative_to_the_case(tmp_path):
 
 
 def test_write_band_meshes_and_table(tmp_path):
-    case = scene([ball("head", (0, 0, 0)), Body("cab", "box", Box((0.1, 0.1, 0.1)), at=(0.4, 0, 0))],
+    case = scene([ball("head", (0, 0, 0)), Body("cab", Box((0.1, 0.1, 0.1)), at=(0.4, 0, 0))],
                  freqs=(200.0, 300.0, 1000.0, 2000.0))
     stats = write_band_meshes(case, tmp_path / "out", tmp_path / "cache")
     assert [(s.band.f_low, s.band.f_high) for s in stats] == [(200.0, 300.0), (1000.0, 1000.0),

@@ -2,12 +2,13 @@
 
 import numpy as np
 
-from bemcheck.case.model import Body, Sphere
+from bemcheck.case.model import Body
+from bemcheck.case.shapes import Sphere
 from bemcheck.geometry_scripts import _sizing
 from bemcheck.mesh import bodies
 from bemcheck.mesh.bodies import mesh_body, mesh_key
 
-BODY = Body("s", "sphere", Sphere(0.05))
+BODY = Body("s", Sphere(0.05))
 
 
 def test_key_follows_the_sizing_rule(monkeypatch):

@@ -5,6 +5,8 @@ import dataclasses
 import numpy as np
 import pytest
 
+from bemcheck.case.model import Medium
+from bemcheck.errors import BemcheckInputError, CaseError
 from bemcheck.prebuild import (
     Driver,
     check_driver,
@@ -14,8 +16,6 @@ from bemcheck.prebuild import (
     rated_voltage,
     volume_velocity_at_rated_power,
 )
-from bemcheck.case.model import Medium
-from bemcheck.errors import BemcheckInputError, CaseError
 
 AIR = Medium(speed_of_sound=343.0, density=1.21)
 # Invented driver, the same as in tests/verification/test_prebuild_closed_box.py.

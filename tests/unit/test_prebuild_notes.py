@@ -10,9 +10,9 @@ import dataclasses
 import numpy as np
 import pytest
 
-from bemcheck.prebuild import Demand, Driver, check_drivers, primary_volume_velocity
 from bemcheck.case.model import Medium, Spectrum
 from bemcheck.errors import CaseError
+from bemcheck.prebuild import Demand, Driver, check_drivers, primary_volume_velocity
 
 AIR = Medium(speed_of_sound=343.0, density=1.21)
 NOTE = Spectrum(58.27, (100.0, 94.0, 90.0, 86.0))

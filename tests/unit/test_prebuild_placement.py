@@ -9,13 +9,13 @@ import pytest
 from matplotlib.lines import Line2D
 
 import bemcheck
-from bemcheck.prebuild import placement_spread
-from bemcheck.prebuild.check import before_build, harmonic_plan
-from bemcheck.prebuild.scattered import StoredSolve
 from bemcheck.case import parse_case
 from bemcheck.case.model import Medium
 from bemcheck.mesh.surface import SurfaceMesh
 from bemcheck.observers import for_observers
+from bemcheck.prebuild import placement_spread
+from bemcheck.prebuild.check import before_build, harmonic_plan
+from bemcheck.prebuild.scattered import StoredSolve
 from bemcheck.report.figures import volume_velocity_figure
 from bemcheck.report.style import styled
 from bemcheck.run import sweep

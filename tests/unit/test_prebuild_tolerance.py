@@ -3,8 +3,8 @@
 import numpy as np
 import pytest
 
-from bemcheck.prebuild import placement_spread, tolerance_for_loss
 from bemcheck.case.model import Medium
+from bemcheck.prebuild import placement_spread, tolerance_for_loss
 from bemcheck.solvers.control import optimal as control
 from bemcheck.solvers.freefield import impedance_matrix
 

@@ -15,7 +15,6 @@ import bemcheck
 from bemcheck.case import parse_case
 from bemcheck.case.model import Tolerance
 from bemcheck.compare.trust import NOT_RESOLVED
-from bemcheck.solvers.response import FieldResponse
 from bemcheck.mesh.surface import SurfaceMesh
 from bemcheck.observers import for_observers
 from bemcheck.report import make_figures
@@ -27,6 +26,7 @@ from bemcheck.report.tables import aspect_ratios, mesh_rows
 from bemcheck.results.combine import combine
 from bemcheck.results.dataset import run_attributes
 from bemcheck.run.runner import free_responses
+from bemcheck.solvers.response import FieldResponse
 from tests.support.image_source import image_response
 
 PNG_MAGIC = b"\x89PNG\r\n\x1a\n"

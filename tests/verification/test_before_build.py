@@ -4,8 +4,8 @@ import numpy as np
 import pytest
 
 import bemcheck
-from bemcheck.prebuild import a_weighting, closed_box, excursion_limited_volume_velocity
 from bemcheck.case import parse_case
+from bemcheck.prebuild import a_weighting, closed_box, excursion_limited_volume_velocity
 from bemcheck.run.runner import run_case
 
 CASE = """
@@ -67,7 +67,6 @@ def test_undersized_driver_fails_at_the_right_harmonic(tmp_path):
     assert "fails first at low harmonic 2" in bb["items"][0]["check"]
     # by hand: the demand at h2 exceeds Q_max, the demand at h1 does not
     from bemcheck.prebuild import primary_volume_velocity
-    from bemcheck.case.model import Medium
 
     spectrum = case.played[0]
     q_p = primary_volume_velocity(spectrum, case.medium)

@@ -10,10 +10,9 @@ rows on A are A's own.  So the two solves must agree to rounding.
 
 import numpy as np
 
-from bemcheck.case.model import Medium
+from bemcheck.case.model import FarField, Medium
 from bemcheck.mesh.surface import SurfaceMesh
 from bemcheck.observers import for_observers
-from bemcheck.case.model import FarField
 from bemcheck.solvers.bem.solve import solve_frequency
 from tests.support.icosphere import icosphere
 

@@ -11,12 +11,11 @@ corners and re-entrant parts, and at the cube's irregular frequency.
 from functools import cache
 
 import numpy as np
-import pytest
 
 from bemcheck.case.model import Medium
 from bemcheck.solvers import freefield
-from bemcheck.solvers.bem.solve import solve_frequency
 from bemcheck.solvers.bem.quadrature import rule
+from bemcheck.solvers.bem.solve import solve_frequency
 from tests.support.icosphere import voxel_body
 
 MEDIUM = Medium(343.0, 1.2)

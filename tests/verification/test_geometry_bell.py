@@ -18,7 +18,8 @@ import warnings
 import numpy as np
 import pytest
 
-from bemcheck.case.model import Bell, Body
+from bemcheck.case.model import Body
+from bemcheck.case.shapes import Bell
 from bemcheck.errors import GeometryError
 from bemcheck.geometry_scripts import _sizing
 from bemcheck.mesh.bodies import mesh_body
@@ -46,7 +47,7 @@ def cache(tmp_path):
 
 @pytest.mark.parametrize("bell", [SHORT, RECESSED], ids=["flat cap", "recessed cap"])
 def test_area_and_volume_match_the_profile_integrals(bell, cache):
-    mesh = mesh_body(Body("bell", "bell", bell), 0.006, cache)
+    mesh = mesh_body(Body("bell", bell), 0.006, cache)
     area, volume = measure(mesh)
     ref_area, ref_volume = reference(bell)
     assert area == pytest.approx(ref_area, rel=0.005)
@@ -65,7 +66,7 @@ def test_reference_sees_the_recess():
 def test_coarsest_band_keeps_the_volume(bell, cache):
     """100 Hz at 6 elements per wavelength (h = 0.57 m): the geometry sets the size."""
     h = 343.0 / 100.0 / 6.0
-    mesh = mesh_body(Body("bell", "bell", bell), h, cache)
+    mesh = mesh_body(Body("bell", bell), h, cache)
     check_surface(mesh.vertices, mesh.triangles, "bell")  # closed, manifold, outward
     _, volume = measure(mesh)
     assert volume > 0
@@ -74,7 +75,7 @@ def test_coarsest_band_keeps_the_volume(bell, cache):
 
 def test_mouth_group_is_the_cap_and_nothing_rises_above_the_mouth(cache):
     for bell, z_cap in ((SHORT, 0.0), (RECESSED, -RECESSED.cap_depth)):
-        mesh = mesh_body(Body("bell", "bell", bell), 0.05, cache)
+        mesh = mesh_body(Body("bell", bell), 0.05, cache)
         assert mesh.part_names == ("", "mouth")
         mouth = mesh.vertices[np.unique(mesh.triangles[mesh.parts == 1])]
         assert np.allclose(mouth[:, 2], z_cap, atol=1e-9)
@@ -86,7 +87,7 @@ def test_mouth_group_is_the_cap_and_nothing_rises_above_the_mouth(cache):
 
 def test_elements_within_target_and_wall_resolved(cache):
     h = 0.02
-    mesh = mesh_body(Body("bell", "bell", RECESSED), h, cache)
+    mesh = mesh_body(Body("bell", RECESSED), h, cache)
     p = mesh.vertices[mesh.triangles]
     edges = np.linalg.norm(p[:, [1, 2, 0]] - p, axis=2).max(axis=1)
     assert edges.max() <= h
@@ -105,7 +106,7 @@ def test_elements_within_target_and_wall_resolved(cache):
 def test_impossible_bells_are_refused(change, words, cache):
     fields = {**SHORT.__dict__, **change}
     with pytest.raises(GeometryError, match=words) as info:
-        mesh_body(Body("horn", "bell", Bell(**fields)), 0.05, cache)
+        mesh_body(Body("horn", Bell(**fields)), 0.05, cache)
     assert "'horn'" in str(info.value)
 
 
@@ -113,7 +114,7 @@ def test_long_neck_converges(tmp_path):
     """A finer mesh of the trumpet-like bell within 0.5 % of the integrals."""
     with warnings.catch_warnings():
         warnings.simplefilter("error")
-        mesh = mesh_body(Body("bell", "bell", TRUMPET_LIKE), 0.004, tmp_path)
+        mesh = mesh_body(Body("bell", TRUMPET_LIKE), 0.004, tmp_path)
     area, volume = measure(mesh)
     ref_area, ref_volume = reference(TRUMPET_LIKE)
     assert area == pytest.approx(ref_area, rel=0.005)

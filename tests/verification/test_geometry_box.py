@@ -16,7 +16,8 @@ import math
 import numpy as np
 import pytest
 
-from bemcheck.case.model import Body, Box
+from bemcheck.case.model import Body
+from bemcheck.case.shapes import Box
 from bemcheck.errors import GeometryError
 from bemcheck.mesh.bodies import mesh_body
 from bemcheck.mesh.checks import check_surface
@@ -40,7 +41,7 @@ def steiner(size, r):
 
 def test_sharp_box_is_exact(tmp_path):
     d, w, h = SIZE
-    mesh = mesh_body(Body("cab", "box", Box(SIZE)), 0.05, tmp_path)
+    mesh = mesh_body(Body("cab", Box(SIZE)), 0.05, tmp_path)
     area, volume = _measure(mesh)
     assert area == pytest.approx(2 * (d * w + w * h + h * d), rel=1e-9)
     assert volume == pytest.approx(d * w * h, rel=1e-9)
@@ -61,7 +62,7 @@ def test_steiner_formula_reduces_to_the_box():
                          ids=["2.4 kHz band", "coarsest band"])
 def test_rounded_box_follows_steiner(tmp_path, h, rel):
     r = 0.02
-    mesh = mesh_body(Body("cab", "box", Box(SIZE, r)), h, tmp_path)
+    mesh = mesh_body(Body("cab", Box(SIZE, r)), h, tmp_path)
     check_surface(mesh.vertices, mesh.triangles, "cab")
     area, volume = _measure(mesh)
     ref_area, ref_volume = steiner(SIZE, r)
@@ -76,4 +77,4 @@ def test_rounded_box_follows_steiner(tmp_path, h, rel):
 
 def test_too_round_is_refused(tmp_path):
     with pytest.raises(GeometryError, match="edge_radius"):
-        mesh_body(Body("cab", "box", Box(SIZE, 0.06)), 0.05, tmp_path)
+        mesh_body(Body("cab", Box(SIZE, 0.06)), 0.05, tmp_path)

@@ -12,7 +12,8 @@ import numpy as np
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from bemcheck.case.model import Bell, Body, Box
+from bemcheck.case.model import Body
+from bemcheck.case.shapes import Bell, Box
 from bemcheck.errors import GeometryError
 from bemcheck.mesh.bodies import mesh_body
 from bemcheck.mesh.checks import check_surface
@@ -38,7 +39,7 @@ def _valid(mesh, bound):
 def test_bells(tmp_path, mouth, throat_fraction, length, flare, rim, cap):
     bell = Bell(mouth, mouth * throat_fraction, length, flare, rim, cap)
     try:
-        mesh = mesh_body(Body("bell", "bell", bell), H, tmp_path)
+        mesh = mesh_body(Body("bell", bell), H, tmp_path)
     except GeometryError as exc:
         assert str(exc).startswith("body 'bell' (bell): ")
         return
@@ -51,7 +52,7 @@ def test_bells(tmp_path, mouth, throat_fraction, length, flare, rim, cap):
 def test_boxes(tmp_path, size, round_fraction):
     box = Box(size, round_fraction * min(size))
     try:
-        mesh = mesh_body(Body("cab", "box", box), H, tmp_path)
+        mesh = mesh_body(Body("cab", box), H, tmp_path)
     except GeometryError as exc:
         assert str(exc).startswith("body 'cab' (box): edge_radius")
         assert not 0.02 <= round_fraction < 0.5

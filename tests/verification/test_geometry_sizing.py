@@ -24,7 +24,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from scipy.spatial import cKDTree
 
-from bemcheck.case.model import Bell, Body, Case, Medium, Source, Sphere
+from bemcheck.case.model import Body, Case, Medium, Source
+from bemcheck.case.shapes import Bell, Sphere
 from bemcheck.errors import GeometryError
 from bemcheck.geometry_scripts import _sizing
 from bemcheck.geometry_scripts.bell import profile_samples, section
@@ -71,7 +72,7 @@ def test_every_band_keeps_the_bell(tmp_path, mouth, throat_fraction, length, fla
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")   # a notice would show as a failed bound below
-            mesh = mesh_body(Body("bell", "bell", bell), size, tmp_path)
+            mesh = mesh_body(Body("bell", bell), size, tmp_path)
     except GeometryError as exc:
         assert str(exc).startswith("body 'bell' (bell): ")
         return
@@ -87,7 +88,7 @@ def test_every_band_keeps_the_bell(tmp_path, mouth, throat_fraction, length, fla
 @cache
 def _sphere_solution(radius, frequency, cache_dir):
     size = MEDIUM.speed_of_sound / frequency / EPW
-    mesh = mesh_scene(_case(Body("s", "sphere", Sphere(radius)), frequency), size, cache_dir=cache_dir)
+    mesh = mesh_scene(_case(Body("s", Sphere(radius)), frequency), size, cache_dir=cache_dir)
     sol = solve_frequency(mesh, frequency, MEDIUM, [[0.0, 0.0, 2 * radius]], _directions(), power=False)
     return mesh, sol
 
@@ -133,7 +134,7 @@ def test_bell_far_field_matches_a_finer_mesh(tmp_path, frequency):
     """The mouth as a piston: the band's mesh against the same bell meshed with every
     size halved (gmsh's size factor; up to four times the triangles, fewer where the
     band's mesh was itself made finer to hold the volume)."""
-    body = Body("bell", "bell", SMALL_BELL)
+    body = Body("bell", SMALL_BELL)
     piston = Source("mouth", "primary", (0.0, 0.0, 0.0), on="bell", radiator="piston")
     case = _case(body, frequency, (piston,))
     size = MEDIUM.speed_of_sound / frequency / EPW

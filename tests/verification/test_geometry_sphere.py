@@ -12,7 +12,8 @@ import math
 import numpy as np
 import pytest
 
-from bemcheck.case.model import Body, Sphere
+from bemcheck.case.model import Body
+from bemcheck.case.shapes import Sphere
 from bemcheck.geometry_scripts import _sizing
 from bemcheck.mesh.bodies import mesh_body
 from bemcheck.mesh.checks import check_surface
@@ -31,7 +32,7 @@ def _measure(mesh):
 def test_errors_fall_at_second_order(tmp_path):
     sizes, area_err, volume_err = [], [], []
     for h in (0.14 * A, 0.1 * A, 0.07 * A):
-        mesh = mesh_body(Body("s", "sphere", Sphere(A)), h, tmp_path)
+        mesh = mesh_body(Body("s", Sphere(A)), h, tmp_path)
         area, volume, edge = _measure(mesh)
         assert edge.max() <= h
         sizes.append(edge.mean())
@@ -45,7 +46,7 @@ def test_errors_fall_at_second_order(tmp_path):
 
 def test_coarsest_band_keeps_the_volume(tmp_path):
     """At 100 Hz (h = 0.57 m) the radius, not the wavelength, sets the size."""
-    mesh = mesh_body(Body("s", "sphere", Sphere(A)), 343.0 / 100.0 / 6.0, tmp_path)
+    mesh = mesh_body(Body("s", Sphere(A)), 343.0 / 100.0 / 6.0, tmp_path)
     check_surface(mesh.vertices, mesh.triangles, "sphere")
     _, volume, _ = _measure(mesh)
     assert volume == pytest.approx(4 / 3 * math.pi * A**3, rel=0.01)

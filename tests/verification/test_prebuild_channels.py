@@ -27,9 +27,9 @@ error (0.1 dB allowed; the standard error of a percentile is
 import numpy as np
 import pytest
 
-from bemcheck.prebuild.channels import PERCENTILES, ChannelErrors, channel_spread
 from bemcheck.case import parse_case
 from bemcheck.case.model import Medium
+from bemcheck.prebuild.channels import PERCENTILES, ChannelErrors, channel_spread
 from bemcheck.run.runner import run_case
 from bemcheck.solvers.response import free_response
 

@@ -12,6 +12,7 @@ air of ρ = 1.21 kg/m³, c = 343 m/s, zero source resistance.
 import numpy as np
 import pytest
 
+from bemcheck.case.model import Medium
 from bemcheck.prebuild import (
     Driver,
     closed_box,
@@ -19,7 +20,6 @@ from bemcheck.prebuild import (
     excursion_per_volt,
     volume_velocity_per_volt,
 )
-from bemcheck.case.model import Medium
 
 AIR = Medium(speed_of_sound=343.0, density=1.21)
 DEMO = Driver("demo", re=6.0, bl=7.0, mms=0.020, cms=1e-3, rms=1.5, sd=0.0133,

@@ -15,13 +15,13 @@ module fixture.
 import numpy as np
 import pytest
 
+from bemcheck.case import parse_case
+from bemcheck.mesh.surface import SurfaceMesh
+from bemcheck.observers import for_observers
 from bemcheck.prebuild.check import before_build
 from bemcheck.prebuild.ears import MODEL_BEM
 from bemcheck.prebuild.note_levels import BEM, MONOPOLE, note_strengths, strength_for_level
 from bemcheck.prebuild.scattered import StoredSolve
-from bemcheck.case import parse_case
-from bemcheck.mesh.surface import SurfaceMesh
-from bemcheck.observers import for_observers
 from bemcheck.solvers.bem.solve import solve_frequency
 from bemcheck.solvers.response import free_response
 from tests.support.icosphere import icosphere

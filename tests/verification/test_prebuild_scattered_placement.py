@@ -12,9 +12,9 @@ import numpy as np
 import pytest
 
 import bemcheck
-from bemcheck.prebuild import placement_spread
 from bemcheck.case import parse_case
 from bemcheck.case.model import Medium
+from bemcheck.prebuild import placement_spread
 from bemcheck.run.runner import run_case
 from bemcheck.run.store import PartStore
 from bemcheck.run.sweep import plan_tasks
@@ -173,8 +173,8 @@ def test_scattered_tolerance_needed_against_the_series(sphere):
 
 def stored_of(case, folder, frequency):
     """The StoredSolve of ``frequency`` read back from the run folder's parts."""
-    from bemcheck.prebuild.check import harmonic_plan
     from bemcheck.mesh import plan_bands
+    from bemcheck.prebuild.check import harmonic_plan
 
     plan = plan_tasks(case, plan_bands(case), harmonics=[f for _, _, f in harmonic_plan(case)])
     task = next(t for t in plan if t.frequency == frequency and t.kind == "solve")

@@ -16,8 +16,8 @@ import numpy as np
 import pytest
 from scipy import optimize, special, stats
 
-from bemcheck.prebuild import placement_spread, tolerance_for_loss
 from bemcheck.case.model import Medium
+from bemcheck.prebuild import placement_spread, tolerance_for_loss
 from bemcheck.solvers.freefield import impedance_matrix
 
 AIR = Medium(speed_of_sound=343.0, density=1.21)

@@ -31,8 +31,8 @@ bench/RESULTS.md has the current figures).
 import numba
 import numpy as np
 
-from bemcheck.solvers.bem.quadrature import gauss
 from bemcheck.solvers.bem.kernel import cis, surface_curls
+from bemcheck.solvers.bem.quadrature import gauss
 from bemcheck.solvers.bem.touching import add_touching_pairs, add_touching_velocity
 
 # Triangles whose centroids are further apart than FAR_RATIO times the larger
