@@ -120,8 +120,7 @@ def check_case(case):
     spacing = (f"observers.far_field.degree = {far.degree}: {len(directions)} directions" if far.sphere
                else f"observers.far_field.step_deg = {far.step_deg:g}: a direction every {360.0 / len(directions):g}°")
     sectors = [(f"tolerance.sectors[{i}]", s) for i, s in enumerate(case.tolerance.sectors)]
-    if case.control.objective == "sector":
-        sectors.append(("control.sector", case.control.sector))
+    sectors.extend(case.control.sectors())
     for key, s in sectors:
         if not in_sector(directions.azimuth_deg, s.from_deg, s.to_deg).any():
             raise CaseError(f"{file}: {key}: sector '{s.name}' ({s.from_deg:g}° to {s.to_deg:g}°) holds no "

@@ -15,25 +15,24 @@ from bemcheck.case.model import (
     Body,
     BuildChecks,
     Case,
-    Control,
     FarField,
     Medium,
     MeshSettings,
     ObserverPoint,
     Observers,
-    Sector,
     Source,
     Spectrum,
     Tolerance,
 )
+from bemcheck.case.objectives import OBJECTIVES, MinimumPower
 from bemcheck.case.reader import TableReader
+from bemcheck.case.sector import read_sector
 from bemcheck.case.shapes import SHAPES
 from bemcheck.errors import CaseError
 from bemcheck.frames import place
 from bemcheck.observers import PLANES, lebedev_degrees
 
 ROLES = ("primary", "control")
-OBJECTIVES = ("power", "sector", "delay")
 
 
 def load_case(path):
@@ -109,11 +108,7 @@ def parse_case(text, path=Path("<case>")):
     _check_sources(sources, file)
     observers = _observers(top.sub("observers", None))
     control = _control(top.sub("control", None), sources, file)
-    if control.objective == "sector" and (observers.far_field.sphere or control.sector_plane != observers.far_field.plane):
-        raise CaseError(
-            f"{file}: control.sector.plane: expected the plane of observers.far_field "
-            f"('{observers.far_field.plane}', a circle): the sector's target directions are the observers' directions"
-        )
+    control.check_observers(observers.far_field, file)
     tolerance = _tolerance(top.sub("tolerance", None))
     drivers = tuple(_driver(r) for r in top.subs("driver"))
     _unique([d.name for d in drivers], "driver", file)
@@ -310,33 +305,14 @@ def _check_lebedev(reader, degree):
         reader.fail("degree", "a Lebedev degree available: " + ", ".join(map(str, available)), degree)
 
 
-def _sector(r, default_name=None):
-    name = r.string("name", default_name) if default_name is not None else r.string("name")
-    lo = r.number("from_deg", low=-360.0, high=360.0)
-    hi = r.number("to_deg", low=-360.0, high=720.0)
-    if hi <= lo or hi - lo > 360.0:
-        r.fail("to_deg", f"an angle above from_deg ({lo:g}) by at most 360", hi)
-    r.done()
-    return Sector(name, lo, hi)
-
-
 def _control(r, sources, file):
     if r is None:
-        return Control()
-    objective = r.string("objective", "power", choices=OBJECTIVES)
-    sector_r = r.sub("sector", None)
-    plane = sector_r.string("plane", "xy", choices=PLANES) if sector_r is not None else "xy"
-    sector = _sector(sector_r, "target") if sector_r is not None else None
-    if objective == "sector" and sector is None:
-        r.fail("sector", "a table { from_deg, to_deg } for objective = \"sector\"")
-    delay = r.number("delay_distance", None, positive=True, within=limits.DISTANCE)
-    if objective == "delay" and delay is None:
-        r.fail("delay_distance", "a distance in m for objective = \"delay\"")
-    effort = r.number("effort", 0.0, non_negative=True)
+        return MinimumPower()
+    objective = OBJECTIVES[r.string("objective", "power", choices=tuple(OBJECTIVES))].read(r)
     r.done()
     if not any(s.role == "control" for s in sources):
         raise CaseError(f"{file}: control.objective: a control objective needs at least one source with role = \"control\"")
-    return Control(objective=objective, sector=sector, sector_plane=plane, delay_distance=delay, effort=effort)
+    return objective
 
 
 def _tolerance(r):
@@ -346,7 +322,7 @@ def _tolerance(r):
     phase = r.number("phase_deg", Tolerance.phase_deg, positive=True, high=180.0)
     target = r.number("attenuation_target_db", Tolerance.attenuation_target_db, positive=True, high=60.0)
     shortfall = r.number("attenuation_db", Tolerance.attenuation_db, positive=True, high=60.0)
-    sectors = tuple(_sector(s) for s in r.subs("sectors")) or Tolerance().sectors
+    sectors = tuple(read_sector(s) for s in r.subs("sectors")) or Tolerance().sectors
     _unique([s.name for s in sectors], "tolerance.sectors", r.file)
     r.done()
     return Tolerance(level_db=level, phase_deg=phase, sectors=sectors, attenuation_target_db=target,

@@ -9,6 +9,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from bemcheck.case.explore import ExploreSpec
+from bemcheck.case.objectives import MinimumPower, Objective
+from bemcheck.case.sector import Sector
 from bemcheck.case.shapes import Shape, Vec3
 
 
@@ -127,33 +129,6 @@ class Observers:
 
 
 @dataclass(frozen=True)
-class Sector:
-    """An azimuth range [deg] in the observers' plane; wraps through 360."""
-
-    name: str
-    from_deg: float
-    to_deg: float
-
-
-@dataclass(frozen=True)
-class Control:
-    """What the control sources are optimised for.
-
-    objective "power": minimum total radiated power.
-    objective "sector": minimum mean-square far-field pressure in ``sector``,
-    with ``effort`` weighting |q_c|^2 against it.
-    objective "delay": each control source fed with -q_p/N_c delayed by
-    ``delay_distance``/c (a cardioid-like pattern with its null toward the controls).
-    """
-
-    objective: str = "power"
-    sector: Sector | None = None
-    sector_plane: str = "xy"
-    delay_distance: float | None = None
-    effort: float = 0.0
-
-
-@dataclass(frozen=True)
 class Tolerance:
     """How far the monopole model may depart from the scattered field and still be trusted.
 
@@ -214,7 +189,7 @@ class Case:
     mesh: MeshSettings = field(default_factory=MeshSettings)
     bodies: tuple[Body, ...] = ()
     observers: Observers = field(default_factory=Observers)
-    control: Control = field(default_factory=Control)
+    control: Objective = field(default_factory=MinimumPower)
     tolerance: Tolerance = field(default_factory=Tolerance)
     drivers: tuple = ()
     played: tuple[Spectrum, ...] = ()

@@ -68,15 +68,6 @@ def _source_line(s):
     return _row("source", f"{s.name} ({s.role}, {s.radiator}) at {_vec(s.position)}, {what}{tail}")
 
 
-def _control_text(c):
-    text = f"objective {c.objective}"
-    if c.objective == "sector" and c.sector is not None:
-        text += f": {c.sector.from_deg:g} to {c.sector.to_deg:g} deg in {c.sector_plane}, effort {c.effort:g}"
-    if c.objective == "delay" and c.delay_distance is not None:
-        text += f": delay distance {c.delay_distance:g} m"
-    return text
-
-
 def _build_lines(case):
     lines = []
     for d in case.drivers:
@@ -128,7 +119,7 @@ def case_lines(case, directions):
     lines.append(_row("far field", f"{len(directions)} directions ({kind})"))
     lines += [_row("point", f"{p.name} at {_vec(p.at)}") for p in case.observers.points]
     if case.controls:
-        lines.append(_row("control", _control_text(case.control)))
+        lines.append(_row("control", case.control.describe()))
     tol = case.tolerance
     sectors = "; ".join(f"{s.name} {s.from_deg:g} to {s.to_deg:g} deg" for s in tol.sectors)
     lines.append(_row("tolerance", f"each source {tol.level_db:g} dB, {tol.phase_deg:g} deg; sectors: {sectors}"))

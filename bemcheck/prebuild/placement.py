@@ -158,7 +158,7 @@ def placement_study(case, plan, q_designed, surface_at=None):
         (attenuation is a power ratio).
     """
     primary, controls = source_indices(case)
-    if not controls or case.control.objective != "power":
+    if not controls or not case.control.MINIMISES_POWER:
         return None
     sources = [case.sources[c] for c in controls]
     tols = np.array([s.position_tolerance for s in sources], dtype=float)

@@ -2,6 +2,7 @@
 
 import numpy as np
 
+from bemcheck.case.objectives import DelayedFeed, MinimumPower, SectorPressure
 from bemcheck.observers import in_sector
 from bemcheck.solvers.control import optimal as control
 from bemcheck.solvers.freefield import volume_velocity_from_spl
@@ -33,6 +34,28 @@ def source_indices(case):
     return [i for i, r in enumerate(roles) if r == "primary"], [i for i, r in enumerate(roles) if r == "control"]
 
 
+def _minimum_power(objective, case, response, directions, q_p, primary, controls):
+    return control.optimal_power_control(response.power_matrix, primary, controls, q_p)
+
+
+def _sector_pressure(objective, case, response, directions, q_p, primary, controls):
+    sector = objective.sector
+    mask = in_sector(directions.azimuth_deg, sector.from_deg, sector.to_deg)
+    f = response.far_field[mask]
+    return control.optimal_pressure_control(
+        f[:, primary], f[:, controls], q_p, effort=objective.effort, weights=directions.weights[mask]
+    )
+
+
+def _delayed_feed(objective, case, response, directions, q_p, primary, controls):
+    k = 2.0 * np.pi * response.frequency / case.medium.speed_of_sound
+    return control.delay_control(q_p, len(controls), k, objective.delay_distance)
+
+
+# The strengths each objective of :data:`bemcheck.case.objectives.OBJECTIVES` asks for, by its class.
+STRENGTHS = {MinimumPower: _minimum_power, SectorPressure: _sector_pressure, DelayedFeed: _delayed_feed}
+
+
 def control_strengths(case, response, directions, q_primary=None):
     """Control strengths that the case's objective asks for, in the model of ``response``.
 
@@ -44,6 +67,8 @@ def control_strengths(case, response, directions, q_primary=None):
     directions : Directions
         The far-field directions of ``response.far_field`` (for a sector
         objective, the directions inside the sector are the target).
+    q_primary : (Np,) array_like of complex, optional
+        Primary strengths [m^3/s]; default :func:`primary_strengths`.
 
     Returns
     -------
@@ -54,18 +79,8 @@ def control_strengths(case, response, directions, q_primary=None):
     q_p = primary_strengths(case) if q_primary is None else np.asarray(q_primary, dtype=complex)
     if not controls:
         return np.zeros(0, dtype=complex)
-    objective = case.control.objective
-    if objective == "power":
-        return control.optimal_power_control(response.power_matrix, primary, controls, q_p)
-    if objective == "sector":
-        sector = case.control.sector
-        mask = in_sector(directions.azimuth_deg, sector.from_deg, sector.to_deg)
-        f = response.far_field[mask]
-        return control.optimal_pressure_control(
-            f[:, primary], f[:, controls], q_p, effort=case.control.effort, weights=directions.weights[mask]
-        )
-    k = 2.0 * np.pi * response.frequency / case.medium.speed_of_sound
-    return control.delay_control(q_p, len(controls), k, case.control.delay_distance)
+    solve = STRENGTHS[type(case.control)]
+    return solve(case.control, case, response, directions, q_p, primary, controls)
 
 
 def full_strengths(case, q_control):
