@@ -177,9 +177,9 @@ class Case:
     Examples
     --------
     >>> import bemcheck
-    >>> case = bemcheck.load_case(bemcheck.example_path("free"))  # doctest: +SKIP
-    >>> case.frequencies[:2]  # doctest: +SKIP
-    (100.0, 125.99...)
+    >>> case = bemcheck.load_case(bemcheck.example_path("free-pair"))
+    >>> case.frequencies[:2]
+    (100.0, 125.99210498948732)
     """
 
     title: str

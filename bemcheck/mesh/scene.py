@@ -12,11 +12,11 @@ from bemcheck.mesh.bodies import mesh_body
 from bemcheck.mesh.distance import nearest_on_surface, winding_number
 from bemcheck.mesh.estimate import check_mesh_size
 from bemcheck.mesh.surface import SurfaceMesh
+from bemcheck.settings import NUMERICS
 
 # Sources closer to a surface than this fraction of the nearest element's
-# longest edge are refused (the near-singular integrals lose accuracy; see
-# design.md, "Field points near a surface").  Common practice, no source.
-SOURCE_MARGIN = 0.25
+# longest edge are refused, before any solve (the solver's own limit).
+SOURCE_MARGIN = NUMERICS.source_gap
 
 
 def _fmt(p):

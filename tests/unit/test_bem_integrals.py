@@ -144,7 +144,7 @@ def test_green_identity_holds_up_to_the_surface(plane_wave_on_sphere, gap):
     Scattering Theory, 1983, thm. 3.1).  With u interpolated in P1 and ∂u/∂n in P0 the
     residual is a discretisation error, 2-4e-3 here, that must not grow as the point nears
     the surface: without the subtraction of u(x*) ∫∂G_0/∂n it reached 0.17 at 1e-3 and
-    1.1 at 1e-4 element sizes; bempp-cl's regular rule loses 8-34 % (design.md)."""
+    1.1 at 1e-4 element sizes; bempp-cl's regular rule loses 8-34 % (measured here when the solver was chosen)."""
     s, u, dudn, on_mesh = plane_wave_on_sphere
     pts = on_mesh * (1.0 + gap * s.element_size)
     m = moments(s, pts, K, single=False, p0_support=np.arange(s.n_triangles))

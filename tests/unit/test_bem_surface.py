@@ -52,7 +52,7 @@ def test_unused_vertices_are_dropped_and_remembered():
 )
 def test_bad_meshes_are_refused_with_the_element_named(change, words):
     """A BEM mesh must be closed, manifold and outward (Burton-Miller assumes a closed
-    surface; design.md measured 670 % error on an inverted mesh)."""
+    surface; an inverted mesh gave 670 % error on a sphere here)."""
     mesh = icosphere(1.0, 2)
     t = mesh.triangles
     if change == "open":

@@ -15,7 +15,7 @@ PACKAGE = Path(__file__).resolve().parents[2] / "bemcheck"
 
 # Lowest first.  The base modules (no package of their own) are floor 0.
 FLOORS = (
-    ("errors", "memory", "frames", "observers"),
+    ("errors", "memory", "settings", "frames", "observers"),
     ("case",),
     ("mesh", "geometry_scripts"),
     ("solvers",),

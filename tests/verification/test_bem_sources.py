@@ -122,7 +122,7 @@ def test_points_on_and_near_the_surface():
     sizes off it, monopole at 1.8a, ka = 2, against the series (total field of a point source
     beside a rigid sphere: sphere_series.scattered_green plus the free field; Morse & Ingard
     1968 sec. 7.2, from memory): within 0.15 dB and 1° everywhere, no near-surface loss
-    (bempp-cl's own potential operators lose 8-34 % within an element size, design.md)."""
+    (bempp-cl's own potential operators lose 8-34 % within an element size, measured here when the solver was chosen)."""
     mesh = icosphere(1.0, 6)
     h = mesh.edge_lengths().max()
     src = np.array([0.0, 0.0, 1.8])

@@ -31,22 +31,14 @@ bench/RESULTS.md has the current figures).
 import numba
 import numpy as np
 
+from bemcheck.settings import NUMERICS
 from bemcheck.solvers.bem.kernel import cis, surface_curls
 from bemcheck.solvers.bem.quadrature import gauss
 from bemcheck.solvers.bem.touching import add_touching_pairs, add_touching_velocity
 
-# Triangles whose centroids are further apart than FAR_RATIO times the larger
-# of their longest edges are integrated with the 3-point rule.  On rigid
-# spheres at 8 elements per wavelength (ka 3.6 and 6.0) the far field of a
-# point source beside them is the same to 1e-4 dB with the 6-point rule
-# everywhere (0.058 and 0.062 dB from the exact series either way).
-FAR_RATIO = 2.0
-NEAR_ORDER = 4
-FAR_ORDER = 2
-# Order of bempp-cl's Sauter–Schwab rules for touching pairs (its default is
-# 4).  Order 3 takes a third of the time and moves the touching-pairs part
-# by 2e-4 of its norm; in the sphere check above the far field is unchanged.
-SINGULAR_ORDER = 3
+# The measurements behind these are given in bemcheck.settings.Numerics.
+FAR_RATIO, NEAR_ORDER, FAR_ORDER = NUMERICS.far_ratio, NUMERICS.near_order, NUMERICS.far_order
+SINGULAR_ORDER = NUMERICS.singular_order
 
 
 def colour_triangles(triangles):
@@ -83,7 +75,7 @@ def colour_triangles(triangles):
     return np.split(order, cuts)
 
 
-@numba.njit(cache=True)
+@numba.njit
 def _greedy_colours(triangles, indptr, through):
     """Smallest colour not taken by an already coloured triangle sharing a vertex.
 

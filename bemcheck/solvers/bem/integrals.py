@@ -26,16 +26,13 @@ import numba
 import numpy as np
 from scipy.sparse import coo_matrix
 
+from bemcheck.settings import NUMERICS
 from bemcheck.solvers.bem import quadrature as quad
 from bemcheck.solvers.bem.kernel import cis
 
 FOUR_PI = 4.0 * np.pi
-# Targets closer than this fraction of the nearest triangle's size are on the surface.
-ON_SURFACE = 1e-6
-# Targets inside a body by less than this fraction of the nearest triangle's
-# size are on the surface too: they lie between a curved body and its flat
-# triangles (the sagitta of an edge h on radius a is h^2/8a, 0.04 h at h = a/3).
-SNAP_INSIDE = 0.1
+# Fractions of the nearest triangle's size; the reasons are in bemcheck.settings.Numerics.
+ON_SURFACE, SNAP_INSIDE = NUMERICS.on_surface, NUMERICS.snap_inside
 # Quadrature points handled at once (memory bound, about 100 MB of temporaries).
 _BATCH_POINTS = 400_000
 # Targets screened at once against every triangle (about 30 MB per 10,000 triangles).

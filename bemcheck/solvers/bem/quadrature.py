@@ -12,16 +12,11 @@ from functools import cache
 
 import numpy as np
 
+from bemcheck.settings import NUMERICS
 from bemcheck.solvers.bem.device import bempp
 
-# Degree of the base Gauss rule (6 points, exact for polynomials of degree 4).
-BASE_ORDER = 4
-# A (sub-)triangle is integrated by the base rule when the point is at least
-# SAFE_RATIO times its longest edge away: relative error below about 1e-4 for
-# 1/R and its normal derivative (measured in tests/unit/test_bem_quadrature.py).
-SAFE_RATIO = 2.0
-# Deepest subdivision: 4**7 sub-triangles, each 1/128 of the triangle's size.
-MAX_LEVEL = 7
+# The measurements behind these are given in bemcheck.settings.Numerics.
+BASE_ORDER, SAFE_RATIO, MAX_LEVEL = NUMERICS.base_order, NUMERICS.safe_ratio, NUMERICS.max_level
 
 
 @dataclass(frozen=True, eq=False)

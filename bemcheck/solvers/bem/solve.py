@@ -22,6 +22,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from bemcheck.errors import CaseError, GeometryError
+from bemcheck.settings import NUMERICS
 from bemcheck.solvers import freefield
 from bemcheck.solvers.bem.device import first_solve_guard
 from bemcheck.solvers.bem.fields import Fields, check_targets, directions_array, points_array, velocity_columns
@@ -29,15 +30,9 @@ from bemcheck.solvers.bem.power import power_directions
 from bemcheck.solvers.bem.surface import surface_from_mesh
 from bemcheck.solvers.bem.system import assemble, mixed_mass, velocity_rhs
 
-# A monopole closer to a surface than this many times the nearest triangle's
-# longest edge is refused.  P1 cannot follow the peak of its field on the
-# surface, and its self impedance (the field at the source itself) goes wrong
-# first.  Measured beside a sphere, ka 1-3, 320 and 1,280 triangles: Re Z_ii
-# and the far-field power differ by 1.5-3.7 % at 0.05 h, up to 1.1 % at 0.1 h,
-# 0.2-0.45 % from 0.2 h to 0.5 h, 0.06-0.16 % at 1 h; the far field itself
-# stays within 0.05 dB of the series down to 0.05 h.  BemSolution.source_gaps
-# reports the gap of each monopole so that users of Z can judge.
-MIN_SOURCE_GAP = 0.25
+# BemSolution.source_gaps reports the gap of each monopole so that users of Z
+# can judge; the measurement behind the limit is in bemcheck.settings.Numerics.
+MIN_SOURCE_GAP = NUMERICS.source_gap
 
 
 @dataclass(frozen=True, eq=False)

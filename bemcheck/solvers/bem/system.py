@@ -8,8 +8,8 @@ prescribed normal derivative ∂p/∂n = iωρ v_n (zero on rigid parts):
     (½I - K + ηW) u = u_inc + η ∂u_inc/∂n - [V + η(½I + K')] g,   η = i/k
 
 (Burton & Miller 1971, Proc. R. Soc. Lond. A 323, 201-210; the sign of η
-for bempp-cl's operators was measured on a rigid sphere, see
-/work/shared/design.md).  Outside, p = p_inc + DL(u) - SL(g).
+for bempp-cl's operators was measured on a rigid sphere:
+tests/verification/test_bem_sphere.py).  Outside, p = p_inc + DL(u) - SL(g).
 
 The matrix and the velocity operators V and K' are assembled by
 :mod:`bemcheck.solvers.bem.assembly` (regular pairs) and
