@@ -184,7 +184,7 @@ def _case_columns(case):
     return x, groups, np.argsort(points + pistons)
 
 
-def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, cache_dir=None, device="auto"):
+def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, cache_dir=None):
     """The case's sweep by bemcheck (each task as a run does it) and, at some frequencies, by the reference.
 
     Parameters
@@ -200,7 +200,6 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
         Also time the error-check solve (second mesh) of each chosen frequency.
     cache_dir : str, optional
         Mesh cache; every mesh is made before anything is timed.
-    device : {"auto", "numba"}
 
     Returns
     -------
@@ -239,7 +238,7 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
            "sources": [f"{s.name} ({s.radiator})" for s in case.sources], "rows": []}
     for t in tasks:
         with Clock() as c:
-            arrays, meta = bem_task(case, t, device=device, cache_dir=cache_dir)
+            arrays, meta = bem_task(case, t, cache_dir=cache_dir)
         row = {"frequency": t.frequency, "kind": t.kind, "unknowns": meta["unknowns"], "elements": meta["elements"],
                "device": meta["device"], "bemcheck": {"wall": c.wall, "cpu": c.cpu, "parts": meta["timings"]},
                "peak_rss": peak_rss()}

@@ -36,7 +36,7 @@ def _eta_text(seconds):
 def _threads_without_sigint():
     """Threads started inside never receive Ctrl-C: they inherit a mask that blocks SIGINT.
 
-    While :func:`bemcheck.solvers.bem.device.first_solve_guard` blocks
+    While :func:`bemcheck.solvers.bem.runtime.first_solve_guard` blocks
     SIGINT in the main thread, the kernel would hand the signal to any
     other thread that accepts it, and Python would raise it in the main
     thread inside the compiler after all.  Blocked everywhere else, it stays

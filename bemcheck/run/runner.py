@@ -26,7 +26,7 @@ from bemcheck.run.progress import COMPILE_HINT_S, Progress
 from bemcheck.run.store import PartStore, RunLock
 from bemcheck.run.sweep import CHECK, SOLVE, execute, plan_tasks, task_label
 from bemcheck.run.tasks import check_mesh, stored_solve
-from bemcheck.solvers.bem.device import kernels_compiled
+from bemcheck.solvers.bem.runtime import kernels_compiled
 from bemcheck.solvers.response import FieldResponse, free_response
 
 MODELS = ("free", "both")
@@ -120,7 +120,7 @@ def _own_body(case, stored, free):
 
 
 def bem_responses(case, directions, folder, *, solve=None, bands=None, frequencies=None, workers=1, scheduler=None,
-                  device="auto", cache_dir=None, progress=None, free=None):
+                  cache_dir=None, progress=None, free=None):
     """Run (or resume) the BEM sweep of ``case`` and return what it solved.
 
     Parameters
@@ -152,7 +152,7 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
     store = PartStore(folder)
     if solve is None:
 
-        solve = functools.partial(bem_tasks.bem_task, case, device=device, cache_dir=cache_dir)
+        solve = functools.partial(bem_tasks.bem_task, case, cache_dir=cache_dir)
         _mesh_ahead(case, [t for t in plan if not store.has(t.key)], cache_dir, progress)
         _say_compile(case, [t for t in plan if not store.has(t.key)], workers, scheduler, progress)
     progress.sweep(len(plan))
@@ -233,7 +233,7 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
     **options
         ``progress_stream`` (default stderr) and ``quiet`` for the progress
         lines; the rest is passed to :func:`bem_responses`: ``workers``,
-        ``scheduler``, ``device``, ``cache_dir``; tests may pass ``solve``
+        ``scheduler``, ``cache_dir``; tests may pass ``solve``
         and ``bands``.
 
     Returns

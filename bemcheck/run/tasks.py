@@ -20,7 +20,6 @@ from bemcheck.mesh import SurfaceMesh, mesh_scene
 from bemcheck.observers import for_observers
 from bemcheck.prebuild.scattered import StoredSolve
 from bemcheck.run.sweep import CHECK, SOLVE, bodies_with_sources
-from bemcheck.solvers.bem.device import configure_device
 from bemcheck.solvers.bem.solve import solve_frequency
 from bemcheck.solvers.bem.surface import surface_from_mesh
 
@@ -56,7 +55,7 @@ def _alone_groups(case, mesh, order):
             for name in bodies_with_sources(case)]
 
 
-def solve_case_frequency(case, mesh, frequency, directions, device="auto", alone=False):
+def solve_case_frequency(case, mesh, frequency, directions, alone=False):
     """The BEM FieldResponse arrays of ``case`` at ``frequency`` on ``mesh``, in case source order.
 
     Parameters
@@ -74,7 +73,6 @@ def solve_case_frequency(case, mesh, frequency, directions, device="auto", alone
         solution (columns in solver order).
     """
 
-    configure_device(device)
     order, points, groups = _column_order(case)
     x = np.array([case.sources[i].position for i in points]).reshape(-1, 3)
     obs = np.array([p.at for p in case.observers.points]).reshape(-1, 3)
@@ -147,7 +145,7 @@ def check_mesh(case, element_size, cache_dir=None):
     return subdivided(band), CHECK_SUBDIVIDED
 
 
-def bem_task(case, task, device="auto", cache_dir=None):
+def bem_task(case, task, cache_dir=None):
     """Solve one sweep task; the answer is ``(arrays, meta)`` for the part store.
 
     Parameters
@@ -155,7 +153,6 @@ def bem_task(case, task, device="auto", cache_dir=None):
     case : Case
     task : Task
         Frequency [Hz], element size [m] and kind (SOLVE or CHECK) of the solve.
-    device : {"auto", "numba"}
     cache_dir : path, optional
         Mesh cache folder.
 
@@ -179,7 +176,7 @@ def bem_task(case, task, device="auto", cache_dir=None):
     else:
         mesh = mesh_scene(case, task.element_size, cache_dir=cache_dir)
     directions = for_observers(case.observers.far_field)
-    arrays, sol = solve_case_frequency(case, mesh, task.frequency, directions, device, alone=task.kind == SOLVE)
+    arrays, sol = solve_case_frequency(case, mesh, task.frequency, directions, alone=task.kind == SOLVE)
     if task.kind == SOLVE:
         arrays.update(_surface_arrays(sol, mesh))
     else:

@@ -8,8 +8,8 @@ surface we check identities that hold exactly instead.
 import numpy as np
 import pytest
 
-from bemcheck.solvers.bem.device import bempp
 from bemcheck.solvers.bem.integrals import far_field_moments, moments
+from bemcheck.solvers.bem.runtime import bempp
 from bemcheck.solvers.bem.surface import surface_from_mesh
 from tests.support.icosphere import icosphere, ray_hit, voxel_body
 

@@ -19,7 +19,7 @@ from bemcheck.case.model import Medium
 from bemcheck.solvers import freefield
 from bemcheck.solvers.bem import assembly as bem_assembly
 from bemcheck.solvers.bem import system as bem_system
-from bemcheck.solvers.bem.device import bempp, current_device
+from bemcheck.solvers.bem.runtime import bempp, current_device
 from bemcheck.solvers.bem.solve import solve_frequency
 from bemcheck.solvers.bem.surface import surface_from_mesh
 from tests.support import sphere_series as series

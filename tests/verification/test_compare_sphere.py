@@ -54,7 +54,7 @@ def sphere_run(tmp_path_factory):
     mesh = mesh_scene(case, plan_bands(case)[0].element_size, cache_dir=cache)
     bem = []
     for f in case.frequencies:
-        arrays, _ = solve_case_frequency(case, mesh, f, directions, device="numba")
+        arrays, _ = solve_case_frequency(case, mesh, f, directions)
         bem.append(FieldResponse(f, arrays["far_field"], arrays["points"], arrays["impedance"], arrays["power_matrix"]))
     ds, _ = combine(case, directions, free_responses(case, directions), bem)
     return case, ds

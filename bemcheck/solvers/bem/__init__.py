@@ -4,6 +4,6 @@ Modules by role: ``surface`` (the mesh as the solver sees it), ``quadrature`` an
 ``integrals`` (singular and regular element integrals), ``kernel`` (Green's
 function pieces), ``assembly`` and ``system`` (the dense matrices and their
 solution), ``touching`` (bodies in contact), ``fields`` and ``power`` (pressure
-off the surface), ``device`` (the compiled kernels' first use), ``solve`` (one
+off the surface), ``runtime`` (bempp-cl, the kernels' first compile), ``solve`` (one
 frequency, end to end).
 """

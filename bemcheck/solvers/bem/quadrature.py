@@ -13,7 +13,7 @@ from functools import cache
 import numpy as np
 
 from bemcheck.settings import NUMERICS
-from bemcheck.solvers.bem.device import bempp
+from bemcheck.solvers.bem.runtime import bempp
 
 # The measurements behind these are given in bemcheck.settings.Numerics.
 BASE_ORDER, SAFE_RATIO, MAX_LEVEL = NUMERICS.base_order, NUMERICS.safe_ratio, NUMERICS.max_level

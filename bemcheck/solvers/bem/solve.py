@@ -24,9 +24,9 @@ import numpy as np
 from bemcheck.errors import CaseError, GeometryError
 from bemcheck.settings import NUMERICS
 from bemcheck.solvers import freefield
-from bemcheck.solvers.bem.device import first_solve_guard
 from bemcheck.solvers.bem.fields import Fields, check_targets, directions_array, points_array, velocity_columns
 from bemcheck.solvers.bem.power import power_directions
+from bemcheck.solvers.bem.runtime import first_solve_guard
 from bemcheck.solvers.bem.surface import surface_from_mesh
 from bemcheck.solvers.bem.system import assemble, mixed_mass, velocity_rhs
 

@@ -28,7 +28,7 @@ from scipy.sparse import coo_matrix
 from bemcheck.errors import BemcheckInputError
 from bemcheck.memory import available_memory, dense_bytes
 from bemcheck.solvers.bem.assembly import burton_miller_matrix, velocity_matrix
-from bemcheck.solvers.bem.device import bempp, current_device, note_assembly
+from bemcheck.solvers.bem.runtime import BACKEND, bempp, note_assembly
 
 
 @dataclass(frozen=True, eq=False)
@@ -148,7 +148,6 @@ def assemble(surface, k, coupling=None, blocks=()):
     System
     """
     check_memory(surface.n_vertices, block_unknowns=[len(b) for b in blocks])
-    device = current_device()
     eta = 1j / k if coupling is None else complex(coupling)
     t0 = time.perf_counter()
     grid = _grid(surface)
@@ -160,7 +159,7 @@ def assemble(surface, k, coupling=None, blocks=()):
     lu = lu_factor(a.T, overwrite_a=True, check_finite=False)
     t2 = time.perf_counter()
     note_assembly()
-    return System(k, eta, lu, surface, grid, device, {"assembly": t1 - t0, "lu": t2 - t1}, kept)
+    return System(k, eta, lu, surface, grid, BACKEND, {"assembly": t1 - t0, "lu": t2 - t1}, kept)
 
 
 def velocity_rhs(system, support, g):

@@ -1,9 +1,9 @@
-"""Where the BEM runs: the one place that chooses and records it.
+"""The BEM's run-time: bempp-cl imported quietly, the kernels' first compile, and what ran them.
 
 bemcheck assembles its matrices with its own numba kernels on the CPU
 (:mod:`bemcheck.solvers.bem.assembly`); bempp-cl, which builds the grid and
-the touching-pair quadrature, is set to numba as well.  bempp-cl's OpenCL
-interface is not used: its assembly is not on bemcheck's path any more.
+the touching-pair quadrature, is set to numba as well.  There is no other
+back end: :data:`BACKEND` is recorded with every solve, not chosen.
 
 bempp-cl is imported lazily, here only, with its "Could not find Gmsh" print
 kept out of our output: importing :mod:`bemcheck` never imports it.
@@ -15,9 +15,9 @@ import os
 import signal
 import threading
 
-DEVICES = ("auto", "numba")
+BACKEND = "numba"
 
-_state = {"device": None, "assembled": False}
+_state = {"assembled": False}
 
 
 def bempp():
@@ -40,51 +40,8 @@ def bempp():
     os.environ.setdefault("OMP_WAIT_POLICY", "PASSIVE")
     with contextlib.redirect_stdout(io.StringIO()):
         import bempp_cl.api as api
+    api.DEFAULT_DEVICE_INTERFACE = BACKEND
     return api
-
-
-def configure_device(choice="auto"):
-    """Choose the device for the whole process.
-
-    Parameters
-    ----------
-    choice : {"auto", "numba"}
-        ``"auto"`` is numba, the only device.
-
-    Returns
-    -------
-    str
-        The device now in use, ``"numba"``.
-
-    Raises
-    ------
-    ValueError
-        For a choice not in :data:`DEVICES`.
-
-    Examples
-    --------
-    >>> configure_device("numba")
-    'numba'
-    """
-    if choice not in DEVICES:
-        raise ValueError(f"device: expected one of {', '.join(DEVICES)}, got {choice!r}")
-    device = "numba"
-    bempp().DEFAULT_DEVICE_INTERFACE = device
-    _state["device"] = device
-    return device
-
-
-def current_device():
-    """The configured device; configures ``"auto"`` on first call.
-
-    Returns
-    -------
-    str
-        ``"numba"``.
-    """
-    if _state["device"] is None:
-        return configure_device("auto")
-    return _state["device"]
 
 
 @contextlib.contextmanager
