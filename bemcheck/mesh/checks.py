@@ -33,7 +33,7 @@ def _edge_message(name, vertices, edge, what, count=1):
             f"and {b} {_where(vertices, b)}{more}")
 
 
-def check_surface(vertices, triangles, name):
+def check_surface(vertices, triangles, name, repair=True):
     """Check a closed surface and return it outward-oriented.
 
     Parameters
@@ -44,6 +44,9 @@ def check_surface(vertices, triangles, name):
         Vertex indices.
     name : str
         What to call the surface in messages (a file name, a body name).
+    repair : bool
+        Flip a surface that is inward as a whole (with a notice); False
+        refuses it instead, for meshes that must already be right.
 
     Returns
     -------
@@ -80,7 +83,7 @@ def check_surface(vertices, triangles, name):
     _check_degenerate(v, t, name)
     edges = _check_edges(v, t, name)
     _check_vertices(v, t, edges, name)
-    return _orient(v, t, edges, name)
+    return _orient(v, t, edges, name, repair)
 
 
 def _check_degenerate(v, t, name):
@@ -145,7 +148,7 @@ def _check_vertices(v, t, edge_tris, name):
                             "sheets of surface meet there")
 
 
-def _orient(v, t, edge_tris, name):
+def _orient(v, t, edge_tris, name, repair=True):
     nt = len(t)
     graph = coo_matrix((np.ones(len(edge_tris)), (edge_tris[:, 0], edge_tris[:, 1])),
                        shape=(nt, nt))
@@ -155,6 +158,10 @@ def _orient(v, t, edge_tris, name):
     volume = np.bincount(part, weights=signed, minlength=n_parts)
     if (volume > 0).all():
         return t
+    if (volume < 0).all() and not repair:
+        raise GeometryError(f"{name}: the surface is oriented inward (normals pointing into the body, "
+                            f"enclosed volume {volume.sum():.3g} m³); expected outward normals "
+                            "(counter-clockwise seen from outside)")
     if (volume < 0).all():
         warnings.warn(f"{name}: the surface was oriented inward (normals pointing into the "
                       "body); flipped it", MeshNotice, stacklevel=3)

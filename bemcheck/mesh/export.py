@@ -45,7 +45,7 @@ def aspect_ratios(mesh):
     R = abc / (4 A) and r = 2 A / (a + b + c), so R / 2r = abc (a + b + c) / (16 A^2).
     """
     e = mesh.edge_lengths()
-    area = mesh.areas()
+    area = mesh.areas
     return e.prod(axis=1) * e.sum(axis=1) / (16.0 * area**2)
 
 
@@ -55,7 +55,7 @@ def mesh_stats(case, mesh, band, files=()):
     bodies = []
     for body in case.bodies:
         mask = np.isin(mesh.domains, mesh.tags_of_body(body.name))
-        bodies.append(BodyStats(body.name, float(mesh.areas()[mask].sum()),
+        bodies.append(BodyStats(body.name, float(mesh.areas[mask].sum()),
                                 mesh.enclosed_volume(mask)))
     return BandStats(band, mesh.n_triangles, mesh.n_vertices, float(e.min()), float(e.max()),
                      float(aspect_ratios(mesh).max()), tuple(bodies), tuple(files))

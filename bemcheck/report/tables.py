@@ -204,7 +204,7 @@ def aspect_ratios(mesh):
     [1.0]
     """
     longest = mesh.edge_lengths().max(axis=1)
-    area = mesh.areas()
+    area = mesh.areas
     with np.errstate(divide="ignore"):
         return np.where(area > 0.0, longest**2 * np.sqrt(3.0) / (4.0 * np.maximum(area, 1e-300)), np.inf)
 
@@ -214,7 +214,7 @@ def mesh_rows(mesh):
     bodies = body_of_triangles(mesh)
     edges = mesh.edge_lengths()
     ratio = aspect_ratios(mesh)
-    area = mesh.areas()
+    area = mesh.areas
     rows = [("body", "triangles", "shortest edge", "longest edge", "worst aspect ratio", "area", "enclosed volume")]
     for b in dict.fromkeys(bodies):
         m = bodies == b

@@ -97,7 +97,7 @@ def subdivided(mesh):
     --------
     >>> m = SurfaceMesh(np.eye(3), np.array([[0, 1, 2]]), np.array([1]))
     >>> s = subdivided(m)
-    >>> s.n_triangles, s.n_vertices, round(float(s.areas().sum() / m.areas().sum()), 12)
+    >>> s.n_triangles, s.n_vertices, round(float(s.areas.sum() / m.areas.sum()), 12)
     (4, 6, 1.0)
     """
 

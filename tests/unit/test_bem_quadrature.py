@@ -5,27 +5,16 @@ from math import factorial
 import numpy as np
 import pytest
 
+from bemcheck.mesh.surface import SurfaceMesh
 from bemcheck.solvers.bem import quadrature as quad
 from bemcheck.solvers.bem.integrals import moments
-from bemcheck.solvers.bem.surface import Surface
 
 TRI = np.array([[0.0, 0.0, 0.0], [1.0, 0.0, 0.0], [0.2, 0.9, 0.0]])
 
 
 def one_triangle(corners=TRI):
-    """A one-triangle Surface (not closed: only for integrals over that triangle)."""
-    cross = np.cross(corners[1] - corners[0], corners[2] - corners[0])
-    size = np.linalg.norm(corners[[1, 2, 0]] - corners, axis=1).max()
-    return Surface(
-        vertices=corners,
-        triangles=np.array([[0, 1, 2]]),
-        domains=np.array([1]),
-        groups={},
-        normals=cross[None] / np.linalg.norm(cross),
-        areas=np.array([0.5 * np.linalg.norm(cross)]),
-        sizes=np.array([size]),
-        mesh_vertex=np.arange(3),
-    )
+    """A one-triangle surface (not closed: only for integrals over that triangle)."""
+    return SurfaceMesh(corners, np.array([[0, 1, 2]]), np.array([1]), {}, mesh_vertex=np.arange(3))
 
 
 def solid_angle(corners, x):

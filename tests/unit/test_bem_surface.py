@@ -40,10 +40,10 @@ def test_unused_vertices_are_dropped_and_remembered():
 @pytest.mark.parametrize(
     "change, words",
     [
-        ("open", "has no neighbouring triangle"),
-        ("inverted", "encloses volume"),
-        ("one_inverted", "encloses volume"),
-        ("duplicate", "used twice in the same direction"),
+        ("open", "a hole"),
+        ("inverted", "oriented inward"),
+        ("one_inverted", "oriented opposite"),
+        ("duplicate", "non-manifold"),
         ("degenerate", "zero area"),
         ("index", "vertex indices"),
         ("nan", "not finite"),

@@ -19,7 +19,7 @@ from bemcheck.case.model import Medium
 from bemcheck.solvers import freefield
 from bemcheck.solvers.bem import assembly as bem_assembly
 from bemcheck.solvers.bem import system as bem_system
-from bemcheck.solvers.bem.runtime import bempp, current_device
+from bemcheck.solvers.bem.runtime import BACKEND, bempp
 from bemcheck.solvers.bem.solve import solve_frequency
 from bemcheck.solvers.bem.surface import surface_from_mesh
 from tests.support import sphere_series as series
@@ -31,7 +31,7 @@ def _options():
     parameters = bempp().DefaultParameters()
     parameters.quadrature.regular = 4
     parameters.quadrature.singular = 4
-    return {"assembler": "dense", "device_interface": current_device(), "precision": "double", "parameters": parameters}
+    return {"assembler": "dense", "device_interface": BACKEND, "precision": "double", "parameters": parameters}
 
 
 def _dense(operator):

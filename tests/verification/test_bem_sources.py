@@ -34,7 +34,7 @@ def capped_sphere(n=8, theta0_deg=40.0):
     mesh = pole_up(icosphere(1.0, n))
     c = mesh.vertices[mesh.triangles].mean(axis=1)
     cap = np.arccos(c[:, 2] / np.linalg.norm(c, axis=1)) < np.radians(theta0_deg)
-    areas = mesh.areas()
+    areas = mesh.areas
     theta_eff = np.arccos(1.0 - 2.0 * areas[cap].sum() / areas.sum())
     return SurfaceMesh(mesh.vertices, mesh.triangles, np.where(cap, 2, 1), {"ball": 1, "ball.cap": 2}), theta_eff
 

@@ -327,7 +327,7 @@ def add_regular_part(out, surface, k, eta, far_ratio=FAR_RATIO):
     Parameters
     ----------
     out : (nv, nv) ndarray of complex128, C-contiguous
-    surface : Surface
+    surface : SurfaceMesh
     k : float
         Wavenumber [rad/m].
     eta : complex
@@ -363,7 +363,7 @@ def velocity_matrix(surface, grid, support, k, eta, far_ratio=FAR_RATIO, singula
 
     Parameters
     ----------
-    surface : Surface
+    surface : SurfaceMesh
     grid : bempp-cl Grid of ``surface``
     support : (n_sup,) array_like of int
         Sorted triangle indices.
@@ -391,7 +391,7 @@ def burton_miller_matrix(surface, grid, k, eta, far_ratio=FAR_RATIO, singular_or
 
     Parameters
     ----------
-    surface : Surface
+    surface : SurfaceMesh
     grid : bempp-cl Grid of ``surface`` (same vertex and triangle numbering)
     k : float
         Wavenumber [rad/m].

@@ -49,7 +49,7 @@ def velocity_columns(surface, pistons, velocities):
 
     Parameters
     ----------
-    surface : Surface
+    surface : SurfaceMesh
     pistons : sequence of str
         Physical groups moving with unit volume velocity: v_n = 1/area there.
     velocities : (nt, V) array_like or None
@@ -110,7 +110,7 @@ class Fields:
 
     Attributes
     ----------
-    surface : Surface
+    surface : SurfaceMesh
     frequency : float
         [Hz].
     medium : Medium

@@ -151,7 +151,7 @@ def moments(surface, targets, k, single=True, p0_support=None):
 
     Parameters
     ----------
-    surface : Surface
+    surface : SurfaceMesh
         At least one triangle.
     targets : (M, 3) array_like
         Points [m].
@@ -321,7 +321,7 @@ def far_field_moments(surface, directions, k, p0_support=None):
 
     Parameters
     ----------
-    surface : Surface
+    surface : SurfaceMesh
     directions : (D, 3) array_like
         Unit vectors.
     k : float

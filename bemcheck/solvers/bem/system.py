@@ -45,7 +45,7 @@ class System:
         ``scipy.linalg.lu_factor`` of the transpose of the (nv, nv) Galerkin
         matrix (the matrix is built row-major; its transpose is column-major,
         which LAPACK factorises in place without a copy).
-    surface : Surface
+    surface : SurfaceMesh
     grid : bempp-cl Grid
         Kept to assemble the velocity operators on the same grid.
     device : str
@@ -133,7 +133,7 @@ def assemble(surface, k, coupling=None, blocks=()):
 
     Parameters
     ----------
-    surface : Surface
+    surface : SurfaceMesh
         Closed outward-oriented bodies, at least one triangle.
     k : float
         Wavenumber [rad/m], > 0.

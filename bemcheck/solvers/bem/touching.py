@@ -121,7 +121,7 @@ def add_touching_pairs(out, surface, grid, k, eta, order):
     Parameters
     ----------
     out : (nv, nv) ndarray of complex128
-    surface : Surface
+    surface : SurfaceMesh
     grid : bempp-cl Grid of ``surface`` (same vertex and triangle numbering)
     k : float
         Wavenumber [rad/m].
