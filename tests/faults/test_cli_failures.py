@@ -21,31 +21,10 @@ import pytest
 import bemcheck.cli.examples
 from bemcheck.cli import main
 from bemcheck.run.store import LOCK, LockOwner, RunLock
+from tests.support.cases import BOX_BODY, case_text
 
-BOX_CASE = """
-[case]
-title = "Box meshed in three bands (invented test case)"
-[frequencies]
-list = [500.0, 1000.0, 2000.0]
-[mesh]
-elements_per_wavelength = 10
-band_octaves = 1
-[[body]]
-name = "cab"
-kind = "box"
-size = [0.2, 0.2, 0.2]
-[[source]]
-name = "p"
-role = "primary"
-at = [0.3, 0.0, 0.0]
-strength = 1e-3
-[[source]]
-name = "c"
-role = "control"
-at = [-0.3, 0.0, 0.0]
-[observers]
-far_field = { plane = "xy", step_deg = 30.0 }
-"""
+BOX_CASE = case_text("Box meshed in three bands (invented test case)", "list = [500.0, 1000.0, 2000.0]",
+                     mesh="elements_per_wavelength = 10\nband_octaves = 1", bodies=BOX_BODY)
 
 # A command that fails inside bemcheck (not bad input): exit 1 and a log.
 _BROKEN = "the case hash went missing (a bug planted by the test)"

@@ -33,57 +33,17 @@ from bemcheck.cli import main
 from bemcheck.run import tasks as bem_tasks
 from bemcheck.run.runner import case_hash
 from bemcheck.run.store import LOCK, PARTS, LockOwner
+from tests.support.cases import BOX_BODY, CIRCLE_30, case_text
 
-BOX_CASE = """
-[case]
-title = "Interrupted box (invented test case)"
-[frequencies]
-list = [200.0, 300.0, 400.0]
-[mesh]
-elements_per_wavelength = 6
-band_octaves = 4
-[[body]]
-name = "cab"
-kind = "box"
-size = [0.2, 0.2, 0.2]
-[[source]]
-name = "p"
-role = "primary"
-at = [0.3, 0.0, 0.0]
-strength = 1e-3
-[[source]]
-name = "c"
-role = "control"
-at = [-0.3, 0.0, 0.0]
-[observers]
-far_field = { plane = "xy", step_deg = 30.0 }
-points = [ { name = "ear", at = [0.0, 1.0, 0.0] } ]
-"""
+BOX_CASE = case_text("Interrupted box (invented test case)", "list = [200.0, 300.0, 400.0]",
+                     mesh="elements_per_wavelength = 6\nband_octaves = 4", bodies=BOX_BODY,
+                     observers=CIRCLE_30 + 'points = [ { name = "ear", at = [0.0, 1.0, 0.0] } ]\n')
 
 # No bodies: the BEM path answers the free field without a solver compile,
 # so a sweep of 50 tasks (49 frequencies and a self-check) takes seconds and
 # its writes are what there is to interrupt.
-FREE_CASE = """
-[case]
-title = "Interrupted free sweep (invented test case, no bodies)"
-[frequencies]
-start = 100.0
-stop = 1600.0
-per_octave = 12
-[mesh]
-band_octaves = 8
-[[source]]
-name = "p"
-role = "primary"
-at = [0.3, 0.0, 0.0]
-strength = 1e-3
-[[source]]
-name = "c"
-role = "control"
-at = [-0.3, 0.0, 0.0]
-[observers]
-far_field = { plane = "xy", step_deg = 30.0 }
-"""
+FREE_CASE = case_text("Interrupted free sweep (invented test case, no bodies)", "start = 100.0\nstop = 1600.0\nper_octave = 12",
+                      mesh="band_octaves = 8")
 
 RESUME_HINT = "run the same command again to resume"
 WAIT = 600.0          # seconds; a generous bound on any one run on a loaded machine

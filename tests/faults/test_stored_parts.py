@@ -19,7 +19,7 @@ import pytest
 import bemcheck
 from bemcheck.cli import main
 from bemcheck.run.store import PARTS, PartStore
-from tests.unit.test_bad_input_catalogue import FREE_CASE
+from tests.support.cases import FREE_CASE
 
 
 def _run(tmp_path, name, capsys):

@@ -35,8 +35,9 @@ from bemcheck.run.runner import run_case
 from bemcheck.run.sweep import plan_tasks
 from tests.faults.test_sweep_dask import DASK, _spawn
 from tests.faults.test_sweep_resume import BANDS, case
+from tests.support.cases import FREE_CASE
 from tests.support.image_source import image_task, slow_image_task
-from tests.unit.test_bad_input_catalogue import FREE_CASE, assert_nothing_half_written
+from tests.unit.test_bad_input_catalogue import assert_nothing_half_written
 
 # Generous bound for a command that should end within SCHEDULER_TIMEOUT_S: a hang detector, not a speed target.
 HANG_S = 120.0

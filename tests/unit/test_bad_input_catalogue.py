@@ -41,6 +41,7 @@ import bemcheck
 from bemcheck.cli import main
 from bemcheck.mesh.scene import check_file_bodies
 from bemcheck.results import files as results
+from tests.support.cases import FREE_CASE
 
 DATA = Path(__file__).resolve().parents[1] / "data" / "bad"
 OUTPUTS = ("results.nc", "summary.json", "report.html", ".bemcheck.lock")
@@ -380,27 +381,6 @@ def test_file_body_resolution_boundary(top, refused, tmp_path):
         check_file_bodies(c, tmp_path / "cache")
 
 
-FREE_CASE = """
-[case]
-title = "Disk-full row (invented test case, no bodies)"
-[frequencies]
-start = 100.0
-stop = 800.0
-per_octave = 3
-[mesh]
-band_octaves = 4
-[[source]]
-name = "p"
-role = "primary"
-at = [0.3, 0.0, 0.0]
-strength = 1e-3
-[[source]]
-name = "c"
-role = "control"
-at = [-0.3, 0.0, 0.0]
-[observers]
-far_field = { plane = "xy", step_deg = 30.0 }
-"""
 
 
 class DiskFull:

@@ -20,28 +20,11 @@ import pytest
 import bemcheck
 from bemcheck.cli import main
 from bemcheck.run.store import PARTS
+from tests.support.cases import case_text
 
 # No bodies: the BEM path answers the free field without a solver compile.
-FREE_CASE = """
-[case]
-title = "Verbose free sweep (invented test case, no bodies)"
-[frequencies]
-list = [100.0, 200.0, 400.0]
-[mesh]
-elements_per_wavelength = 6
-band_octaves = 4
-[[source]]
-name = "p"
-role = "primary"
-at = [0.3, 0.0, 0.0]
-strength = 1e-3
-[[source]]
-name = "c"
-role = "control"
-at = [-0.3, 0.0, 0.0]
-[observers]
-far_field = { plane = "xy", step_deg = 30.0 }
-"""
+FREE_CASE = case_text("Verbose free sweep (invented test case, no bodies)", "list = [100.0, 200.0, 400.0]",
+                      mesh="elements_per_wavelength = 6\nband_octaves = 4")
 
 # One 0.2 m box, 84 triangles in its band mesh, three frequencies in one band.
 BOX_CASE = (
