@@ -11,8 +11,8 @@ scatterer, and moving it is a new geometry, hence a new solve.
 
 A Monte Carlo asks for thousands of moved layouts; :class:`MovedImpedance`
 evaluates a whole stack of them with one set of surface integrals
-(the batched form of :func:`~bemcheck.solvers.bem.solve.perturbed_impedance`,
-equal to it to round-off).
+(:class:`~bemcheck.solvers.bem.moved.ImpedanceUpdate`, of which
+:func:`~bemcheck.solvers.bem.solve.perturbed_impedance` is the single case).
 """
 
 from dataclasses import dataclass
@@ -20,14 +20,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from bemcheck.mesh.distance import nearest_on_surface
+from bemcheck.settings import NUMERICS
 from bemcheck.solvers import freefield
 from bemcheck.solvers.bem.fields import Fields, check_targets
-from bemcheck.solvers.bem.solve import MIN_SOURCE_GAP, perturbed_impedance
+from bemcheck.solvers.bem.moved import ImpedanceUpdate
 from bemcheck.solvers.bem.surface import surface_from_mesh
-
-# Target-vertex pairs of surface integrals per block of a stack, to bound memory
-# (the double-layer moments are a dense (targets, vertices) complex matrix).
-_PAIRS_PER_BLOCK = 2_000_000
 
 
 @dataclass(frozen=True, eq=False)
@@ -35,9 +32,7 @@ class StoredSolve:
     """One frequency's BEM solution as a sweep keeps it, in the solver's column order.
 
     Columns are the solver's: the M monopoles in case order, then the V
-    velocity sources (pistons).  The attribute names are those of
-    :class:`~bemcheck.solvers.bem.solve.BemSolution` that
-    :func:`~bemcheck.solvers.bem.solve.perturbed_impedance` reads.
+    velocity sources (pistons).
 
     Attributes
     ----------
@@ -77,7 +72,7 @@ class StoredSolve:
     def clearance(self):
         """How far each source may move with the stored solve still valid [m], (S,), case order.
 
-        A monopole's distance to the nearest triangle less ``MIN_SOURCE_GAP``
+        A monopole's distance to the nearest triangle less ``NUMERICS.source_gap``
         times the longest element edge (the gap the solver demands; any move
         shorter than this keeps the source in the air and far enough from
         the surface); inf without bodies; 0 for velocity sources, which
@@ -92,7 +87,7 @@ class StoredSolve:
         reach = float(np.linalg.norm(x[:, None, :] - self.mesh.vertices[None, :, :], axis=2).max())
         distance, _ = nearest_on_surface(x, self.mesh.vertices, self.mesh.triangles, reach)
         h = float(self.mesh.edge_lengths().max())
-        out[mono] = np.maximum(distance - MIN_SOURCE_GAP * h, 0.0)
+        out[mono] = np.maximum(distance - NUMERICS.source_gap * h, 0.0)
         return out
 
     def field_at(self, medium, points):
@@ -158,54 +153,20 @@ class MovedImpedance:
 
     def __init__(self, stored, medium, order):
         self.stored = stored
-        self.medium = medium
         self.col = stored.column[order]
         self.mono = stored.movable[order]
         self.fixed = stored.positions[order][~self.mono]
-        surface = surface_from_mesh(stored.mesh)
-        self._surface = surface if surface.n_triangles else None
-        if self._surface is not None:
-            m = len(stored.monopoles)
-            f = stored.frequency
-            self._fields = Fields.build(surface, f, medium, stored.monopoles, stored.normal_velocity)
-            self._u = stored.surface_pressure[surface.mesh_vertex]
-            self._z_s = stored.impedance.copy()
-            self._z_s[:m] -= self._fields.pad(freefield.impedance_matrix(f, medium, stored.monopoles))
+        self._update = ImpedanceUpdate(stored.frequency, medium, stored.mesh, stored.monopoles, stored.impedance,
+                                       stored.surface_pressure, stored.normal_velocity)
 
     def __call__(self, positions):
-        """(K, 3) positions [m] -> (K, K) impedances [Pa per m³/s] (as perturbed_impedance)."""
-        moved = self._monopoles(np.asarray(positions, dtype=float)[None])[0]
-        z = perturbed_impedance(self.stored, self.stored.mesh, self.medium, moved)
-        return z[np.ix_(self.col, self.col)]
+        """(K, 3) positions [m] -> (K, K) impedances [Pa per m³/s]."""
+        return self.many(np.asarray(positions, dtype=float)[None])[0]
 
     def many(self, positions):
-        """(T, K, 3) positions [m] -> (T, K, K) impedances [Pa per m³/s], one layout per row.
-
-        The same reciprocity update as
-        :func:`~bemcheck.solvers.bem.solve.perturbed_impedance`, with the surface
-        integrals of every moved monopole of the stack done together.
-        """
-        x = np.asarray(positions, dtype=float)
-        moved = self._monopoles(x)
-        t, m = moved.shape[:2]
-        f = self.stored.frequency
-        if m == 0:
-            return np.repeat(self.stored.impedance[np.ix_(self.col, self.col)][None], t, axis=0)
-        free = np.array([freefield.impedance_matrix(f, self.medium, xm).reshape(m, m) for xm in moved])
-        if self._surface is None:
-            return free[:, self.col][:, :, self.col]
-        n_vertices = max(len(self._u), 1)
-        block = max(1, _PAIRS_PER_BLOCK // (m * n_vertices))
-        rows = []
-        for start in range(0, t, block):
-            flat = moved[start:start + block].reshape(-1, 3)
-            mom = self._fields.moments(flat)
-            check_targets(mom, flat, "moved", MIN_SOURCE_GAP)
-            rows.append(self._fields.scattered(mom, self._u))
-        e = np.broadcast_to(self._z_s, (t,) + self._z_s.shape).copy()
-        e[:, :m] = np.concatenate(rows).reshape(t, m, -1)
-        z = e + e.transpose(0, 2, 1) - self._z_s
-        z[:, :m, :m] += free
+        """(T, K, 3) positions [m] -> (T, K, K) impedances [Pa per m³/s], one layout per row
+        (:class:`~bemcheck.solvers.bem.moved.ImpedanceUpdate`)."""
+        z = self._update.many(self._monopoles(np.asarray(positions, dtype=float)))
         return z[:, self.col][:, :, self.col]
 
     def _monopoles(self, x):

@@ -25,6 +25,7 @@ from bemcheck.errors import CaseError, GeometryError
 from bemcheck.settings import NUMERICS
 from bemcheck.solvers import freefield
 from bemcheck.solvers.bem.fields import Fields, check_targets, directions_array, points_array, velocity_columns
+from bemcheck.solvers.bem.moved import ImpedanceUpdate
 from bemcheck.solvers.bem.power import power_directions
 from bemcheck.solvers.bem.runtime import first_solve_guard
 from bemcheck.solvers.bem.surface import surface_from_mesh
@@ -283,14 +284,8 @@ def _free_solution(frequency, medium, x_src, dirs, obs):
 def perturbed_impedance(solution, mesh, medium, moved):
     """Impedance matrix with the monopoles moved, from the stored surface solution.
 
-    No new solve: the scattered field of each stored solution is evaluated
-    at the moved positions, and reciprocity (Z_s symmetric) gives the rest,
-
-        Z_s(a', b') ≈ Z_s(a', b) + Z_s(b', a) - Z_s(a, b),
-
-    exact when only one of a, b moves, with an error of second order in the
-    displacements otherwise.  The free-field part is recomputed exactly.
-    Velocity sources stay where they are.
+    No new solve: see :mod:`bemcheck.solvers.bem.moved` for the reciprocity
+    update and its error.  Velocity sources stay where they are.
 
     Parameters
     ----------
@@ -320,19 +315,6 @@ def perturbed_impedance(solution, mesh, medium, moved):
     m = len(solution.monopoles)
     if x_new.shape != (m, 3):
         raise GeometryError(f"moved: expected ({m}, 3) positions, one per monopole; got {x_new.shape}")
-    f = solution.frequency
-    surface = surface_from_mesh(mesh)
-    if surface.n_triangles == 0:
-        return freefield.impedance_matrix(f, medium, x_new).reshape(m, m)
-    flds = Fields.build(surface, f, medium, x_new, solution.normal_velocity)
-    u = solution.surface_pressure[surface.mesh_vertex]
-    old_free = flds.pad(freefield.impedance_matrix(f, medium, solution.monopoles))
-    z_s = solution.impedance.copy()
-    z_s[:m] -= old_free
-    mom = flds.moments(x_new)
-    check_targets(mom, x_new, "moved", MIN_SOURCE_GAP)
-    e = z_s.copy()
-    e[:m] = flds.scattered(mom, u)
-    z_new = e + e.T - z_s
-    z_new[:m] += flds.pad(freefield.impedance_matrix(f, medium, x_new))
-    return z_new
+    update = ImpedanceUpdate(solution.frequency, medium, mesh, solution.monopoles, solution.impedance,
+                             solution.surface_pressure, solution.normal_velocity)
+    return update.many(x_new[None])[0]
