@@ -6,6 +6,7 @@ import numpy as np
 import pytest
 
 from bemcheck.mesh.surface import SurfaceMesh
+from bemcheck.mesh.triangles import closest_points
 from bemcheck.solvers.bem import quadrature as quad
 from bemcheck.solvers.bem.integrals import moments
 
@@ -54,7 +55,7 @@ def test_closest_points_agree_with_exhaustive_search():
     for _ in range(30):
         corners = rng.normal(size=(3, 3))
         x = rng.normal(size=3) * 1.5
-        d, bary = quad.closest_points(x[None], *corners[:, None, :])
+        d, bary = closest_points(x[None], *corners[:, None, :])
         samples = lattice @ corners
         brute = np.linalg.norm(samples - x, axis=1).min()
         size = np.linalg.norm(corners[[1, 2, 0]] - corners, axis=1).max()

@@ -26,6 +26,7 @@ import numba
 import numpy as np
 from scipy.sparse import coo_matrix
 
+from bemcheck.mesh.triangles import closest_points, solid_angles
 from bemcheck.settings import NUMERICS
 from bemcheck.solvers.bem import quadrature as quad
 from bemcheck.solvers.bem.kernel import cis
@@ -118,7 +119,7 @@ def _near_pairs(surface, targets):
         tt.append(t)
     ti, tt = np.concatenate(ti), np.concatenate(tt)
     corners = surface.corners(tt)
-    dist, bary = quad.closest_points(targets[ti], corners[:, 0], corners[:, 1], corners[:, 2])
+    dist, bary = closest_points(targets[ti], corners[:, 0], corners[:, 1], corners[:, 2])
     return ti, tt, dist, bary
 
 
@@ -263,31 +264,6 @@ class _Accumulator:
             col = self.column[tri]
             keep = col >= 0
             np.add.at(self.single_p0, (target[keep], col[keep]), gw[keep].sum(axis=1))
-
-
-def solid_angles(points, corners):
-    """Signed solid angles of triangles seen from points, positive on the side the normal points to.
-
-    Van Oosterom & Strackee (1983), The solid angle of a plane triangle,
-    IEEE Trans. Biomed. Eng. 30(2), 125-126.
-
-    Parameters
-    ----------
-    points : (n, 3) ndarray
-    corners : (n, 3, 3) ndarray
-        Counter-clockwise corners, paired row by row with ``points``.
-
-    Returns
-    -------
-    (n,) ndarray
-        [sr]; ∫_T ∂G_0/∂n_y dS_y = Ω/(4π).
-    """
-    r = corners - points[:, None, :]
-    n = np.linalg.norm(r, axis=2)
-    num = np.einsum("ij,ij->i", r[:, 0], np.cross(r[:, 1], r[:, 2]))
-    dot = np.einsum("ikj,ilj->ikl", r, r)
-    den = n.prod(axis=1) + dot[:, 0, 1] * n[:, 2] + dot[:, 0, 2] * n[:, 1] + dot[:, 1, 2] * n[:, 0]
-    return -2.0 * np.arctan2(num, den)
 
 
 @numba.njit(parallel=True, fastmath=True, error_model="numpy")
