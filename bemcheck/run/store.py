@@ -254,18 +254,11 @@ class LockOwner:
 
     @classmethod
     def parse(cls, text):
-        """The owner a lock file's text names, or None if it names none.
-
-        Lock files of earlier versions hold a bare process id.
-        """
-        text = text.strip()
+        """The owner a lock file's text names, or None if it names none."""
         try:
-            if text.isdigit():
-                owner = cls(int(text))
-            else:
-                d = json.loads(text)
-                owner = cls(int(d["pid"]), str(d.get("host") or ""), d.get("started"), d.get("boot"),
-                            str(d.get("command") or "run"), float(d.get("since") or 0.0))
+            d = json.loads(text)
+            owner = cls(int(d["pid"]), str(d.get("host") or ""), d.get("started"), d.get("boot"),
+                        str(d.get("command") or "run"), float(d.get("since") or 0.0))
         except (ValueError, TypeError, KeyError, AttributeError, OverflowError):
             return None
         # a process id is a positive pid_t (POSIX.1-2017 <sys/types.h>: a signed integer, 32 bits on every

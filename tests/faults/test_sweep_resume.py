@@ -9,7 +9,7 @@ import pytest
 import bemcheck
 from bemcheck.case import parse_case
 from bemcheck.run.runner import run_case
-from bemcheck.run.store import LOCK
+from bemcheck.run.store import LOCK, LockOwner
 from tests.support.image_source import image_task
 from tests.verification.test_compare import CASE
 
@@ -87,14 +87,14 @@ def test_numerical_error_comes_from_the_check_solve_at_every_frequency(tmp_path)
 
 
 def test_second_run_into_a_locked_folder_is_refused(tmp_path, capsys):
-    (tmp_path / LOCK).write_text(str(__import__("os").getpid()))
+    (tmp_path / LOCK).write_text(LockOwner.me("run").text())
     c = case()
     with pytest.raises(bemcheck.BemcheckInputError, match="another bemcheck run"):
         run_case(c, tmp_path, solve=functools.partial(image_task, c), bands=BANDS, quiet=True)
 
 
 def test_stale_lock_from_a_killed_run_is_taken_over(tmp_path):
-    (tmp_path / LOCK).write_text("999999999")
+    (tmp_path / LOCK).write_text(LockOwner(999_999_999).text())
     c = case()
     run_case(c, tmp_path, model="free")
     assert not (tmp_path / LOCK).exists()
