@@ -6,7 +6,7 @@ PY := $(VENV)/bin/python
 STAMP := $(VENV)/.installed-stamp
 DEMO_OUT ?= out/demo
 
-.PHONY: demo test test-all bench clean
+.PHONY: demo test test-all check bench clean
 
 $(STAMP): pyproject.toml
 	@$(PYTHON) -c 'import sys; sys.exit(0 if sys.version_info >= (3, 11) else "bemcheck needs Python 3.11 or newer; set PYTHON=python3.11")'
@@ -23,6 +23,11 @@ test: $(STAMP)
 
 test-all: $(STAMP)
 	$(PY) -m pytest -q
+
+# Lint and format check (ruff); `make test` stays what CI runs.
+check: $(STAMP)
+	$(VENV)/bin/ruff check bemcheck geometry tests bench
+	$(VENV)/bin/ruff format --check bemcheck geometry tests bench
 
 bench: $(STAMP)
 	$(PY) bench/run_bench.py

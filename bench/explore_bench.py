@@ -18,7 +18,7 @@ import sys
 import tempfile
 import time
 import tomllib
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from pathlib import Path
 
 HERE = Path(__file__).resolve().parent
@@ -70,7 +70,7 @@ def main():
     parts = re.search(r"solves ([\d.]+) s, error-check solves ([\d.]+) s, choice ([\d.]+) s", explore["stdout"])
     ratio = explore["seconds"] / run["seconds"]
     out = {
-        "when": datetime.now(timezone.utc).isoformat(timespec="seconds"),
+        "when": datetime.now(UTC).isoformat(timespec="seconds"),
         "frequencies": n_f, "candidates": int(kept.group(2)), "candidates_kept": int(kept.group(1)),
         "unknowns": int(n_max.group(1)),
         "run_seconds": run["seconds"], "explore_seconds": explore["seconds"], "ratio": ratio,

@@ -18,7 +18,7 @@ import subprocess
 import sys
 import tempfile
 import time
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from importlib.metadata import version
 from pathlib import Path
 
@@ -72,7 +72,7 @@ def _machine(raw_name, sweep, loads):
     status = subprocess.run(["git", "status", "--porcelain", "--", *solver_paths], cwd=ROOT, capture_output=True, text=True, check=False)
     dirty = sorted(line[3:] for line in status.stdout.splitlines() if line.strip())
     return {
-        "date": datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC"),
+        "date": datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
         "cpu": _cpu_model(),
         "cores": os.cpu_count(),
         "memory_gib": _memory_gib(),

@@ -37,12 +37,12 @@ import argparse
 import math
 from dataclasses import dataclass
 
-from bemcheck.geometry_scripts._sizing import grade, local_size, mean_radius
-from bemcheck.geometry_scripts._standalone import write_msh
-
 import numpy as np
 from scipy.optimize import brentq
 from scipy.spatial import cKDTree
+
+from bemcheck.geometry_scripts._sizing import grade, local_size, mean_radius
+from bemcheck.geometry_scripts._standalone import write_msh
 
 WALL_FRACTION = 0.7
 SPLINE_POINTS = 48
@@ -304,7 +304,7 @@ def build(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.0,
 
     sec = section(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth)
     occ = gmsh.model.occ
-    horn, a = sec.horn, rim_radius
+    a = rim_radius
     cr, cz = sec.rim_centre
     t_out = _rim_angle(sec)
 

@@ -109,7 +109,7 @@ def test_two_concurrent_mesh_commands_one_is_refused(tmp_path, capsys):
     into the same folder is refused with exit 2 and leaves the first's files whole."""
     case, out = _case(tmp_path), tmp_path / "out"
     argv = ["mesh", str(case), "--out", str(out), "--mesh-cache", str(tmp_path / "cache")]
-    for attempt in range(5):
+    for _ in range(5):
         first = subprocess.Popen([sys.executable, "-m", "bemcheck", *argv], stdout=subprocess.PIPE,
                                  stderr=subprocess.PIPE, text=True)
         seen = False

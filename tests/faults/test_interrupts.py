@@ -216,7 +216,7 @@ def test_killed_during_writes_then_resumed(tmp_path):
         attempts += 1
         old = set(_temporaries(out))                        # the rerun removes these when it takes the lock
         proc = _start(case, out, cache)
-        if not _wait_for(lambda: bool(set(_temporaries(out)) - old), proc, poll=0.0002):
+        if not _wait_for(lambda old=old: bool(set(_temporaries(out)) - old), proc, poll=0.0002):
             assert _finish(proc)[0] == 0                    # the run ended between two polls
             continue
         proc.kill()

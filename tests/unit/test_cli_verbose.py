@@ -134,7 +134,7 @@ def test_verbose_box_mesh_figures_follow_from_the_mesh(box_runs):
     meshes = re.findall(r"^    mesh: (\d+) elements, (\d+) unknowns, largest edge ([\d.]+) mm, ([\d.]+) elements per wavelength", err, re.M)
     solves = re.findall(r"^\[\d/6\] (solve|error check) +([\d.]+) Hz", err, re.M)
     assert len(meshes) == len(solves) == 6
-    for (kind, f), (elements, unknowns, edge_mm, epw) in zip(solves, meshes):
+    for (_, f), (elements, unknowns, edge_mm, epw) in zip(solves, meshes):
         elements, unknowns = int(elements), int(unknowns)
         assert unknowns == elements // 2 + 2, "a closed genus-0 surface has F/2 + 2 vertices"
         # both figures are printed rounded (0.1 and 0.1 mm): half a unit of each
