@@ -36,22 +36,10 @@ BOX_CASE = (
 STORED = re.compile(r"^    (stored|stored earlier): (\S+)$", re.M)
 
 
-def _write(tmp_path, text, name):
-    case = tmp_path / name
-    case.write_text(text)
-    return case
-
-
-def _run(argv, capsys):
-    code = main(argv)
-    captured = capsys.readouterr()
-    return code, captured.out, captured.err
-
-
-def test_verbose_names_every_task_and_where_it_went(tmp_path, capsys):
-    case, out = _write(tmp_path, FREE_CASE, "free.toml"), tmp_path / "out"
+def test_verbose_names_every_task_and_where_it_went(tmp_path, cli, case_file):
+    case, out = case_file(FREE_CASE, "free.toml"), tmp_path / "out"
     argv = ["run", str(case), "--out", str(out), "--model", "both", "--no-report", "--verbose"]
-    code, stdout, err = _run(argv, capsys)
+    code, stdout, err = cli(*argv)
     assert code == 0, err
     assert "Verdict:" in stdout and "    stored" not in stdout      # details go with the progress, not the results
     files = sorted((out / PARTS).glob("*.npz"))
@@ -67,27 +55,27 @@ def test_verbose_names_every_task_and_where_it_went(tmp_path, capsys):
     blocks = re.split(r"^\[\d/3\] ", err, flags=re.M)[1:]
     assert len(blocks) == 3 and all("    stored: " in b for b in blocks)
 
-    code, _, err = _run(argv, capsys)                               # the same command again: all stored
+    code, _, err = cli(*argv)                               # the same command again: all stored
     assert code == 0, err
     assert [kind for kind, _ in STORED.findall(err)] == ["stored earlier"] * 3
     assert err.count("(stored)") == 3
 
 
-def test_quiet_and_plain_runs_print_no_details(tmp_path, capsys):
-    case = _write(tmp_path, FREE_CASE, "free.toml")
+def test_quiet_and_plain_runs_print_no_details(tmp_path, cli, case_file):
+    case = case_file(FREE_CASE, "free.toml")
     base = ["run", str(case), "--model", "both", "--no-report"]
-    code, _, err = _run(base + ["--out", str(tmp_path / "q"), "--quiet"], capsys)
+    code, _, err = cli(*base + ["--out", str(tmp_path / "q"), "--quiet"])
     assert code == 0 and err == ""
-    code, _, err = _run(base + ["--out", str(tmp_path / "p")], capsys)
+    code, _, err = cli(*base + ["--out", str(tmp_path / "p")])
     assert code == 0
     assert err.count("[") == 3 and "    stored" not in err and "mesh cache" not in err and "numerical error" not in err
     assert main(base + ["--out", str(tmp_path / "both"), "--quiet", "--verbose"]) == 2    # one or the other
 
 
-def test_verbose_leaves_logging_as_it_found_it(tmp_path, capsys):
+def test_verbose_leaves_logging_as_it_found_it(tmp_path, capsys, case_file):
     logger = logging.getLogger("bemcheck")
     handlers, level = list(logger.handlers), logger.level
-    case = _write(tmp_path, FREE_CASE, "free.toml")
+    case = case_file(FREE_CASE, "free.toml")
     assert main(["run", str(case), "--out", str(tmp_path / "o"), "--model", "both", "--no-report", "--verbose"]) == 0
     assert logger.handlers == handlers and logger.level == level
     capsys.readouterr()
@@ -96,9 +84,9 @@ def test_verbose_leaves_logging_as_it_found_it(tmp_path, capsys):
     assert "    stored" not in capsys.readouterr().err
 
 
-def test_verbose_free_model_says_there_is_no_bem(tmp_path, capsys):
-    case = _write(tmp_path, FREE_CASE, "free.toml")
-    code, _, err = _run(["run", str(case), "--out", str(tmp_path / "o"), "--model", "free", "--no-report", "--verbose"], capsys)
+def test_verbose_free_model_says_there_is_no_bem(tmp_path, cli, case_file):
+    case = case_file(FREE_CASE, "free.toml")
+    code, _, err = cli("run", case, "--out", tmp_path / "o", "--model", "free", "--no-report", "--verbose")
     assert code == 0 and "free-field model only: no BEM tasks" in err
 
 
@@ -106,7 +94,8 @@ def test_verbose_free_model_says_there_is_no_bem(tmp_path, capsys):
 def box_runs(tmp_path_factory):
     """Two verbose runs of the box case sharing one mesh cache: the first meshes, the second finds the meshes."""
     root = tmp_path_factory.mktemp("verbose-box")
-    case = _write(root, BOX_CASE, "box.toml")
+    case = root / "box.toml"
+    case.write_text(BOX_CASE)
     runs = []
     for name in ("first", "second"):
         capture = _Capture()
