@@ -220,6 +220,68 @@ class Sphere(Shape):
 
 @register
 @dataclass(frozen=True)
+class Player(Shape):
+    """A player standing: a spherical head on a cylindrical neck on a cylindrical torso.
+
+    Body frame: the torso's base (the waist) at the origin, +z up the torso's
+    axis, the player facing +x, the ears at ±y on the head's equator
+    (:meth:`ears`).  The defaults are rounded adult values, from memory: a
+    head radius of 8.75 cm, close to the 8.7 cm sphere that best fits an
+    average head in spherical-head models (Algazi, Avendano & Duda 2001,
+    "Estimation of a spherical-head model from anthropometry", J. Audio Eng.
+    Soc. 49(6), 472-479), a neck of 11 cm diameter, and a torso of 32 cm
+    diameter and 55 cm from waist to shoulders.  A model of a real player
+    should take that player's measures.
+    """
+
+    KIND: ClassVar[str] = "player"
+    SCRIPT: ClassVar[str] = "player"
+
+    head_radius: float = 0.0875
+    neck_radius: float = 0.055
+    neck_length: float = 0.06
+    torso_radius: float = 0.16
+    torso_height: float = 0.55
+
+    @classmethod
+    def read(cls, r, case_dir):
+        values = {key: r.number(key, getattr(cls, key), positive=True, within=SIZE)
+                  for key in ("head_radius", "neck_radius", "neck_length", "torso_radius", "torso_height")}
+        shape = cls(**values)
+        if shape.neck_radius >= min(shape.head_radius, shape.torso_radius):
+            r.fail("neck_radius", f"less than head_radius ({shape.head_radius:g} m) and torso_radius "
+                   f"({shape.torso_radius:g} m)", shape.neck_radius)
+        return shape
+
+    def script_args(self):
+        return (self.head_radius, self.neck_radius, self.neck_length, self.torso_radius, self.torso_height)
+
+    @property
+    def head_height(self):
+        """Height of the head's centre above the waist [m]; the neck meets the head at its own radius."""
+        return self.torso_height + self.neck_length + math.sqrt(self.head_radius**2 - self.neck_radius**2)
+
+    def ears(self, standoff=STANDOFF):
+        """Left and right ear positions [m], body frame: ``standoff`` outside the head at ±y.
+
+        Examples
+        --------
+        >>> [round(v, 4) for v in Player().ears()[0]]
+        [0.0, 0.1075, 0.6781]
+        """
+        y = self.head_radius + standoff
+        return ((0.0, y, self.head_height), (0.0, -y, self.head_height))
+
+    def bounding_radius(self):
+        return math.hypot(self.torso_radius, self.head_height + self.head_radius)
+
+    def area_lower_bound(self):
+        """The torso's cylinder alone (the head and neck only add to it)."""
+        return 2.0 * math.pi * self.torso_radius * (self.torso_height + self.torso_radius) - math.pi * self.neck_radius**2
+
+
+@register
+@dataclass(frozen=True)
 class MeshFile(Shape):
     """A closed surface mesh brought from CAD; ``scale`` turns file units into metres."""
 
