@@ -106,7 +106,7 @@ def parse_case(text, path=Path("<case>")):
     sources = tuple(_source(r, by_name) for r in top.subs("source", min_length=1))
     _unique([s.name for s in sources], "source", file)
     _check_sources(sources, file)
-    observers = _observers(top.sub("observers", None))
+    observers = _observers(top.sub("observers", None), by_name)
     control = _control(top.sub("control", None), sources, file)
     control.check_observers(observers.far_field, file)
     tolerance = _tolerance(top.sub("tolerance", None))
@@ -267,7 +267,7 @@ def _check_sources(sources, file):
         raise CaseError(f"{file}: source: expected at least one source with role = \"primary\"")
 
 
-def _observers(r):
+def _observers(r, bodies):
     if r is None:
         return Observers()
     ff = r.sub("far_field", None)
@@ -292,11 +292,28 @@ def _observers(r):
             _check_lebedev(ff, far.degree)
     points = []
     for p in r.subs("points"):
-        points.append(ObserverPoint(p.string("name"), p.vector("at", within=COORDINATE)))
+        points.append(ObserverPoint(p.string("name"), _observer_at(p, bodies)))
         p.done()
     _unique([p.name for p in points], "observers.points", r.file)
     r.done()
     return Observers(far_field=far, points=tuple(points))
+
+
+def _observer_at(p, bodies):
+    """An observer point's position: ``at`` [m], or ``ear = "<body>.left"`` / ``"<body>.right"`` of a player."""
+    if not p.has("ear"):
+        return p.vector("at", within=COORDINATE)
+    ear = p.string("ear")
+    if p.has("at"):
+        p.fail("at", "either `at` or `ear`, not both")
+    players = [n for n, b in bodies.items() if hasattr(b.shape, "ears")]
+    body, _, side = ear.partition(".")
+    if body not in players or side not in ("left", "right"):
+        p.fail("ear", "'<player>.left' or '<player>.right' naming a body of kind player ("
+               + (", ".join(players) or "the case has none") + ")", ear)
+    b = bodies[body]
+    local = b.shape.ears()[0 if side == "left" else 1]
+    return tuple(float(v) for v in place([local], b.at, b.axis)[0])
 
 
 def _check_lebedev(reader, degree):
