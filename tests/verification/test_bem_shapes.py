@@ -12,7 +12,10 @@ from functools import cache
 
 import numpy as np
 
-from bemcheck.case.model import Medium
+from bemcheck.case.model import Body, Medium
+from bemcheck.case.shapes import Player
+from bemcheck.mesh.bodies import mesh_body
+from bemcheck.mesh.surface import SurfaceMesh
 from bemcheck.solvers import freefield
 from bemcheck.solvers.bem.quadrature import rule
 from bemcheck.solvers.bem.solve import solve_frequency
@@ -116,3 +119,16 @@ def test_cube_converges_under_refinement():
     coarse = errors(voxel_body([[[True]]], CUBE, n=6, origin=(-CUBE / 2,) * 3), CUBE_SOURCE, 900.0, CUBE_POINTS)
     fine = errors(voxel_body([[[True]]], CUBE, n=12, origin=(-CUBE / 2,) * 3), CUBE_SOURCE, 900.0, CUBE_POINTS)
     assert fine[0] < coarse[0] / 3
+
+
+def test_player_gives_the_monopole_field(tmp_path):
+    """The player body (a head on a neck on a torso, gmsh with its curvature sizing) at 500 Hz, a monopole
+    in the torso: far field and points (in front of the face, beside an ear, away) within 0.3 dB and 2°."""
+    shape = Player()
+    body = mesh_body(Body("me", shape), 343.0 / 500.0 / 6.0, tmp_path)
+    mesh = SurfaceMesh(body.vertices, body.triangles, np.ones(len(body.triangles), int))
+    z = shape.head_height
+    points = np.array([[0.2, 0.0, z], [0.0, shape.head_radius + 0.03, z], [1.0, 1.0, 1.0]])
+    level, phase, epw = errors(mesh, np.array([0.03, -0.02, 0.3]), 500.0, points)
+    assert epw >= 6
+    assert level < 0.3 and phase < 2.0
