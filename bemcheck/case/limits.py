@@ -56,6 +56,10 @@ FLARE = Range(1.0e-2, 20.0, "", "a flare exponent")
 # How far a built control may stray from its design: beyond metres it is another layout.
 PLACEMENT = Range(0.0, 10.0, "m", "a placement tolerance")
 SCALE = Range(1.0e-6, 1.0e3, "m per file unit", "a scale")
+# Amplifier channels run from headphone outputs (about 1 V, 0.1 A) to large power
+# amplifiers (about 200 V, 50 A); from memory.  Far wider either side.
+VOLTAGE_RMS = Range(1.0e-3, 1.0e4, "V", "an RMS voltage")
+CURRENT_RMS = Range(1.0e-4, 1.0e3, "A", "an RMS current")
 # An axis is a direction: its length does not matter, but one that squares to
 # zero or to infinity cannot be normalised.
 DIRECTION = Range(1.0e-9, 1.0e9, "", "a direction [x, y, z] with its largest component (in magnitude)")

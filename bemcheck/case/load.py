@@ -8,6 +8,7 @@ from pathlib import Path
 import numpy as np
 
 from bemcheck.case import limits
+from bemcheck.case.amplifiers import read_amplifiers
 from bemcheck.case.drivers import Driver, check_driver
 from bemcheck.case.explore import read_explore
 from bemcheck.case.limits import COINCIDENT, COORDINATE, DIRECTION, FREQUENCY
@@ -113,6 +114,7 @@ def parse_case(text, path=Path("<case>")):
     drivers = tuple(_driver(r) for r in top.subs("driver"))
     _unique([d.name for d in drivers], "driver", file)
     _check_driver_refs(sources, drivers, file)
+    amplifiers = read_amplifiers(top.subs("amplifier"), sources, file)
     first = next(s for s in sources if s.role == "primary")
     played = tuple(_measured_at(_note(r), first, by_name) for r in top.subs("note"))
     _unique([n.name for n in played], "note", file)
@@ -131,6 +133,7 @@ def parse_case(text, path=Path("<case>")):
         control=control,
         tolerance=tolerance,
         drivers=drivers,
+        amplifiers=amplifiers,
         played=played,
         build=build,
         explore=explore,

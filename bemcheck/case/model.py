@@ -192,6 +192,7 @@ class Case:
     control: Objective = field(default_factory=MinimumPower)
     tolerance: Tolerance = field(default_factory=Tolerance)
     drivers: tuple = ()
+    amplifiers: tuple = ()
     played: tuple[Spectrum, ...] = ()
     build: BuildChecks = field(default_factory=BuildChecks)
     explore: ExploreSpec | None = None

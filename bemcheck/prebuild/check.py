@@ -18,7 +18,9 @@ from bemcheck.prebuild.channels import channel_items, channel_study, channel_sum
 from bemcheck.prebuild.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
 from bemcheck.prebuild.ears import MODEL_BEM, MODEL_FREE, PointPressures, ear_items, ear_summary, point_variables
 from bemcheck.prebuild.note_levels import note_lines, note_strengths, note_variables, primary_weights
-from bemcheck.prebuild.notes import DESIGNED, REOPTIMISED, Demand, check_drivers, drive_variables
+from bemcheck.prebuild.notes import check_drivers, control_demands, drive_variables
+from bemcheck.prebuild.catalogue import catalogue_lines, catalogue_summary, catalogue_variables, rank_catalogue
+from bemcheck.case.amplifiers import amplifier_of
 from bemcheck.prebuild.placement import PERCENTILES, placement_study
 from bemcheck.prebuild.safety import ear_levels
 from bemcheck.solvers.control.optimal import attenuation_db
@@ -126,7 +128,9 @@ def before_build(case, free_at, bem_at=None, surface_at=None):
         p_with[i] = world.points @ q_designed[i]
         att_designed[i] = attenuation_db(world.power(only), world.power(q_designed[i]))
 
-    check = _driver_check(case, plan, q_designed, q_reopt, controls)
+    demands = control_demands(plan, q_designed, q_reopt, case.sources, controls)
+    check = _driver_check(case, demands)
+    ranked = rank_catalogue(case, demands)
     points = PointPressures(p_without, p_controls, p_with, tuple(MODEL_BEM if s else MODEL_FREE for s in scattered))
     ears = _ears(case, plan, points, check)
     placement = placement_study(case, plan, q_designed, surface_at)
@@ -137,29 +141,26 @@ def before_build(case, free_at, bem_at=None, surface_at=None):
         drive_variables(ds, check, plan)
     if channels:
         channel_variables(ds, channels)
+    if ranked:
+        catalogue_variables(ds, ranked)
     by_harmonic = [s for n in case.all_notes for s in strengths[n.name]]
     note_variables(ds, by_harmonic)
     summary, lines = _go_no_go(case, check, ears, placement, scattered, bem_at is not None, channels)
     summary["note_levels"] = [s.as_dict() for s in by_harmonic]
     summary["channel_errors"] = channel_summary(case, channels)
-    lines += note_lines(by_harmonic, case.all_notes)
+    summary["driver_catalogue"] = catalogue_summary(ranked)
+    lines += note_lines(by_harmonic, case.all_notes) + catalogue_lines(ranked, case)
     return BuildReport(ds, summary, tuple(lines))
 
 
-def _driver_check(case, plan, q_designed, q_reopt, controls):
+def _driver_check(case, demands):
     drivers = {d.name: d for d in case.drivers}
-    driver_of = {case.sources[c].name: case.sources[c].driver for c in controls if case.sources[c].driver}
-    demands = []
-    for c in controls:
-        name = case.sources[c].name
-        if name not in driver_of:
-            continue
-        for i, (note, h, f) in enumerate(plan):
-            demands.append(Demand(name, note, h, f, q_designed[i, c], DESIGNED))
-            demands.append(Demand(name, note, h, f, q_reopt[i, c], REOPTIMISED))
-    if not demands:
+    driver_of = {s.name: s.driver for s in case.controls if s.driver}
+    asked = [d for name, rows in demands.items() if name in driver_of for d in rows]
+    if not asked:
         return None
-    return check_drivers(drivers, driver_of, demands, case.medium, where=f"{case.path}: ")
+    return check_drivers(drivers, driver_of, asked, case.medium, where=f"{case.path}: ",
+                         amplifier_of=amplifier_of(case.amplifiers))
 
 
 def _ears(case, plan, points, check):
@@ -322,9 +323,11 @@ def _go_no_go(case, check, ears, placement, scattered, bem_ran, channels=()):
         first = check.first_failure
         if first is None:
             worst = check.worst
-            item(True, f"loudspeakers deliver every harmonic, designed and re-optimised; smallest margin {worst.margin_db:+.1f} dB ({worst.source}, {worst.note} h{worst.harmonic}, {worst.demand}, {worst.limit})")
+            what = "loudspeakers and amplifiers" if any(r.amplifier for r in check.rows) else "loudspeakers"
+            item(True, f"{what} deliver every harmonic, designed and re-optimised; smallest margin {worst.margin_db:+.1f} dB ({worst.source}, {worst.note} h{worst.harmonic}, {worst.demand}, {worst.limit})")
         else:
-            item(False, f"{first.source} ({first.driver}) fails first at {first.note} harmonic {first.harmonic} ({first.frequency_hz:.0f} Hz, {first.demand} demand): {first.limit} margin {first.margin_db:+.1f} dB")
+            on = f" on {first.amplifier}" if first.amplifier else ""
+            item(False, f"{first.source} ({first.driver}{on}) fails first at {first.note} harmonic {first.harmonic} ({first.frequency_hz:.0f} Hz, {first.demand} demand): {first.limit} margin {first.margin_db:+.1f} dB")
     ear_items(ears, item, lines)
     if placement:
         _placement_items(placement, item, lines)
@@ -337,7 +340,7 @@ def _go_no_go(case, check, ears, placement, scattered, bem_ran, channels=()):
     summary = {
         "go": all(i["go"] for i in items),
         "items": items,
-        "drives": [r.__dict__ for r in check.rows] if check else [],
+        "drives": [r.as_dict() for r in check.rows] if check else [],
         "ears": ear_summary(ears),
         "placement": free_rows,
         "placement_scattered": scattered_placement,

@@ -15,6 +15,14 @@ import numpy as np
 
 from bemcheck.case.model import Medium
 from bemcheck.errors import CaseError
+from bemcheck.prebuild.amplifiers import (
+    AMPLIFIER_CURRENT,
+    AMPLIFIER_VOLTAGE,
+    EXCURSION,
+    RATED_POWER,
+    amplifier_margins,
+    first_limit,
+)
 from bemcheck.prebuild.drivers import drive_for
 from bemcheck.solvers.freefield import volume_velocity_from_spl
 
@@ -68,6 +76,42 @@ class Demand:
     demand: str = DESIGNED
 
 
+def control_demands(plan, q_designed, q_reopt, sources, controls):
+    """Every control's demands, designed and re-optimised, per harmonic of every note.
+
+    Parameters
+    ----------
+    plan : sequence of (note, harmonic number, frequency [Hz])
+        One entry per row of the strength arrays.
+    q_designed, q_reopt : (H, S) ndarray of complex
+        Volume velocities [m³/s, peak] of every source, as designed (free
+        field) and re-optimised (with scattering).
+    sources : sequence of Source
+    controls : sequence of int
+        Indices of the control sources.
+
+    Returns
+    -------
+    dict of str to list of Demand
+        By control name, in note-then-harmonic order, designed before re-optimised.
+
+    Examples
+    --------
+    >>> from bemcheck.case.model import Source
+    >>> src = (Source("p", "primary", (0, 0, 0)), Source("c", "control", (1, 0, 0)))
+    >>> q = np.array([[1e-3, -5e-4]])
+    >>> [d.demand for d in control_demands([("A", 1, 110.0)], q, 2 * q, src, [1])["c"]]
+    ['designed', 'reoptimised']
+    """
+    out = {}
+    for c in controls:
+        name = sources[c].name
+        out[name] = [Demand(name, note, h, f, q[i, c], kind)
+                     for i, (note, h, f) in enumerate(plan)
+                     for q, kind in ((q_designed, DESIGNED), (q_reopt, REOPTIMISED))]
+    return out
+
+
 @dataclass(frozen=True)
 class DriveRow:
     """One demand checked against its driver, units in the names; margins in dB, negative means over the limit.
@@ -75,7 +119,8 @@ class DriveRow:
     ``electrical_power_w`` is the real power the amplifier delivers, ½ Re(V I*);
     ``nominal_power_w`` is V_rms²/Re, the quantity a driver's rating limits;
     ``demand`` says whether the volume velocity is the free-field design's
-    or the one re-optimised with scattering.
+    or the one re-optimised with scattering.  ``amplifier`` names the
+    amplifier feeding the control ("" for none; its margins are then None).
     """
 
     source: str
@@ -92,16 +137,33 @@ class DriveRow:
     nominal_power_w: float
     excursion_margin_db: float
     power_margin_db: float
+    amplifier: str = ""
+    amplifier_voltage_margin_db: float | None = None
+    amplifier_current_margin_db: float | None = None
+
+    @property
+    def margins_db(self):
+        """Margin [dB] by limit name, for the limits checked."""
+        margins = {EXCURSION: self.excursion_margin_db, RATED_POWER: self.power_margin_db}
+        if self.amplifier:
+            margins[AMPLIFIER_VOLTAGE] = self.amplifier_voltage_margin_db
+            margins[AMPLIFIER_CURRENT] = self.amplifier_current_margin_db
+        return margins
 
     @property
     def margin_db(self):
-        """The smaller of the two margins [dB]."""
-        return min(self.excursion_margin_db, self.power_margin_db)
+        """The smallest margin [dB]: how far the level may rise before the first limit."""
+        return first_limit(self.margins_db)[1]
 
     @property
     def limit(self):
-        """``"excursion"`` or ``"power"``: the limit this row is closest to."""
-        return "excursion" if self.excursion_margin_db <= self.power_margin_db else "power"
+        """The limit a rising drive meets first: ``"excursion"``, ``"rated power"``,
+        ``"amplifier voltage"`` or ``"amplifier current"``."""
+        return first_limit(self.margins_db)[0]
+
+    def as_dict(self):
+        """The row for summary.json, with ``first_limit`` and ``margin_db`` [dB] added."""
+        return {**self.__dict__, "first_limit": self.limit, "margin_db": self.margin_db}
 
     @property
     def fails(self):
@@ -131,7 +193,7 @@ class DriverCheck:
         return min(self.rows, key=lambda r: r.margin_db, default=None)
 
 
-def check_drivers(drivers, driver_of, demands, medium=Medium(), *, where=""):
+def check_drivers(drivers, driver_of, demands, medium=Medium(), *, where="", amplifier_of=None):
     """Check every demand against the loudspeaker of its control source.
 
     Parameters
@@ -146,6 +208,9 @@ def check_drivers(drivers, driver_of, demands, medium=Medium(), *, where=""):
     medium : Medium
     where : str
         Prefix for error messages, e.g. ``"demo.toml: "``.
+    amplifier_of : Mapping[str, Amplifier], optional
+        The amplifier feeding each control source, by source name; controls
+        left out are checked against their loudspeaker alone.
 
     Returns
     -------
@@ -166,6 +231,7 @@ def check_drivers(drivers, driver_of, demands, medium=Medium(), *, where=""):
     (1, 'excursion')
     """
     rows = []
+    amplifier_of = amplifier_of or {}
     for demand in demands:
         name = driver_of.get(demand.source)
         if name is None:
@@ -174,6 +240,8 @@ def check_drivers(drivers, driver_of, demands, medium=Medium(), *, where=""):
             known = ", ".join(sorted(drivers)) or "none"
             raise CaseError(f"{where}source `{demand.source}`.driver: no driver called {name!r} (defined: {known})")
         d = drive_for(drivers[name], demand.frequency, demand.volume_velocity, medium)
+        amp = amplifier_of.get(demand.source)
+        v_margin, i_margin = amplifier_margins(amp, d.voltage, d.current) if amp else (None, None)
         rows.append(
             DriveRow(
                 source=demand.source, driver=name, note=demand.note, harmonic=demand.harmonic,
@@ -184,6 +252,9 @@ def check_drivers(drivers, driver_of, demands, medium=Medium(), *, where=""):
                 electrical_power_w=float(0.5 * np.real(d.voltage * np.conj(d.current))),
                 nominal_power_w=float(d.nominal_power),
                 excursion_margin_db=float(d.excursion_margin_db), power_margin_db=float(d.power_margin_db),
+                amplifier=amp.name if amp else "",
+                amplifier_voltage_margin_db=None if amp is None else float(v_margin),
+                amplifier_current_margin_db=None if amp is None else float(i_margin),
             )
         )
     return DriverCheck(tuple(rows))
@@ -199,6 +270,8 @@ DRIVE_FIGURES = (
     ("nominal_power_w", "W", "V_rms^2/Re, the quantity the rating limits"),
     ("excursion_margin_db", "dB", "margin to xmax (negative: over)"),
     ("power_margin_db", "dB", "margin to the rated power (negative: over)"),
+    ("amplifier_voltage_margin_db", "dB", "margin to the amplifier channel's rated RMS voltage (negative: over)"),
+    ("amplifier_current_margin_db", "dB", "margin to the amplifier channel's rated RMS current (negative: over)"),
 )
 
 
@@ -206,19 +279,26 @@ def drive_variables(ds, check, plan):
     """Add ``drive_<figure>`` (harmonic, source, demand) to ``ds`` in place, from a DriverCheck.
 
     ``plan`` is the (note, harmonic number, frequency) of each harmonic index;
-    sources without a driver hold 0 and ``drive_checked`` false for them.
+    sources without a driver hold 0 and ``drive_checked`` false for them; the
+    amplifier margins of a control fed by no amplifier hold 0 and
+    ``drive_amplifier_checked`` is false for it.
     """
     index = {(note, h): i for i, (note, h, _) in enumerate(plan)}
     sources = list(ds["source"].values)
     demands = [DESIGNED, REOPTIMISED]
     ds.coords["demand"] = ("demand", demands)
     checked = np.zeros(len(sources), bool)
+    amplified = np.zeros(len(sources), bool)
     values = {name: np.zeros((len(plan), len(sources), 2)) for name, _, _ in DRIVE_FIGURES}
     for r in check.rows:
         i, j, k = index[(r.note, r.harmonic)], sources.index(r.source), demands.index(r.demand)
         checked[j] = True
+        amplified[j] = bool(r.amplifier)
         for name, _, _ in DRIVE_FIGURES:
-            values[name][i, j, k] = getattr(r, name)
+            value = getattr(r, name)
+            values[name][i, j, k] = 0.0 if value is None else value
     for name, units, what in DRIVE_FIGURES:
         ds[f"drive_{name}"] = (("harmonic", "source", "demand"), values[name], {"units": units, "long_name": what})
     ds["drive_checked"] = ("source", checked, {"long_name": "true for the controls whose loudspeaker was checked"})
+    ds["drive_amplifier_checked"] = ("source", amplified,
+                                     {"long_name": "true for the controls fed by an [[amplifier]] (its margins are checked)"})

@@ -67,7 +67,7 @@ def test_undersized_driver_fails_at_the_fundamental():
 def test_driver_with_travel_but_little_power_fails_on_power():
     weak = dataclasses.replace(DEMO, name="weak", xmax=20e-3, rated_power=2.0)
     check = check_drivers({"weak": weak}, {"c1": "weak"}, demands()[0], AIR)
-    assert (check.first_failure.harmonic, check.first_failure.limit) == (1, "power")
+    assert (check.first_failure.harmonic, check.first_failure.limit) == (1, "rated power")
     assert all(r.excursion_margin_db > 0 for r in check.rows)
 
 
