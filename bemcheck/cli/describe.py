@@ -4,6 +4,7 @@ import dataclasses
 import tomllib
 
 from bemcheck.mesh import plan_bands
+from bemcheck.prebuild.catalogue import catalogue_drivers
 
 _DRIVER_UNITS = (("re", "Ω"), ("bl", "T·m"), ("mms", "kg"), ("cms", "m/N"), ("rms", "kg/s"), ("sd", "m²"),
                  ("xmax", "m"), ("vb", "m³"), ("rated_power", "W"), ("le", "H"))
@@ -73,6 +74,13 @@ def _build_lines(case):
     for d in case.drivers:
         params = ", ".join(f"{k} {getattr(d, k):g} {u}" for k, u in _DRIVER_UNITS)
         lines.append(_row("driver", f"{d.name}: {params}"))
+    for a in case.amplifiers:
+        lines.append(_row("amplifier", f"{a.name}: {a.rated_voltage_rms:g} V, {a.rated_current_rms:g} A RMS per "
+                                       f"channel; feeds {', '.join(a.controls)}"))
+    spare = catalogue_drivers(case)
+    if spare:
+        lines.append(_row("catalogue", f"{', '.join(d.name for d in spare)}: named by no control; a run with notes "
+                                       "ranks them at every control position"))
     for n in case.all_notes:
         harmonics = ", ".join(f"{f:.4g} Hz at {spl:g} dB" for f, spl in zip(n.harmonics, n.spl_at_1m))
         lines.append(_row("note", f"{n.name or '(unnamed)'}: fundamental {n.fundamental:g} Hz; SPL at 1 m per "

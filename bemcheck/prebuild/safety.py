@@ -162,7 +162,7 @@ def ear_levels(points, frequencies, pressure_without, pressure_with, *,
     drive_rows : iterable of DriveRow
         Control drives to check against their ratings (from
         :func:`bemcheck.prebuild.notes.check_drivers`); any with a negative power
-        margin adds a caution.
+        or amplifier margin adds a caution.
     note : str
         Label of the note, used in caution texts.
     pressure_controls : (P, H) array_like of complex, optional
@@ -221,6 +221,17 @@ def ear_levels(points, frequencies, pressure_without, pressure_with, *,
                 f"{-row.power_margin_db:.1f} dB over the driver's rating. Over-driving can "
                 "overheat or damage the loudspeaker; use a larger driver or a lower level, "
                 "and follow the maker's data and local electrical codes."
+            )
+        over = [(n, -m) for n, m in (("voltage", row.amplifier_voltage_margin_db),
+                                     ("current", row.amplifier_current_margin_db)) if m is not None and m < 0.0]
+        if over:
+            by = " and ".join(f"{m:.1f} dB over the channel's rated {n}" for n, m in over)
+            cautions.append(
+                f"{row.source} on {row.amplifier}, {row.note} harmonic {row.harmonic} at {row.frequency_hz:.1f} Hz "
+                f"({row.demand}): needs {by}. A clipping or current-limited channel "
+                "adds harmonics the control did not ask for, can raise the level at the ears and overheat the "
+                "loudspeaker; use a larger amplifier or a lower level, and follow the maker's data and local "
+                "electrical codes."
             )
     return EarLevels(
         points=names, frequencies=f, spl_without=spl_without, spl_with=spl_with,

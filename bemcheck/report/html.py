@@ -14,6 +14,7 @@ from pathlib import Path
 from bemcheck.compare import verdict_lines
 from bemcheck.errors import BemcheckInputError
 from bemcheck.report import tables
+from bemcheck.report.catalogue import catalogue_sections
 from bemcheck.report.figures import make_figures
 from bemcheck.report.signals import case_of, has_bem
 from bemcheck.results.files import SUMMARY_FILE, atomic_write_bytes, load_results
@@ -375,7 +376,8 @@ def write_report(folder, ds, summary, mesh=None, extra_sections=(), case=None):
     build_figures = {n: p for n, p in figures.items() if n in BUILD_FIGURES}
     figures = {n: p for n, p in figures.items() if n not in BUILD_FIGURES}
     page = render_report(ds, summary, figures, mesh=mesh, extra_sections=extra, case_note=note,
-                         build_sections=tables.before_build_sections(summary), build_figures=build_figures)
+                         build_sections=tables.before_build_sections(summary) + catalogue_sections(summary),
+                         build_figures=build_figures)
     path = folder / REPORT_FILE
     atomic_write_bytes(path, page.encode("utf-8"))
     return path

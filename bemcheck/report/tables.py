@@ -246,7 +246,9 @@ def _cell(value):
 DRIVE_TITLE = "Control loudspeakers per note and harmonic"
 DRIVE_NOTE = ("designed: the free-field design's volume velocity; re-opt.: re-optimised with scattering. Volume "
               "velocity and excursion are peak values, voltage and current RMS; P is the real electrical power "
-              "½ Re(V I*); margins are to xmax and to the rated power (V_rms²/Re), negative means over.")
+              "½ Re(V I*); margins are to xmax, to the rated power (V_rms²/Re) and to the amplifier channel's rated "
+              "RMS voltage / current, negative means over. Every margin is in dB of drive level: the first limit is "
+              "the one a rising level meets first.")
 
 
 def drive_rows(drives):
@@ -256,18 +258,24 @@ def drive_rows(drives):
     --------
     >>> r = {"source": "c1", "driver": "d", "note": "A", "harmonic": 2, "frequency_hz": 220.0, "demand": "designed",
     ...      "volume_velocity_peak_m3s": 1e-3, "voltage_rms_v": 2.5, "current_rms_a": 0.4, "excursion_peak_m": 1.2e-3,
-    ...      "electrical_power_w": 0.8, "excursion_margin_db": 12.4, "power_margin_db": -1.0}
+    ...      "electrical_power_w": 0.8, "excursion_margin_db": 12.4, "power_margin_db": -1.0, "amplifier": "a",
+    ...      "amplifier_voltage_margin_db": 3.0, "amplifier_current_margin_db": 9.5, "first_limit": "rated power"}
     >>> drive_rows([r])[1]
-    ('c1 (d)', 'A h2', '220 Hz', 'designed', '0.001', '2.5', '0.4', '1.2', '0.8', '+12.4', '-1.0')
+    ('c1 (d, a)', 'A h2', '220 Hz', 'designed', '0.001', '2.5', '0.4', '1.2', '0.8', '+12.4', '-1.0', '+3.0 / +9.5', 'rated power')
     """
-    header = ("control (driver)", "note", "frequency", "demand", "volume velocity [m³/s]", "voltage [V]",
-              "current [A]", "excursion [mm]", "P [W]", "xmax margin [dB]", "power margin [dB]")
+    header = ("control (driver, amplifier)", "note", "frequency", "demand", "volume velocity [m³/s]", "voltage [V]",
+              "current [A]", "excursion [mm]", "P [W]", "xmax margin [dB]", "power margin [dB]",
+              "amplifier V / I margin [dB]", "first limit")
     rows = [header]
     for r in drives:
-        rows.append((f"{r['source']} ({r['driver']})", f"{r['note']} h{r['harmonic']}", hz(r["frequency_hz"]),
-                     "designed" if r["demand"] == "designed" else "re-opt.", _cell(r["volume_velocity_peak_m3s"]),
-                     f"{r['voltage_rms_v']:.3g}", f"{r['current_rms_a']:.3g}", f"{r['excursion_peak_m'] * 1e3:.3g}",
-                     f"{r['electrical_power_w']:.3g}", f"{r['excursion_margin_db']:+.1f}", f"{r['power_margin_db']:+.1f}"))
+        amp = r.get("amplifier", "")
+        amp_margins = f"{r['amplifier_voltage_margin_db']:+.1f} / {r['amplifier_current_margin_db']:+.1f}" if amp else "none"
+        rows.append((f"{r['source']} ({r['driver']}{', ' + amp if amp else ''})", f"{r['note']} h{r['harmonic']}",
+                     hz(r["frequency_hz"]), "designed" if r["demand"] == "designed" else "re-opt.",
+                     _cell(r["volume_velocity_peak_m3s"]), f"{r['voltage_rms_v']:.3g}", f"{r['current_rms_a']:.3g}",
+                     f"{r['excursion_peak_m'] * 1e3:.3g}", f"{r['electrical_power_w']:.3g}",
+                     f"{r['excursion_margin_db']:+.1f}", f"{r['power_margin_db']:+.1f}", amp_margins,
+                     r.get("first_limit", "")))
     return rows
 
 

@@ -75,6 +75,13 @@ points = [ { name = "ear", at = [0.0, 1.0, 0.0] } ]
 """
 
 NOTE = '[[note]]\nname = "n"\nfundamental = 100.0\nspl_at_1m = [90.0]\n{where}\n[observers]'
+AMP = '[[amplifier]]\nname = "{name}"\nrated_voltage_rms = {volts}\nrated_current_rms = {amps}\ncontrols = {controls}\n'
+
+
+def _amp(name="a", volts="20.0", amps="5.0", controls='["c"]'):
+    return AMP.format(name=name, volts=volts, amps=amps, controls=controls)
+
+
 BOX = '[[body]]\nname = "cab2"\nkind = "box"\nsize = [0.2, 0.2, 0.2]\nat = [{x}, 0.0, 0.0]\n[[source]]\nname = "p"'
 
 
@@ -287,6 +294,30 @@ ROWS = [
         changes=(("[observers]", "[build]\nchannel_phase_deg = 270.0\n[observers]"),)),
     Row("channel delay tolerance negative", ("{case}", "build.channel_delay_s", "≥ 0"),
         changes=(("[observers]", "[build]\nchannel_delay_s = -1e-4\n[observers]"),)),
+    # -- amplifier channels ------------------------------------------------
+    Row("amplifier voltage zero", ("{case}", "amplifier[0].rated_voltage_rms", "a positive number"),
+        changes=(("[observers]", _amp(volts="0.0") + "[observers]"),)),
+    Row("amplifier current negative", ("{case}", "amplifier[0].rated_current_rms", "a positive number"),
+        changes=(("[observers]", _amp(amps="-2.0") + "[observers]"),)),
+    Row("amplifier voltage 1e300", ("{case}", "amplifier[0].rated_voltage_rms", "an RMS voltage from"),
+        changes=(("[observers]", _amp(volts="1e300") + "[observers]"),)),
+    Row("amplifier current missing", ("{case}", "amplifier[0].rated_current_rms", "required key is missing"),
+        changes=(("[observers]", _amp().replace("rated_current_rms = 5.0\n", "") + "[observers]"),)),
+    Row("amplifier feeding a control that does not exist",
+        ("{case}", "amplifier[0].controls[1]", "the name of a source with role = \"control\" (c)", "'ctl_9'"),
+        changes=(("[observers]", _amp(controls='["c", "ctl_9"]') + "[observers]"),)),
+    Row("amplifier feeding the primary", ("{case}", "amplifier[0].controls[0]", "role = \"control\"", "'p'"),
+        changes=(("[observers]", _amp(controls='["p"]') + "[observers]"),)),
+    Row("amplifier feeding nothing", ("{case}", "amplifier[0].controls", "at least one control source name"),
+        changes=(("[observers]", _amp(controls="[]") + "[observers]"),)),
+    Row("control on two amplifiers", ("{case}", "amplifier[1].controls[0]", "already fed by amplifier 'a'"),
+        changes=(("[observers]", _amp() + _amp(name="b") + "[observers]"),)),
+    Row("amplifier name used twice", ("{case}", "amplifier[1].name", "'a' is used twice"),
+        changes=(("[observers]", _amp() + _amp(controls="[\"c2\"]") + "[observers]"),
+                 ('[[source]]\nname = "c"', '[[source]]\nname = "c2"\nrole = "control"\nat = [0.0, -0.5, 0.0]\n'
+                                              '[[source]]\nname = "c"'))),
+    Row("amplifier key unknown", ("{case}", "amplifier[0].rated_power", "unknown key"),
+        changes=(("[observers]", _amp() + "rated_power = 100.0\n[observers]"),)),
 ]
 
 
