@@ -62,8 +62,8 @@ def catalogue_drivers(case):
     Examples
     --------
     >>> import bemcheck
-    >>> catalogue_drivers(bemcheck.load_case(bemcheck.example_path("demo")))
-    ()
+    >>> [d.name for d in catalogue_drivers(bemcheck.load_case(bemcheck.example_path("demo")))]
+    ['tiny_2in', 'mid_5in']
     """
     named = {s.driver for s in case.sources if s.driver}
     return tuple(d for d in case.drivers if d.name not in named)
