@@ -184,6 +184,7 @@ def catalogue_variables(ds, positions):
             values["catalogue_first_limit"][j, k] = c.worst.limit
     for name, units, what in CATALOGUE_FIGURES:
         attrs = {"units": units, "long_name": what} if units else {"long_name": what}
-        ds[name] = (("source", "catalogue_driver"), values[name].astype(str) if name.endswith("limit") else values[name],
-                    attrs)
-    ds["catalogue_ranked"] = ("source", ranked, {"long_name": "true for the control positions the catalogue was ranked at"})
+        value = values[name].astype(str) if name.endswith("limit") else values[name]
+        ds[name] = (("source", "catalogue_driver"), value, attrs)
+    ds["catalogue_ranked"] = ("source", ranked,
+                              {"long_name": "true for the control positions the catalogue was ranked at"})

@@ -324,10 +324,14 @@ def _go_no_go(case, check, ears, placement, scattered, bem_ran, channels=()):
         if first is None:
             worst = check.worst
             what = "loudspeakers and amplifiers" if any(r.amplifier for r in check.rows) else "loudspeakers"
-            item(True, f"{what} deliver every harmonic, designed and re-optimised; smallest margin {worst.margin_db:+.1f} dB ({worst.source}, {worst.note} h{worst.harmonic}, {worst.demand}, {worst.limit})")
+            item(True, f"{what} deliver every harmonic, designed and re-optimised; smallest margin "
+                       f"{worst.margin_db:+.1f} dB ({worst.source}, {worst.note} h{worst.harmonic}, {worst.demand}, "
+                       f"{worst.limit})")
         else:
             on = f" on {first.amplifier}" if first.amplifier else ""
-            item(False, f"{first.source} ({first.driver}{on}) fails first at {first.note} harmonic {first.harmonic} ({first.frequency_hz:.0f} Hz, {first.demand} demand): {first.limit} margin {first.margin_db:+.1f} dB")
+            item(False, f"{first.source} ({first.driver}{on}) fails first at {first.note} harmonic {first.harmonic} "
+                        f"({first.frequency_hz:.0f} Hz, {first.demand} demand): {first.limit} margin "
+                        f"{first.margin_db:+.1f} dB")
     ear_items(ears, item, lines)
     if placement:
         _placement_items(placement, item, lines)

@@ -300,5 +300,5 @@ def drive_variables(ds, check, plan):
     for name, units, what in DRIVE_FIGURES:
         ds[f"drive_{name}"] = (("harmonic", "source", "demand"), values[name], {"units": units, "long_name": what})
     ds["drive_checked"] = ("source", checked, {"long_name": "true for the controls whose loudspeaker was checked"})
-    ds["drive_amplifier_checked"] = ("source", amplified,
-                                     {"long_name": "true for the controls fed by an [[amplifier]] (its margins are checked)"})
+    ds["drive_amplifier_checked"] = ("source", amplified, {"long_name": "true for the controls fed by an [[amplifier]] "
+                                                                        "(its margins are checked)"})

@@ -4,9 +4,9 @@ the run's lines, cautions, and a case without a catalogue."""
 import pytest
 
 from bemcheck.case import parse_case
+from bemcheck.case.amplifiers import Amplifier
 from bemcheck.cli import main
 from bemcheck.prebuild import Demand, Driver, check_drivers, ear_levels
-from bemcheck.case.amplifiers import Amplifier
 from bemcheck.run.runner import run_case
 
 CASE = """

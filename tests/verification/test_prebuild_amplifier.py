@@ -72,7 +72,8 @@ def test_the_first_limit_named_is_the_first_a_rising_drive_meets(f, volts, amps,
     0.001 dB step), and the limit named first is the one the scan meets first."""
     amp = Amplifier("amp", volts, amps, ("c",))
     q = 1e-3
-    row = check_drivers({"coil": COIL}, {"c": "coil"}, [Demand("c", "n", 1, f, q)], AIR, amplifier_of={"c": amp}).rows[0]
+    demand = [Demand("c", "n", 1, f, q)]
+    row = check_drivers({"coil": COIL}, {"c": "coil"}, demand, AIR, amplifier_of={"c": amp}).rows[0]
     hits = _scan(COIL, amp, f, q)
     assert min(hits, key=hits.get) == first == row.limit
     for name, margin in row.margins_db.items():
