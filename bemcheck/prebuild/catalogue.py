@@ -16,7 +16,9 @@ import numpy as np
 
 from bemcheck.case.amplifiers import amplifier_of
 from bemcheck.prebuild.amplifiers import LIMITS
-from bemcheck.prebuild.notes import DriveRow, check_drivers
+from bemcheck.prebuild.notes import DESIGNED, REOPTIMISED, DriveRow, check_drivers
+
+DEMANDS = (DESIGNED, REOPTIMISED)
 
 
 @dataclass(frozen=True)
@@ -24,12 +26,15 @@ class Candidate:
     """One catalogue driver at one control position.
 
     ``worst`` is the demand with the smallest margin; ``by_limit`` the
-    smallest margin of each limit checked, over every demand [dB].
+    smallest margin of each limit checked, over every demand [dB];
+    ``by_demand`` the worst margin over the designed demands and over the
+    re-optimised ones [dB].
     """
 
     driver: str
     worst: DriveRow
     by_limit: tuple[tuple[str, float], ...]
+    by_demand: tuple[tuple[str, float], ...]
 
     @property
     def margin_db(self):
@@ -74,7 +79,9 @@ def _candidate(driver, source, demands, medium, amplifiers):
     worst = min(rows, key=lambda r: r.margin_db)
     limits = [n for n in LIMITS if n in worst.margins_db]
     by_limit = tuple((n, min(r.margins_db[n] for r in rows)) for n in limits)
-    return Candidate(driver.name, worst, by_limit)
+    by_demand = tuple((k, min(r.margin_db for r in rows if r.demand == k)) for k in DEMANDS
+                      if any(r.demand == k for r in rows))
+    return Candidate(driver.name, worst, by_limit, by_demand)
 
 
 def rank_catalogue(case, demands):
@@ -128,6 +135,7 @@ def catalogue_summary(positions):
                 "frequency_hz": c.worst.frequency_hz,
                 "demand": c.worst.demand,
                 "margin_by_limit_db": dict(c.by_limit),
+                "margin_by_demand_db": dict(c.by_demand),
             } for c in p.candidates],
         } for p in positions],
     }
@@ -151,18 +159,22 @@ def catalogue_lines(positions, case):
     return lines
 
 
-# Results variables (source, catalogue_driver): name, units, long name.
+# Results variables: name (unit in it), dimensions, units, long name.
 CATALOGUE_FIGURES = (
-    ("catalogue_worst_margin_db", "dB", "worst margin of each catalogue driver at each control position "
-                                        "over every note, harmonic, demand and limit (negative: over)"),
-    ("catalogue_passes_every_note", "", "true where the catalogue driver passes every note at that position"),
-    ("catalogue_first_limit", "", "limit met first at the worst demand: excursion, rated power, "
-                                  "amplifier voltage or amplifier current"),
+    ("catalogue_worst_margin_db", ("source", "catalogue_driver"), "dB",
+     "worst margin of each catalogue driver at each control position over every note, harmonic, demand and limit "
+     "(negative: over)"),
+    ("catalogue_worst_margin_by_demand_db", ("source", "catalogue_driver", "demand"), "dB",
+     "worst margin over the designed demands and over the re-optimised ones (negative: over)"),
+    ("catalogue_passes_every_note", ("source", "catalogue_driver"), "",
+     "true where the catalogue driver passes every note at that position"),
+    ("catalogue_first_limit", ("source", "catalogue_driver"), "",
+     "limit met first at the worst demand: excursion, rated power, amplifier voltage or amplifier current"),
 )
 
 
 def catalogue_variables(ds, positions):
-    """Add the ranking to ``ds`` in place: ``catalogue_*`` over (source, catalogue_driver).
+    """Add the ranking to ``ds`` in place: the ``catalogue_*`` variables of :data:`CATALOGUE_FIGURES`.
 
     Sources that are not ranked (primaries, controls without demands) hold
     0, false and "" with ``catalogue_ranked`` false.
@@ -170,10 +182,12 @@ def catalogue_variables(ds, positions):
     drivers = sorted(c.driver for c in positions[0].candidates)
     sources = list(ds["source"].values)
     ds.coords["catalogue_driver"] = ("catalogue_driver", drivers)
-    shape = (len(sources), len(drivers))
-    values = {"catalogue_worst_margin_db": np.zeros(shape), "catalogue_passes_every_note": np.zeros(shape, bool),
-              "catalogue_first_limit": np.full(shape, "", dtype=object)}
-    ranked = np.zeros(len(sources), bool)
+    ds.coords["demand"] = ("demand", list(DEMANDS))
+    n, m = len(sources), len(drivers)
+    values = {"catalogue_worst_margin_db": np.zeros((n, m)), "catalogue_passes_every_note": np.zeros((n, m), bool),
+              "catalogue_worst_margin_by_demand_db": np.zeros((n, m, len(DEMANDS))),
+              "catalogue_first_limit": np.full((n, m), "", dtype=object)}
+    ranked = np.zeros(n, bool)
     for p in positions:
         j = sources.index(p.source)
         ranked[j] = True
@@ -182,9 +196,11 @@ def catalogue_variables(ds, positions):
             values["catalogue_worst_margin_db"][j, k] = c.margin_db
             values["catalogue_passes_every_note"][j, k] = c.passes
             values["catalogue_first_limit"][j, k] = c.worst.limit
-    for name, units, what in CATALOGUE_FIGURES:
+            for kind, margin in c.by_demand:
+                values["catalogue_worst_margin_by_demand_db"][j, k, DEMANDS.index(kind)] = margin
+    for name, dims, units, what in CATALOGUE_FIGURES:
         attrs = {"units": units, "long_name": what} if units else {"long_name": what}
         value = values[name].astype(str) if name.endswith("limit") else values[name]
-        ds[name] = (("source", "catalogue_driver"), value, attrs)
+        ds[name] = (dims, value, attrs)
     ds["catalogue_ranked"] = ("source", ranked,
                               {"long_name": "true for the control positions the catalogue was ranked at"})

@@ -112,6 +112,9 @@ def test_catalogue_ranked_against_the_hand_computation(ran):
         assert r["passes_every_note"] == (worst >= 0.0)
         for name, m in by_limit.items():
             assert r["margin_by_limit_db"][name] == pytest.approx(m, abs=1e-6)
+        # In the free model the re-optimised demand is the designed one.
+        for kind in ("designed", "reoptimised"):
+            assert r["margin_by_demand_db"][kind] == pytest.approx(worst, abs=1e-6)
     # The case is made so that the answer is not all or nothing.
     assert position["passing"] == [n for n in expected if hand[n][0] >= 0.0] == ["big_hot", "mid"]
 
@@ -126,6 +129,9 @@ def test_catalogue_in_results_and_run_lines(ran):
         assert float(margin.sel(catalogue_driver=name)) == pytest.approx(hand[name][0], abs=1e-6)
         assert str(ds["catalogue_first_limit"].sel(source="c", catalogue_driver=name).values) == hand[name][1]
     assert ds["catalogue_ranked"].values.tolist() == [False, True]
+    by_demand = ds["catalogue_worst_margin_by_demand_db"].sel(source="c", catalogue_driver="mid")
+    assert by_demand.dims == ("demand",)
+    assert by_demand.values.tolist() == pytest.approx([hand["mid"][0]] * 2, abs=1e-6)
     assert ds["catalogue_passes_every_note"].sel(source="c").values.tolist() == [True, True, False]
     lines = [line for line in out.verdict_lines if line.startswith("  c on two_channel:")]
     assert lines and "passes every note: big_hot, mid;" in lines[0]
