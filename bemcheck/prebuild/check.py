@@ -13,14 +13,14 @@ from dataclasses import dataclass
 import numpy as np
 import xarray as xr
 
+from bemcheck.case.amplifiers import amplifier_of
 from bemcheck.observers import for_observers
+from bemcheck.prebuild.catalogue import catalogue_lines, catalogue_summary, catalogue_variables, rank_catalogue
 from bemcheck.prebuild.channels import channel_items, channel_study, channel_summary, channel_variables
 from bemcheck.prebuild.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
 from bemcheck.prebuild.ears import MODEL_BEM, MODEL_FREE, PointPressures, ear_items, ear_summary, point_variables
 from bemcheck.prebuild.note_levels import note_lines, note_strengths, note_variables, primary_weights
 from bemcheck.prebuild.notes import check_drivers, control_demands, drive_variables
-from bemcheck.prebuild.catalogue import catalogue_lines, catalogue_summary, catalogue_variables, rank_catalogue
-from bemcheck.case.amplifiers import amplifier_of
 from bemcheck.prebuild.placement import PERCENTILES, placement_study
 from bemcheck.prebuild.safety import ear_levels
 from bemcheck.solvers.control.optimal import attenuation_db
