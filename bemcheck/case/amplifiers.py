@@ -58,7 +58,7 @@ def _amplifier(r, controls):
     for i, c in enumerate(fed):
         if not isinstance(c, str) or c not in controls:
             known = ", ".join(controls) or "the case has none"
-            r.fail(f"controls[{i}]", f"the name of a source with role = \"control\" ({known})", c)
+            r.fail(f"controls[{i}]", f'the name of a source with role = "control" ({known})', c)
     r.done()
     return Amplifier(name=name, rated_voltage_rms=voltage, rated_current_rms=current, controls=tuple(fed))
 
@@ -103,8 +103,10 @@ def read_amplifiers(readers, sources, file):
         names.add(a.name)
         for j, c in enumerate(a.controls):
             if c in fed_by:
-                raise CaseError(f"{file}: amplifier[{i}].controls[{j}]: control '{c}' is already fed by amplifier "
-                                f"'{fed_by[c]}'; expected each control on one amplifier channel")
+                raise CaseError(
+                    f"{file}: amplifier[{i}].controls[{j}]: control '{c}' is already fed by amplifier "
+                    f"'{fed_by[c]}'; expected each control on one amplifier channel"
+                )
             fed_by[c] = a.name
     return amplifiers
 

@@ -79,8 +79,9 @@ def _candidate(driver, source, demands, medium, amplifiers):
     worst = min(rows, key=lambda r: r.margin_db)
     limits = [n for n in LIMITS if n in worst.margins_db]
     by_limit = tuple((n, min(r.margins_db[n] for r in rows)) for n in limits)
-    by_demand = tuple((k, min(r.margin_db for r in rows if r.demand == k)) for k in DEMANDS
-                      if any(r.demand == k for r in rows))
+    by_demand = tuple(
+        (k, min(r.margin_db for r in rows if r.demand == k)) for k in DEMANDS if any(r.demand == k for r in rows)
+    )
     return Candidate(driver.name, worst, by_limit, by_demand)
 
 
@@ -121,39 +122,51 @@ def catalogue_summary(positions):
         return {}
     return {
         "drivers": sorted(c.driver for c in positions[0].candidates),
-        "positions": [{
-            "source": p.source,
-            "amplifier": p.amplifier,
-            "passing": list(p.passing),
-            "ranking": [{
-                "driver": c.driver,
-                "passes_every_note": c.passes,
-                "worst_margin_db": c.margin_db,
-                "first_limit": c.worst.limit,
-                "note": c.worst.note,
-                "harmonic": c.worst.harmonic,
-                "frequency_hz": c.worst.frequency_hz,
-                "demand": c.worst.demand,
-                "margin_by_limit_db": dict(c.by_limit),
-                "margin_by_demand_db": dict(c.by_demand),
-            } for c in p.candidates],
-        } for p in positions],
+        "positions": [
+            {
+                "source": p.source,
+                "amplifier": p.amplifier,
+                "passing": list(p.passing),
+                "ranking": [
+                    {
+                        "driver": c.driver,
+                        "passes_every_note": c.passes,
+                        "worst_margin_db": c.margin_db,
+                        "first_limit": c.worst.limit,
+                        "note": c.worst.note,
+                        "harmonic": c.worst.harmonic,
+                        "frequency_hz": c.worst.frequency_hz,
+                        "demand": c.worst.demand,
+                        "margin_by_limit_db": dict(c.by_limit),
+                        "margin_by_demand_db": dict(c.by_demand),
+                    }
+                    for c in p.candidates
+                ],
+            }
+            for p in positions
+        ],
     }
 
 
 def catalogue_lines(positions, case):
     """Plain-text lines for ``bemcheck run``: per position, who passes and the ranking."""
     fed = amplifier_of(case.amplifiers)
-    lines = [f"  note: amplifier channel of {s.name} not checked: the control names no driver"
-             for s in case.controls if s.name in fed and not s.driver]
+    lines = [
+        f"  note: amplifier channel of {s.name} not checked: the control names no driver"
+        for s in case.controls
+        if s.name in fed and not s.driver
+    ]
     if not positions:
         return lines
     names = ", ".join(sorted(c.driver for c in positions[0].candidates))
     lines.append(f"Driver catalogue ({names}): worst margin over every note, harmonic and demand, best first")
     for p in positions:
         on = f" on {p.amplifier}" if p.amplifier else " (no amplifier named)"
-        ranks = ", ".join(f"{c.driver} {c.margin_db:+.1f} dB" + ("" if c.passes else f" ({c.worst.limit}, "
-                          f"{c.worst.note} h{c.worst.harmonic} {c.worst.demand})") for c in p.candidates)
+        ranks = ", ".join(
+            f"{c.driver} {c.margin_db:+.1f} dB"
+            + ("" if c.passes else f" ({c.worst.limit}, {c.worst.note} h{c.worst.harmonic} {c.worst.demand})")
+            for c in p.candidates
+        )
         passing = ", ".join(p.passing) if p.passing else "none"
         lines.append(f"  {p.source}{on}: passes every note: {passing}; ranking: {ranks}")
     return lines
@@ -161,15 +174,31 @@ def catalogue_lines(positions, case):
 
 # Results variables: name (unit in it), dimensions, units, long name.
 CATALOGUE_FIGURES = (
-    ("catalogue_worst_margin_db", ("source", "catalogue_driver"), "dB",
-     "worst margin of each catalogue driver at each control position over every note, harmonic, demand and limit "
-     "(negative: over)"),
-    ("catalogue_worst_margin_by_demand_db", ("source", "catalogue_driver", "demand"), "dB",
-     "worst margin over the designed demands and over the re-optimised ones (negative: over)"),
-    ("catalogue_passes_every_note", ("source", "catalogue_driver"), "",
-     "true where the catalogue driver passes every note at that position"),
-    ("catalogue_first_limit", ("source", "catalogue_driver"), "",
-     "limit met first at the worst demand: excursion, rated power, amplifier voltage or amplifier current"),
+    (
+        "catalogue_worst_margin_db",
+        ("source", "catalogue_driver"),
+        "dB",
+        "worst margin of each catalogue driver at each control position over every note, harmonic, demand and limit "
+        "(negative: over)",
+    ),
+    (
+        "catalogue_worst_margin_by_demand_db",
+        ("source", "catalogue_driver", "demand"),
+        "dB",
+        "worst margin over the designed demands and over the re-optimised ones (negative: over)",
+    ),
+    (
+        "catalogue_passes_every_note",
+        ("source", "catalogue_driver"),
+        "",
+        "true where the catalogue driver passes every note at that position",
+    ),
+    (
+        "catalogue_first_limit",
+        ("source", "catalogue_driver"),
+        "",
+        "limit met first at the worst demand: excursion, rated power, amplifier voltage or amplifier current",
+    ),
 )
 
 
@@ -184,9 +213,12 @@ def catalogue_variables(ds, positions):
     ds.coords["catalogue_driver"] = ("catalogue_driver", drivers)
     ds.coords["demand"] = ("demand", list(DEMANDS))
     n, m = len(sources), len(drivers)
-    values = {"catalogue_worst_margin_db": np.zeros((n, m)), "catalogue_passes_every_note": np.zeros((n, m), bool),
-              "catalogue_worst_margin_by_demand_db": np.zeros((n, m, len(DEMANDS))),
-              "catalogue_first_limit": np.full((n, m), "", dtype=object)}
+    values = {
+        "catalogue_worst_margin_db": np.zeros((n, m)),
+        "catalogue_passes_every_note": np.zeros((n, m), bool),
+        "catalogue_worst_margin_by_demand_db": np.zeros((n, m, len(DEMANDS))),
+        "catalogue_first_limit": np.full((n, m), "", dtype=object),
+    }
     ranked = np.zeros(n, bool)
     for p in positions:
         j = sources.index(p.source)
@@ -202,5 +234,8 @@ def catalogue_variables(ds, positions):
         attrs = {"units": units, "long_name": what} if units else {"long_name": what}
         value = values[name].astype(str) if name.endswith("limit") else values[name]
         ds[name] = (dims, value, attrs)
-    ds["catalogue_ranked"] = ("source", ranked,
-                              {"long_name": "true for the control positions the catalogue was ranked at"})
+    ds["catalogue_ranked"] = (
+        "source",
+        ranked,
+        {"long_name": "true for the control positions the catalogue was ranked at"},
+    )

@@ -49,8 +49,11 @@ name = "n"
 fundamental = 100.0
 spl_at_1m = [80.0]
 """
-SPARE = CASE.replace('[[note]]', '[[driver]]\nname = "spare"\nre = 4.0\nbl = 5.0\nmms = 0.01\ncms = 0.001\n'
-                                  'rms = 1.0\nsd = 0.008\nxmax = 0.004\nvb = 0.01\nrated_power = 30.0\n[[note]]')
+SPARE = CASE.replace(
+    "[[note]]",
+    '[[driver]]\nname = "spare"\nre = 4.0\nbl = 5.0\nmms = 0.01\ncms = 0.001\n'
+    "rms = 1.0\nsd = 0.008\nxmax = 0.004\nvb = 0.01\nrated_power = 30.0\n[[note]]",
+)
 
 
 def test_amplifier_read_and_shown_by_check(tmp_path, capsys):
@@ -80,16 +83,27 @@ def test_no_catalogue_no_section(tmp_path):
     assert bb["driver_catalogue"] == {}
     assert not any(line.startswith("Driver catalogue") for line in out.verdict_lines)
     assert bb["drives"][0]["amplifier"] == "amp" and bb["drives"][0]["first_limit"] in (
-        "excursion", "rated power", "amplifier voltage", "amplifier current")
+        "excursion",
+        "rated power",
+        "amplifier voltage",
+        "amplifier current",
+    )
 
 
-@pytest.mark.parametrize("volts, amps, words", [
-    (1.0, 100.0, ("dB over the channel's rated voltage",)),
-    (100.0, 0.05, ("dB over the channel's rated current",)),
-])
+@pytest.mark.parametrize(
+    "volts, amps, words",
+    [
+        (1.0, 100.0, ("dB over the channel's rated voltage",)),
+        (100.0, 0.05, ("dB over the channel's rated current",)),
+    ],
+)
 def test_an_amplifier_over_its_rating_is_a_caution(volts, amps, words):
     d = Driver("d", 6.0, 7.0, 0.020, 1e-3, 1.5, 0.0133, 5e-3, 0.020, 50.0)
-    rows = check_drivers({"d": d}, {"c": "d"}, [Demand("c", "n", 1, 500.0, 1e-3)],
-                         amplifier_of={"c": Amplifier("amp", volts, amps, ("c",))}).rows
+    rows = check_drivers(
+        {"d": d},
+        {"c": "d"},
+        [Demand("c", "n", 1, 500.0, 1e-3)],
+        amplifier_of={"c": Amplifier("amp", volts, amps, ("c",))},
+    ).rows
     cautions = ear_levels(["ear"], [500.0], [[1e-3]], [[1e-3]], drive_rows=rows).cautions
     assert len(cautions) == 1 and all(w in cautions[0] for w in words) and "c on amp" in cautions[0]

@@ -26,8 +26,9 @@ from bemcheck.prebuild.amplifiers import amplifier_margins
 from tests.support.small_closed_box import small_drive
 
 AIR = Medium(speed_of_sound=343.0, density=1.21)
-COIL = Driver("coil", re=6.0, bl=7.0, mms=0.020, cms=1e-3, rms=1.5, sd=0.0133, xmax=5e-3, vb=0.020,
-              rated_power=50.0, le=0.5e-3)
+COIL = Driver(
+    "coil", re=6.0, bl=7.0, mms=0.020, cms=1e-3, rms=1.5, sd=0.0133, xmax=5e-3, vb=0.020, rated_power=50.0, le=0.5e-3
+)
 
 
 def test_voltage_and_current_against_small_1972():
@@ -61,12 +62,15 @@ def _scan(driver, amp, f, q):
     return {name: float(gain_db[np.argmax(hit)]) for name, hit in over.items()}
 
 
-@pytest.mark.parametrize("f, volts, amps, first", [
-    (20.0, 100.0, 100.0, "excursion"),           # below fc the cone moves most for its volume velocity
-    (500.0, 100.0, 100.0, "rated power"),        # above fc the voltage grows with f at fixed volume velocity
-    (500.0, 2.0, 100.0, "amplifier voltage"),    # a channel of 2 V RMS clips first
-    (500.0, 100.0, 0.1, "amplifier current"),    # a channel of 0.1 A RMS current-limits first
-])
+@pytest.mark.parametrize(
+    "f, volts, amps, first",
+    [
+        (20.0, 100.0, 100.0, "excursion"),  # below fc the cone moves most for its volume velocity
+        (500.0, 100.0, 100.0, "rated power"),  # above fc the voltage grows with f at fixed volume velocity
+        (500.0, 2.0, 100.0, "amplifier voltage"),  # a channel of 2 V RMS clips first
+        (500.0, 100.0, 0.1, "amplifier current"),  # a channel of 0.1 A RMS current-limits first
+    ],
+)
 def test_the_first_limit_named_is_the_first_a_rising_drive_meets(f, volts, amps, first):
     """Each margin equals the level rise at which its limit is exceeded (scanned, within the
     0.001 dB step), and the limit named first is the one the scan meets first."""
