@@ -9,6 +9,7 @@ import numpy as np
 from bemcheck.errors import BemcheckInputError
 from bemcheck.mesh.bands import plan_bands
 from bemcheck.mesh.estimate import check_mesh_size
+from bemcheck.mesh.quality import aspect_ratios
 from bemcheck.mesh.scene import mesh_scene
 
 
@@ -25,8 +26,9 @@ class BodyStats:
 class BandStats:
     """What one band's mesh looks like.
 
-    ``worst_aspect`` is the largest circumradius / (2 inradius) over the
-    triangles: 1 for an equilateral triangle, growing as triangles flatten.
+    ``worst_aspect`` is the largest aspect ratio over the triangles
+    (:func:`bemcheck.mesh.quality.aspect_ratios`): 1 for an equilateral
+    triangle, growing as triangles flatten.
     """
 
     band: object
@@ -37,16 +39,6 @@ class BandStats:
     worst_aspect: float
     bodies: tuple
     files: tuple = ()
-
-
-def aspect_ratios(mesh):
-    """(nt,) circumradius / (2 inradius) of each triangle, 1 when equilateral.
-
-    R = abc / (4 A) and r = 2 A / (a + b + c), so R / 2r = abc (a + b + c) / (16 A^2).
-    """
-    e = mesh.edge_lengths()
-    area = mesh.areas
-    return e.prod(axis=1) * e.sum(axis=1) / (16.0 * area**2)
 
 
 def mesh_stats(case, mesh, band, files=()):

@@ -2,6 +2,7 @@
 
 import numpy as np
 
+from bemcheck.mesh.quality import aspect_ratios
 from bemcheck.report.layout import body_of_triangles
 from bemcheck.report.signals import has_bem, has_controls
 
@@ -182,31 +183,6 @@ def numerical_error_rows(ds):
         more = (fmt.format(float(ds[name].values[i])) for _, name, fmt in extra)
         rows.append((hz(x), f"{a.max():.3f} dB", f"{a.mean():.3f} dB", f"{b.max():.2f}°", *more))
     return rows
-
-
-def aspect_ratios(mesh):
-    """Aspect ratio of each triangle: longest edge over shortest altitude, times √3/2 (1 when equilateral).
-
-    Parameters
-    ----------
-    mesh : SurfaceMesh
-
-    Returns
-    -------
-    (nt,) ndarray
-        ``l_max² √3 / (4 A)``; inf for a degenerate triangle.
-
-    Examples
-    --------
-    >>> from bemcheck.mesh.surface import SurfaceMesh
-    >>> v = np.array([[0, 0, 0], [1, 0, 0], [0.5, 3**0.5 / 2, 0]])
-    >>> aspect_ratios(SurfaceMesh(v, np.array([[0, 1, 2]]), np.array([1]))).round(12).tolist()
-    [1.0]
-    """
-    longest = mesh.edge_lengths().max(axis=1)
-    area = mesh.areas
-    with np.errstate(divide="ignore"):
-        return np.where(area > 0.0, longest**2 * np.sqrt(3.0) / (4.0 * np.maximum(area, 1e-300)), np.inf)
 
 
 def mesh_rows(mesh):

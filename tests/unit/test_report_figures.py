@@ -22,7 +22,8 @@ from bemcheck.report.figures import attenuation_figure, departure_map_figure, po
 from bemcheck.report.layout import layout_figure
 from bemcheck.report.signals import plane_directions, polar_frequencies
 from bemcheck.report.style import file_stem
-from bemcheck.report.tables import aspect_ratios, mesh_rows
+from bemcheck.mesh.quality import aspect_ratios
+from bemcheck.report.tables import mesh_rows
 from bemcheck.results.combine import combine
 from bemcheck.results.dataset import run_attributes
 from bemcheck.run.runner import free_responses
