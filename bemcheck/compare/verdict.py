@@ -15,11 +15,25 @@ cannot tell everywhere).
 
 import numpy as np
 
+from bemcheck.compare.judgements import (
+    FAIL,
+    PASS,
+    UNRESOLVED,
+    AttenuationJudgement,
+    Band,
+    DesignJudgement,
+    FieldTrust,
+    JudgedTolerance,
+    RuleOfThumb,
+    SectorAttenuation,
+    SectorJudgement,
+    SourceSplit,
+    TermSplit,
+    Verdict,
+)
 from bemcheck.compare.trust import DEPARTS, NOT_RESOLVED, crossing_frequency
 from bemcheck.observers import in_sector
 from bemcheck.solvers.control.strengths import source_indices
-
-PASS, FAIL, UNRESOLVED = "PASS", "FAIL", "NOT RESOLVED"
 
 
 def _where_in_band(f, lo, hi):
@@ -38,18 +52,14 @@ def rules_of_thumb(case):
 
     Returns
     -------
-    list of dict
-        ``rule``, ``what``, ``length_m`` and ``length`` (what the length is),
-        ``frequency_hz``, ``in_band`` ("below the band", "in the band",
-        "above the band"), ``source``.
+    tuple of RuleOfThumb
     """
     c = case.medium.speed_of_sound
     lo, hi = min(case.frequencies), max(case.frequencies)
     rows = []
 
     def add(rule, what, length, meaning, f, source):
-        rows.append({"rule": rule, "what": what, "length_m": float(length), "length": meaning,
-                     "frequency_hz": float(f), "in_band": _where_in_band(f, lo, hi), "source": source})
+        rows.append(RuleOfThumb(rule, what, float(length), meaning, float(f), _where_in_band(f, lo, hi), source))
 
     for body in case.bodies:
         a = body.shape.bounding_radius()
@@ -64,17 +74,19 @@ def rules_of_thumb(case):
             add("kd = π" if n == 1 else f"kd = {n}π", s.name, d, "d = distance to the nearest primary",
                 n * c / (2.0 * d), "Nelson et al. 1987, J. Sound Vib. 116(3) 397-414")
             n += 1
-    return rows
+    return tuple(rows)
 
 
 def _band(values, errors=None):
     v = np.asarray(values, dtype=float)
-    out = {"mean": float(v.mean()), "min": float(v.min()), "max": float(v.max())}
-    if errors is not None:
-        # the error of a mean is at most the mean of the errors
-        out["error_of_mean"] = float(np.mean(errors))
-        out["error_max"] = float(np.max(errors))
-    return out
+    if errors is None:
+        return Band(float(v.mean()), float(v.min()), float(v.max()))
+    # the error of a mean is at most the mean of the errors
+    return Band(float(v.mean()), float(v.min()), float(v.max()), float(np.mean(errors)), float(np.max(errors)))
+
+
+def _floats(values):
+    return tuple(float(x) for x in values)
 
 
 def _first(freqs, status):
@@ -91,27 +103,30 @@ def _sector(ds, s, sector, freqs):
     status = ds["status"].values[:, :, inside]
     limits, found = ds["trust_limit_hz"].values[s], ds["trust_limit_found"].values[s]
     set_by = ds["trust_limit_set_by"].values[s]
-    fields = {g: {"trust_limit_hz": float(limits[i]) if found[i] else None, "set_by": str(set_by[i]) or None,
-                  "worst_departure_db": float(ds["diffraction_max_db"].values[:, s, i].max())}
-              for i, g in enumerate(signals[:-1])}
+    fields = tuple(FieldTrust(g, float(limits[i]) if found[i] else None, str(set_by[i]) or None,
+                              float(ds["diffraction_max_db"].values[:, s, i].max()))
+                   for i, g in enumerate(signals[:-1]))
     ctl = status[:, -1, :]
-    row = {
-        "sector": sector.name, "from_deg": sector.from_deg, "to_deg": sector.to_deg,
-        "fields": fields,
-        "attenuation_limit_hz": float(limits[-1]) if found[-1] else None,
-        "attenuation_departs_from_hz": _first(freqs, ctl.max(axis=1)),
-        "attenuation_not_resolved_at_hz": [float(f) for f in freqs[(ctl == NOT_RESOLVED).any(axis=1)]],
-        "field_departs": bool((status[:, :-1, :] == DEPARTS).any()),
-        "field_not_resolved_at_hz": [float(f) for f in freqs[(status[:, :-1, :] == NOT_RESOLVED).any(axis=(1, 2))]],
-    }
-    if "sector_attenuation_db" in ds:
-        att = ds["sector_attenuation_db"].values[:, s, :]
-        worlds = [str(w) for w in ds["world"].values]
-        row["mean_square_attenuation_db"] = {w: [float(a) for a in att[:, i]] for i, w in enumerate(worlds)}
-        row["mean_square_attenuation_error_db"] = {
-            w: [float(e) for e in ds[f"sector_attenuation_{w}_error_db"].values[:, s]]
-            for w in ("as_designed", "reoptimised")}
-    return row
+    return SectorJudgement(
+        sector.name, sector.from_deg, sector.to_deg, fields,
+        attenuation_limit_hz=float(limits[-1]) if found[-1] else None,
+        attenuation_departs_from_hz=_first(freqs, ctl.max(axis=1)),
+        attenuation_not_resolved_at_hz=_floats(freqs[(ctl == NOT_RESOLVED).any(axis=1)]),
+        field_departs=bool((status[:, :-1, :] == DEPARTS).any()),
+        field_not_resolved_at_hz=_floats(freqs[(status[:, :-1, :] == NOT_RESOLVED).any(axis=(1, 2))]),
+        mean_square=_sector_attenuation(ds, s),
+    )
+
+
+def _sector_attenuation(ds, s):
+    """Sector s's mean-square attenuation in each world; None when the results hold none."""
+    if "sector_attenuation_db" not in ds:
+        return None
+    att = ds["sector_attenuation_db"].values[:, s, :]
+    worlds = {str(w): _floats(att[:, i]) for i, w in enumerate(ds["world"].values)}
+    errors = {w: _floats(ds[f"sector_attenuation_{w}_error_db"].values[:, s]) for w in ("as_designed", "reoptimised")}
+    return SectorAttenuation(worlds["predicted"], worlds.get("own_body"), worlds["as_designed"], worlds["reoptimised"],
+                             errors["as_designed"], errors["reoptimised"])
 
 
 def _decomposition(ds, tolerance, freqs):
@@ -119,24 +134,23 @@ def _decomposition(ds, tolerance, freqs):
     if "source_model_level_db" not in ds:
         return None
     mask = ds["significant"].values[:, :-1, :]
-    out = {}
+    out = []
     for i, name in enumerate(str(s) for s in ds["source"].values):
-        row = {}
+        terms = []
         for term in ("source_model", "other_bodies"):
             level = np.where(mask[:, i], np.abs(ds[f"{term}_level_db"].values[:, i]), 0.0)
             phase = np.where(mask[:, i], np.abs(ds[f"{term}_phase_deg"].values[:, i]), 0.0)
             per_f = np.maximum(level.max(axis=1) / tolerance.level_db, phase.max(axis=1) / tolerance.phase_deg)
             limit, found = crossing_frequency(freqs, per_f)
             fi, di = np.unravel_index(int(np.argmax(level)), level.shape)
-            row[term] = {"max_level_db": float(level.max()), "max_phase_deg": float(phase.max()),
-                         "max_at_hz": float(freqs[fi]), "max_at_azimuth_deg": float(ds["azimuth_deg"].values[di]),
-                         "within_tolerance_up_to_hz": float(limit) if found else None}
-        out[name] = row
-    return out
+            terms.append(TermSplit(float(level.max()), float(phase.max()), float(freqs[fi]),
+                                   float(ds["azimuth_deg"].values[di]), float(limit) if found else None))
+        out.append(SourceSplit(name, *terms))
+    return tuple(out)
 
 
 def verdict(case, ds):
-    """Build the verdict as a JSON-ready dict.
+    """Build the verdict of a compared run.
 
     Parameters
     ----------
@@ -147,15 +161,14 @@ def verdict(case, ds):
 
     Returns
     -------
-    dict
-        ``outcome`` (PASS, FAIL, NOT RESOLVED), ``passed``, ``judged_by``
-        ("attenuation" or "field"), ``first_departure_hz`` and ``reason``;
-        ``sectors`` (per sector: attenuation limit, each source's field trust
-        limit and what set it, mean-square attenuation per world);
-        ``attenuation`` (power: predicted, as designed, re-optimised with
-        errors, over the band and per frequency, and the limits);
-        ``decomposition`` (per source: source model and other bodies);
-        ``rules_of_thumb``; ``tolerance``.
+    Verdict
+        The outcome (PASS, FAIL, NOT RESOLVED) and what it was judged by;
+        per sector the attenuation limit, each source's field trust limit
+        and what set it, the mean-square attenuation per world; the power
+        attenuation (predicted, as designed, re-optimised, with errors); per
+        source the source model and the other bodies; the rules of thumb.
+        :func:`bemcheck.results.verdict_summary.verdict_summary` makes it the
+        JSON of summary.json.
     """
     tol = case.tolerance
     freqs = ds["frequency"].values
@@ -164,53 +177,50 @@ def verdict(case, ds):
     attenuation = _power(ds, freqs) if controls else None
     if controls:
         judged_by = "attenuation"
-        candidates = [(s["attenuation_departs_from_hz"], f"attenuation as designed in sector {s['sector']}") for s in sectors]
-        candidates.append((attenuation["as_designed"]["departs_from_hz"], "power attenuation as designed"))
-        unresolved = any(s["attenuation_not_resolved_at_hz"] for s in sectors) or attenuation["as_designed"]["not_resolved_at_hz"]
+        candidates = [(s.attenuation_departs_from_hz, f"attenuation as designed in sector {s.sector}") for s in sectors]
+        candidates.append((attenuation.as_designed.departs_from_hz, "power attenuation as designed"))
+        unresolved = any(s.attenuation_not_resolved_at_hz for s in sectors) or attenuation.as_designed.not_resolved_at_hz
     else:
         judged_by = "field"
         candidates = [(_first(freqs, ds["status"].values[:, :-1, in_sector(ds["azimuth_deg"].values, t.from_deg, t.to_deg)].max(axis=(1, 2))),
-                       f"a source's field in sector {s['sector']}") for s, t in zip(sectors, tol.sectors)]
-        unresolved = any(s["field_not_resolved_at_hz"] for s in sectors)
+                       f"a source's field in sector {s.sector}") for s, t in zip(sectors, tol.sectors)]
+        unresolved = any(s.field_not_resolved_at_hz for s in sectors)
     fails = sorted((f, why) for f, why in candidates if f is not None)
     outcome = FAIL if fails else UNRESOLVED if unresolved else PASS
-    return {
-        "outcome": outcome,
-        "passed": outcome == PASS,
-        "judged_by": judged_by,
-        "first_departure_hz": fails[0][0] if fails else None,
-        "reason": fails[0][1] if fails else None,
-        "tolerance": {"level_db": tol.level_db, "phase_deg": tol.phase_deg,
-                      "attenuation_target_db": tol.attenuation_target_db, "attenuation_db": tol.attenuation_db},
-        "frequencies_hz": [float(f) for f in freqs],
-        "sectors": sectors,
-        "attenuation": attenuation,
-        "decomposition": _decomposition(ds, tol, freqs),
-        "rules_of_thumb": rules_of_thumb(case),
-    }
+    return Verdict(
+        outcome=outcome,
+        judged_by=judged_by,
+        first_departure_hz=fails[0][0] if fails else None,
+        reason=fails[0][1] if fails else None,
+        tolerance=JudgedTolerance(tol.level_db, tol.phase_deg, tol.attenuation_target_db, tol.attenuation_db),
+        frequencies_hz=_floats(freqs),
+        sectors=tuple(sectors),
+        attenuation=attenuation,
+        decomposition=_decomposition(ds, tol, freqs),
+        rules_of_thumb=rules_of_thumb(case),
+    )
 
 
 def _power(ds, freqs):
     """The power attenuation: predicted, as designed and re-optimised, with errors and judgement."""
     predicted = ds["attenuation_as_designed_db"].values + ds["attenuation_loss_db"].values
-    out = {"predicted_db": _band(predicted), "predicted_by_frequency_db": [float(a) for a in predicted]}
+    designs = []
     for design in ("as_designed", "reoptimised"):
         values = ds[f"attenuation_{design}_db"].values
         errors = ds[f"attenuation_{design}_error_db"].values
         status = ds[f"attenuation_{design}_status"].values
         found = bool(ds[f"attenuation_{design}_limit_found"].values)
-        out[design] = {
-            "band_db": _band(values, errors),
-            "by_frequency_db": [float(a) for a in values],
-            "error_by_frequency_db": [float(e) for e in errors],
-            "departs_from_hz": _first(freqs, status),
-            "limit_hz": float(ds[f"attenuation_{design}_limit_hz"].values) if found else None,
-            "not_resolved_at_hz": [float(f) for f in freqs[status == NOT_RESOLVED]],
-        }
+        designs.append(DesignJudgement(
+            band_db=_band(values, errors),
+            by_frequency_db=_floats(values),
+            error_by_frequency_db=_floats(errors),
+            departs_from_hz=_first(freqs, status),
+            limit_hz=float(ds[f"attenuation_{design}_limit_hz"].values) if found else None,
+            not_resolved_at_hz=_floats(freqs[status == NOT_RESOLVED]),
+        ))
     loss = ds["attenuation_loss_db"].values
-    out["worst_loss_db"] = float(loss.max())
-    out["worst_loss_at_hz"] = float(freqs[int(np.argmax(loss))])
-    return out
+    return AttenuationJudgement(_band(predicted), _floats(predicted), *designs, float(loss.max()),
+                                float(freqs[int(np.argmax(loss))]))
 
 
 def _hz(f):
@@ -221,71 +231,90 @@ def _pm(value, error):
     return f"{value:.1f} ± {error:.1f} dB" if error < 59.0 else f"{value:.1f} dB (error not bounded)"
 
 
+def _up_to(f):
+    return f"up to {_hz(f)}" if f else "over the band"
+
+
 def verdict_lines(v):
-    """The verdict as short plain-text lines for the terminal, the decision first."""
-    t = v["tolerance"]
-    if v["judged_by"] == "attenuation":
-        crit = (f"judged on attenuation: target {t['attenuation_target_db']:g} dB or the prediction if lower, "
-                f"shortfall tolerated {t['attenuation_db']:g} dB")
+    """The verdict as short plain-text lines for the terminal, the decision first.
+
+    Parameters
+    ----------
+    v : Verdict
+
+    Returns
+    -------
+    list of str
+    """
+    t = v.tolerance
+    if v.judged_by == "attenuation":
+        crit = (f"judged on attenuation: target {t.attenuation_target_db:g} dB or the prediction if lower, "
+                f"shortfall tolerated {t.attenuation_db:g} dB")
     else:
-        crit = f"judged on the field: tolerance {t['level_db']:g} dB, {t['phase_deg']:g} deg"
-    head = f"Verdict: {v['outcome']} ({crit})"
-    if v["outcome"] == FAIL:
-        head += f"; first falls short at {_hz(v['first_departure_hz'])}: {v['reason']}"
-    lines = [head]
-    a = v["attenuation"]
-    if a:
-        d, r = a["as_designed"], a["reoptimised"]
-        lines.append(
-            f"  power attenuation, band mean: predicted {a['predicted_db']['mean']:.1f} dB, "
-            f"as designed {_pm(d['band_db']['mean'], d['band_db']['error_of_mean'])}, "
-            f"re-optimised {_pm(r['band_db']['mean'], r['band_db']['error_of_mean'])}")
-        f0 = v["frequencies_hz"][0]
-        lines.append(
-            f"  at {_hz(f0)}: predicted {a['predicted_by_frequency_db'][0]:.1f} dB, "
-            f"as designed {_pm(d['by_frequency_db'][0], d['error_by_frequency_db'][0])}, "
-            f"re-optimised {_pm(r['by_frequency_db'][0], r['error_by_frequency_db'][0])}")
-        for name, x in (("as designed", d), ("re-optimised", r)):
-            where = f"falls short from {_hz(x['departs_from_hz'])}" if x["departs_from_hz"] else "holds over the band"
-            if x["not_resolved_at_hz"]:
-                where += f"; not resolved at {', '.join(_hz(f) for f in x['not_resolved_at_hz'][:6])}"
-            lines.append(f"  power attenuation {name}: {where}")
-    for s in v["sectors"]:
+        crit = f"judged on the field: tolerance {t.level_db:g} dB, {t.phase_deg:g} deg"
+    head = f"Verdict: {v.outcome} ({crit})"
+    if v.outcome == FAIL:
+        head += f"; first falls short at {_hz(v.first_departure_hz)}: {v.reason}"
+    lines = [head, *_power_lines(v)]
+    by_attenuation = v.judged_by == "attenuation"
+    for s in v.sectors:
         parts = []
-        if v["judged_by"] == "attenuation":
-            att = s["attenuation_departs_from_hz"]
+        if by_attenuation:
+            att = s.attenuation_departs_from_hz
             parts.append(f"attenuation {'falls short from ' + _hz(att) if att else 'holds over the band'}")
-        for name, f in s["fields"].items():
-            if f["trust_limit_hz"] is not None:
-                parts.append(f"{name} monopole trusted up to {_hz(f['trust_limit_hz'])} (set by {f['set_by']})")
-        if len(parts) == (1 if v["judged_by"] == "attenuation" else 0):
+        for f in s.fields:
+            if f.trust_limit_hz is not None:
+                parts.append(f"{f.source} monopole trusted up to {_hz(f.trust_limit_hz)} (set by {f.set_by})")
+        if len(parts) == (1 if by_attenuation else 0):
             parts.append("every source's monopole trusted over the band")
-        lines.append(f"  sector {s['sector']} ({s['from_deg']:g} to {s['to_deg']:g} deg): " + "; ".join(parts))
-        pending = s["attenuation_not_resolved_at_hz"] if v["judged_by"] == "attenuation" else s["field_not_resolved_at_hz"]
+        lines.append(f"  sector {s.sector} ({s.from_deg:g} to {s.to_deg:g} deg): " + "; ".join(parts))
+        pending = s.attenuation_not_resolved_at_hz if by_attenuation else s.field_not_resolved_at_hz
         if pending:
             lines.append(f"    not resolved by the mesh at {', '.join(f'{f:.0f}' for f in pending)} Hz: refine there to decide")
-    for name, row in (v.get("decomposition") or {}).items():
-        sm, ob = row["source_model"], row["other_bodies"]
+    for row in v.decomposition or ():
+        sm, ob = row.source_model, row.other_bodies
         lines.append(
-            f"  {name}: source model up to {sm['max_level_db']:.1f} dB, {sm['max_phase_deg']:.0f} deg"
-            f" (within tolerance {'up to ' + _hz(sm['within_tolerance_up_to_hz']) if sm['within_tolerance_up_to_hz'] else 'over the band'}); "
-            f"other bodies up to {ob['max_level_db']:.1f} dB, {ob['max_phase_deg']:.0f} deg"
-            f" (within tolerance {'up to ' + _hz(ob['within_tolerance_up_to_hz']) if ob['within_tolerance_up_to_hz'] else 'over the band'})")
+            f"  {row.source}: source model up to {sm.max_level_db:.1f} dB, {sm.max_phase_deg:.0f} deg"
+            f" (within tolerance {_up_to(sm.within_tolerance_up_to_hz)}); "
+            f"other bodies up to {ob.max_level_db:.1f} dB, {ob.max_phase_deg:.0f} deg"
+            f" (within tolerance {_up_to(ob.within_tolerance_up_to_hz)})")
     lines.extend(_loss_split_lines(v))
-    for r in v["rules_of_thumb"]:
-        lines.append(f"  rule of thumb {r['rule']} for {r['what']} ({r['length']} {r['length_m']:.3g} m): "
-                     f"{r['frequency_hz']:.0f} Hz, {r['in_band']} ({r['source']})")
+    for r in v.rules_of_thumb:
+        lines.append(f"  rule of thumb {r.rule} for {r.what} ({r.length} {r.length_m:.3g} m): "
+                     f"{r.frequency_hz:.0f} Hz, {r.in_band} ({r.source})")
+    return lines
+
+
+def _power_lines(v):
+    """The power attenuation over the band, at the lowest frequency, and where each design holds."""
+    a = v.attenuation
+    if not a:
+        return []
+    d, r = a.as_designed, a.reoptimised
+    lines = [
+        f"  power attenuation, band mean: predicted {a.predicted_db.mean:.1f} dB, "
+        f"as designed {_pm(d.band_db.mean, d.band_db.error_of_mean)}, "
+        f"re-optimised {_pm(r.band_db.mean, r.band_db.error_of_mean)}",
+        f"  at {_hz(v.frequencies_hz[0])}: predicted {a.predicted_by_frequency_db[0]:.1f} dB, "
+        f"as designed {_pm(d.by_frequency_db[0], d.error_by_frequency_db[0])}, "
+        f"re-optimised {_pm(r.by_frequency_db[0], r.error_by_frequency_db[0])}",
+    ]
+    for name, x in (("as designed", d), ("re-optimised", r)):
+        where = f"falls short from {_hz(x.departs_from_hz)}" if x.departs_from_hz else "holds over the band"
+        if x.not_resolved_at_hz:
+            where += f"; not resolved at {', '.join(_hz(f) for f in x.not_resolved_at_hz[:6])}"
+        lines.append(f"  power attenuation {name}: {where}")
     return lines
 
 
 def _loss_split_lines(v):
     """Where the loss of attenuation comes from, at the lowest frequency, in the first sector."""
-    if not v["attenuation"] or not v["sectors"] or "mean_square_attenuation_db" not in v["sectors"][0]:
+    if not v.attenuation or not v.sectors or v.sectors[0].mean_square is None:
         return []
-    s = v["sectors"][0]
-    ms = s["mean_square_attenuation_db"]
-    if "own_body" not in ms:
+    s = v.sectors[0]
+    ms = s.mean_square
+    if ms.own_body is None:
         return []
-    pred, own, full = ms["predicted"][0], ms["own_body"][0], ms["as_designed"][0]
-    return [f"  loss of mean-square attenuation at {_hz(v['frequencies_hz'][0])} in sector {s['sector']}: "
+    pred, own, full = ms.predicted[0], ms.own_body[0], ms.as_designed[0]
+    return [f"  loss of mean-square attenuation at {_hz(v.frequencies_hz[0])} in sector {s.sector}: "
             f"{pred - full:.1f} dB, of which {pred - own:.1f} dB source model and {own - full:.1f} dB other bodies"]

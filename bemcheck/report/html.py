@@ -12,12 +12,14 @@ from html import escape
 from pathlib import Path
 
 from bemcheck.compare import verdict_lines
+from bemcheck.compare.judgements import FAIL, PASS
 from bemcheck.errors import BemcheckInputError
 from bemcheck.report import tables
 from bemcheck.report.catalogue import catalogue_sections
 from bemcheck.report.figures import make_figures
 from bemcheck.report.signals import case_of, has_bem
 from bemcheck.results.files import SUMMARY_FILE, atomic_write_bytes, load_results
+from bemcheck.results.verdict_summary import verdict_from_summary
 
 REPORT_FILE = "report.html"
 FIGURES_DIR = "figures"
@@ -186,18 +188,17 @@ def _figure(name, path, bem):
             f"Files: {FIGURES_DIR}/{_text(Path(path).stem)}.png and .svg.</figcaption></figure>")
 
 
-def _verdict_body(ds, summary):
-    v = summary.get("verdict")
+def _verdict_body(ds, v, before_build):
     if v is None:
         if not has_bem(ds):
             return _note("The BEM was not run (a free-field run): the free-field results are shown below, but there "
                          "is no comparison, no trust limit and no verdict. Run both models to get them.")
         return _note("The summary holds no verdict for this run.")
     lines = verdict_lines(v)
-    word = {"PASS": "pass", "FAIL": "fail"}.get(v["outcome"], "unresolved")
+    word = {PASS: "pass", FAIL: "fail"}.get(v.outcome, "unresolved")
     parts = [
-        f'<p class="headline"><span class="badge {word}">{_text(v["outcome"])}</span> {_text(lines[0])}</p>',
-        _table(tables.decision_rows(v, summary.get("before_build"))),
+        f'<p class="headline"><span class="badge {word}">{_text(v.outcome)}</span> {_text(lines[0])}</p>',
+        _table(tables.decision_rows(v, before_build)),
     ]
     att = tables.verdict_attenuation_rows(v)
     if att:
@@ -253,7 +254,7 @@ def _build_body(build_sections, build_figures, bem):
     return "\n".join(parts)
 
 
-def render_report(ds, summary, figures, mesh=None, extra_sections=(), case_note="", build_sections=(),
+def render_report(ds, summary, figures, verdict=None, mesh=None, extra_sections=(), case_note="", build_sections=(),
                   build_figures=None):
     """The report page as a string.
 
@@ -262,9 +263,12 @@ def render_report(ds, summary, figures, mesh=None, extra_sections=(), case_note=
     ds : xarray.Dataset
         Results of the run (free-field only or both models).
     summary : dict
-        The run's summary (``summary.json``); its ``"verdict"`` is shown when present.
+        The run's summary (``summary.json``): title, case hash, the before-build check.
     figures : dict[str, Path]
         From :func:`~bemcheck.report.figures.make_figures`; embedded in order.
+    verdict : Verdict, optional
+        From :func:`bemcheck.compare.verdict`; None when only the free-field
+        model ran (the page says so).
     mesh : SurfaceMesh, optional
         Its statistics per body are tabulated.
     extra_sections : sequence of (str, sequence of sequence)
@@ -284,7 +288,7 @@ def render_report(ds, summary, figures, mesh=None, extra_sections=(), case_note=
     """
     a = ds.attrs
     title = a.get("title", summary.get("title", "bemcheck run"))
-    sections = [("verdict", "Decision", _verdict_body(ds, summary))]
+    sections = [("verdict", "Decision", _verdict_body(ds, verdict, summary.get("before_build")))]
     sections.append(("summary", "What was run", _table(tables.summary_rows(ds, summary))))
     trust = tables.trust_rows(ds)
     sections.append(("trust-limits", "Trust limits per sector and signal",
@@ -344,8 +348,9 @@ def write_report(folder, ds, summary, mesh=None, extra_sections=(), case=None):
     ds : xarray.Dataset
         The run's results (see :mod:`bemcheck.results.dataset`).
     summary : dict
-        The run's summary; ``summary["verdict"]`` from
-        :func:`bemcheck.compare.verdict` when both models ran.
+        The run's summary as summary.json holds it; its ``"verdict"``
+        (:func:`bemcheck.results.verdict_summary.verdict_summary`) when
+        both models ran.
     mesh : SurfaceMesh, optional
         The meshed bodies: a layout figure and mesh statistics.
     extra_sections : sequence of (str, sequence of sequence)
@@ -359,6 +364,11 @@ def write_report(folder, ds, summary, mesh=None, extra_sections=(), case=None):
     Path
         The report file, written through a temporary file and a rename.
 
+    Raises
+    ------
+    ValueError
+        ``summary["verdict"]`` is not what a run writes (the key is named).
+
     Examples
     --------
     >>> import bemcheck, tempfile
@@ -371,11 +381,12 @@ def write_report(folder, ds, summary, mesh=None, extra_sections=(), case=None):
     note = ""
     if case is None:
         case, note = case_of(ds)
-    tolerance_db = (summary.get("verdict") or {}).get("tolerance", {}).get("level_db")
+    verdict = verdict_from_summary(summary["verdict"]) if summary.get("verdict") is not None else None
+    tolerance_db = verdict.tolerance.level_db if verdict is not None else None
     figures = make_figures(ds, folder / FIGURES_DIR, case=case, mesh=mesh, tolerance_db=tolerance_db)
     build_figures = {n: p for n, p in figures.items() if n in BUILD_FIGURES}
     figures = {n: p for n, p in figures.items() if n not in BUILD_FIGURES}
-    page = render_report(ds, summary, figures, mesh=mesh, extra_sections=extra, case_note=note,
+    page = render_report(ds, summary, figures, verdict, mesh=mesh, extra_sections=extra, case_note=note,
                          build_sections=tables.before_build_sections(summary) + catalogue_sections(summary),
                          build_figures=build_figures)
     path = folder / REPORT_FILE
@@ -402,4 +413,9 @@ def report_run(folder, mesh=None, extra_sections=()):
         raise BemcheckInputError(f"{path}: cannot read the summary ({exc}); expected the JSON a run writes") from None
     if not isinstance(summary, dict):
         raise BemcheckInputError(f"{path}: expected a JSON object, got {type(summary).__name__}")
+    if summary.get("verdict") is not None:
+        try:
+            verdict_from_summary(summary["verdict"])
+        except ValueError as exc:
+            raise BemcheckInputError(f"{path}: {exc}; expected the summary a `bemcheck run` writes") from None
     return write_report(folder, ds, summary, mesh=mesh, extra_sections=extra_sections)

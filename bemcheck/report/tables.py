@@ -69,23 +69,29 @@ def _holds(departs_from_hz, pending):
 
 
 def decision_rows(verdict, before_build=None):
-    """The decision, one row per sector and one for the power (verdict dict of :func:`bemcheck.compare.verdict`)."""
+    """The decision, one row per sector and one for the power.
+
+    Parameters
+    ----------
+    verdict : Verdict
+        From :func:`bemcheck.compare.verdict`.
+    before_build : dict, optional
+        ``summary["before_build"]``: its go / no-go is the last row.
+    """
     rows = [("judged", "attenuation as designed", "first departure of a monopole field", "other bodies change a field by")]
-    decomposition = verdict.get("decomposition") or {}
-    worst_other = max(((r["other_bodies"]["max_level_db"], n) for n, r in decomposition.items()), default=None)
-    for s in verdict["sectors"]:
-        limits = [(f["trust_limit_hz"], n, f["set_by"]) for n, f in s["fields"].items() if f["trust_limit_hz"] is not None]
-        first = min(limits) if limits else None
+    worst_other = max(((d.other_bodies.max_level_db, d.source) for d in verdict.decomposition or ()), default=None)
+    for s in verdict.sectors:
+        limits = s.trusted_fields()
+        first = limits[0] if limits else None
         rows.append((
-            f"sector {s['sector']} ({s['from_deg']:g}° to {s['to_deg']:g}°)",
-            _holds(s["attenuation_departs_from_hz"], s["attenuation_not_resolved_at_hz"]) if verdict["attenuation"] else "no controls",
+            f"sector {s.sector} ({s.from_deg:g}° to {s.to_deg:g}°)",
+            _holds(s.attenuation_departs_from_hz, s.attenuation_not_resolved_at_hz) if verdict.attenuation else "no controls",
             f"{hz(first[0])}: {first[1]} ({first[2]})" if first else "none in the band",
             f"up to {db(worst_other[0])} ({worst_other[1]})" if worst_other else "-",
         ))
-    a = verdict.get("attenuation")
+    a = verdict.attenuation
     if a:
-        d = a["as_designed"]
-        rows.append(("power", _holds(d["departs_from_hz"], d["not_resolved_at_hz"]), "", ""))
+        rows.append(("power", _holds(a.as_designed.departs_from_hz, a.as_designed.not_resolved_at_hz), "", ""))
     if before_build is not None:
         first = next((i["check"] for i in before_build.get("items", []) if not i["go"]), None)
         rows.append(("before build", "GO" if before_build.get("go") else "NO-GO", first or "every check passed", ""))
@@ -94,43 +100,40 @@ def decision_rows(verdict, before_build=None):
 
 def verdict_attenuation_rows(verdict):
     """Power attenuation with its errors: over the band and at the lowest frequency; None without control sources."""
-    a = verdict.get("attenuation")
+    a = verdict.attenuation
     if not a:
         return None
-    d, r = a["as_designed"], a["reoptimised"]
-    f0 = hz(verdict["frequencies_hz"][0])
-    rows = [("power attenuation", "band mean", "min", "max", f"at {f0}")]
-    rows.append(("predicted (free field)", db(a["predicted_db"]["mean"]), db(a["predicted_db"]["min"]),
-                 db(a["predicted_db"]["max"]), db(a["predicted_by_frequency_db"][0])))
-    for label, x in (("as designed", d), ("re-optimised", r)):
-        b = x["band_db"]
-        rows.append((label, _pm(b["mean"], b["error_of_mean"]), db(b["min"]), db(b["max"]),
-                     _pm(x["by_frequency_db"][0], x["error_by_frequency_db"][0])))
-    rows.append(("worst loss (predicted − as designed)", f"{db(a['worst_loss_db'])} at {hz(a['worst_loss_at_hz'])}", "", "", ""))
+    f0 = hz(verdict.frequencies_hz[0])
+    p = a.predicted_db
+    rows = [("power attenuation", "band mean", "min", "max", f"at {f0}"),
+            ("predicted (free field)", db(p.mean), db(p.min), db(p.max), db(a.predicted_by_frequency_db[0]))]
+    for label, x in (("as designed", a.as_designed), ("re-optimised", a.reoptimised)):
+        b = x.band_db
+        rows.append((label, _pm(b.mean, b.error_of_mean), db(b.min), db(b.max),
+                     _pm(x.by_frequency_db[0], x.error_by_frequency_db[0])))
+    rows.append(("worst loss (predicted − as designed)", f"{db(a.worst_loss_db)} at {hz(a.worst_loss_at_hz)}", "", "", ""))
     return rows
 
 
 def decomposition_rows(verdict):
     """Per source: the source model and the diffraction by the other bodies; None when not solved."""
-    d = verdict.get("decomposition")
-    if not d:
+    if not verdict.decomposition:
         return None
     rows = [("source", "source model: largest", "within tolerance", "other bodies: largest", "within tolerance")]
-    for name, row in d.items():
+    for row in verdict.decomposition:
         cells = []
-        for term in ("source_model", "other_bodies"):
-            t = row[term]
-            cells += [f"{db(t['max_level_db'])}, {t['max_phase_deg']:.0f}° ({hz(t['max_at_hz'])}, {t['max_at_azimuth_deg']:.0f}°)",
-                      f"up to {hz(t['within_tolerance_up_to_hz'])}" if t["within_tolerance_up_to_hz"] else "over the band"]
-        rows.append((name, *cells))
+        for t in (row.source_model, row.other_bodies):
+            cells += [f"{db(t.max_level_db)}, {t.max_phase_deg:.0f}° ({hz(t.max_at_hz)}, {t.max_at_azimuth_deg:.0f}°)",
+                      f"up to {hz(t.within_tolerance_up_to_hz)}" if t.within_tolerance_up_to_hz else "over the band"]
+        rows.append((row.source, *cells))
     return rows
 
 
 def rules_rows(verdict):
     """The rules of thumb the verdict flags, with what each length is and where each falls."""
     rows = [("rule", "for", "length", "frequency", "where", "source")]
-    rows += [(r["rule"], r["what"], f"{r['length']} = {r['length_m']:.3g} m", hz(r["frequency_hz"]), r["in_band"], r["source"])
-             for r in verdict.get("rules_of_thumb", [])]
+    rows += [(r.rule, r.what, f"{r.length} = {r.length_m:.3g} m", hz(r.frequency_hz), r.in_band, r.source)
+             for r in verdict.rules_of_thumb]
     return rows if len(rows) > 1 else None
 
 

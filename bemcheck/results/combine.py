@@ -27,7 +27,7 @@ def combine(case, directions, free, bem=None, check=None, check_ratio=None, own_
 
     Returns
     -------
-    (xarray.Dataset, dict or None)
+    (xarray.Dataset, Verdict or None)
         The results and, when both models ran, the verdict.
     """
     ds = model_dataset(case, free, directions, "free")

@@ -11,7 +11,7 @@ from pathlib import Path
 import numpy as np
 
 from bemcheck.case.shapes import hash_body_files
-from bemcheck.compare import verdict_lines
+from bemcheck.compare import Verdict, verdict_lines
 from bemcheck.errors import BemcheckInputError
 from bemcheck.mesh import mesh_scene, plan_bands
 from bemcheck.mesh.estimate import check_mesh_size
@@ -21,6 +21,7 @@ from bemcheck.prebuild.check import before_build, harmonic_plan
 from bemcheck.results.combine import combine
 from bemcheck.results.dataset import run_attributes
 from bemcheck.results.files import RESULTS_FILE, SUMMARY_FILE, read_dataset, write_dataset, write_summary
+from bemcheck.results.verdict_summary import verdict_summary
 from bemcheck.run import tasks as bem_tasks
 from bemcheck.run.progress import COMPILE_HINT_S, Progress
 from bemcheck.run.store import PartStore, RunLock
@@ -34,13 +35,14 @@ MODELS = ("free", "both")
 
 @dataclass(frozen=True)
 class RunOutcome:
-    """Where a run wrote its files and its key figures."""
+    """Where a run wrote its files and its key figures; ``verdict`` is None unless both models ran."""
 
     folder: Path
     results: Path
     summary: dict
     verdict_lines: tuple = ()
     report: Path | None = None
+    verdict: Verdict | None = None
 
 
 def case_hash(case):
@@ -296,7 +298,7 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
     lines = tuple(verdict_lines(verdict)) if verdict else ()
     if build is not None:
         lines += build.lines
-    return RunOutcome(folder, results, json.loads(json.dumps(summary)), lines, report_path)
+    return RunOutcome(folder, results, json.loads(json.dumps(summary)), lines, report_path, verdict)
 
 
 def _write_report(case, folder, options, progress):
@@ -382,5 +384,5 @@ def build_summary(case, ds, fingerprint, verdict, metas):
             "attenuation_as_designed_error_db": [float(a) for a in ds["attenuation_as_designed_error_db"].values],
             "attenuation_reoptimised_error_db": [float(a) for a in ds["attenuation_reoptimised_error_db"].values],
         }
-        summary["verdict"] = verdict
+        summary["verdict"] = verdict_summary(verdict)
     return summary

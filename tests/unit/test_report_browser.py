@@ -17,6 +17,7 @@ from PIL import Image
 from bemcheck.report import html as report_html
 from bemcheck.report import tables, write_report
 from bemcheck.report.browser import CHROMIUM, check_page, chromium_path, print_pdf
+from bemcheck.results.verdict_summary import verdict_summary
 from tests.unit.test_report_figures import cube_mesh, floor_run, free_run
 
 pytestmark = pytest.mark.skipif(chromium_path() is None, reason=f"{CHROMIUM} not installed (Debian package 'chromium')")
@@ -26,7 +27,7 @@ pytestmark = pytest.mark.skipif(chromium_path() is None, reason=f"{CHROMIUM} not
 def floor_page(tmp_path_factory):
     case, ds, verdict = floor_run()
     folder = tmp_path_factory.mktemp("browser")
-    return write_report(folder, ds, {"verdict": json.loads(json.dumps(verdict))}, mesh=cube_mesh(), case=case)
+    return write_report(folder, ds, {"verdict": json.loads(json.dumps(verdict_summary(verdict)))}, mesh=cube_mesh(), case=case)
 
 
 def test_report_renders_with_every_image_loaded_and_a_quiet_console(floor_page, tmp_path):
@@ -82,7 +83,7 @@ def _pdf_text(path):
 @pytest.fixture(scope="module")
 def long_run():
     case, ds, verdict = floor_run(per_octave=6)
-    return case, ds, {"verdict": json.loads(json.dumps(verdict))}
+    return case, ds, {"verdict": json.loads(json.dumps(verdict_summary(verdict)))}
 
 
 def test_a_printed_report_holds_every_row_of_its_tables(long_run, tmp_path):

@@ -13,6 +13,7 @@ from bemcheck.compare import verdict_lines
 from bemcheck.errors import BemcheckInputError
 from bemcheck.report import records_rows, report_run, write_report
 from bemcheck.results.files import write_dataset, write_summary
+from bemcheck.results.verdict_summary import verdict_from_summary, verdict_summary
 from tests.unit.test_report_figures import PNG_MAGIC, cube_mesh, floor_run, free_run
 
 SECTIONS = ("summary", "verdict", "trust-limits", "attenuation", "figures", "mesh", "numerical-error", "case", "cautions")
@@ -26,7 +27,7 @@ BAND_STATS = [
 def floor_report(tmp_path_factory):
     case, ds, verdict = floor_run()
     folder = tmp_path_factory.mktemp("run")
-    summary = {"case_hash": ds.attrs["case_hash"], "verdict": json.loads(json.dumps(verdict))}
+    summary = {"case_hash": ds.attrs["case_hash"], "verdict": json.loads(json.dumps(verdict_summary(verdict)))}
     extra = [("Mesh per band", records_rows(BAND_STATS)), ("Driver checks", [("driver", "note"), ("D1 <x>", "ok & fine")])]
     path = write_report(folder, ds, summary, mesh=cube_mesh(), extra_sections=extra)
     return path, ds, summary
@@ -47,7 +48,7 @@ def test_report_holds_every_section_and_the_verdict_in_its_own_words(floor_repor
     # the page opens with the decision, the attenuation with its error beside it
     assert page.index('<section id="verdict">') < page.index('<section id="summary">')
     assert "±" in page.split('<section id="verdict">')[1].split("</section>")[0]
-    for line in verdict_lines(summary["verdict"]):
+    for line in verdict_lines(verdict_from_summary(summary["verdict"])):
         assert escape(line.strip(), quote=False) in page
     assert '<span class="badge fail">FAIL</span>' in page
     for sector in ("front", "rear"):

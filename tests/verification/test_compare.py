@@ -69,8 +69,8 @@ def test_no_scatterer_means_no_departure():
     assert not ds["trust_limit_found"].values.any()
     np.testing.assert_allclose(ds["attenuation_as_designed_db"], ds["attenuation_free_db"], rtol=1e-12)
     np.testing.assert_allclose(ds["attenuation_reoptimised_db"], ds["attenuation_free_db"], rtol=1e-12)
-    assert v["outcome"] == "PASS" and v["sectors"][0]["attenuation_limit_hz"] is None
-    assert all(f["trust_limit_hz"] is None for f in v["sectors"][0]["fields"].values())
+    assert v.outcome == "PASS" and v.sectors[0].attenuation_limit_hz is None
+    assert all(f.trust_limit_hz is None for f in v.sectors[0].fields)
 
 
 def test_trust_limit_matches_the_exact_image_solution():
@@ -108,9 +108,9 @@ def test_not_resolved_is_neither_agreement_nor_departure():
     and stops no trust limit (the issue's rule)."""
     case, (ds, v) = run_pair(zp=0.3, check_scale=50.0)
     assert not ds["trust_limit_found"].values.any()
-    assert v["sectors"][0]["field_not_resolved_at_hz"]
+    assert v.sectors[0].field_not_resolved_at_hz
     assert (ds["status"].values != 2).all()
-    assert v["outcome"] == "NOT RESOLVED"
+    assert v.outcome == "NOT RESOLVED"
 
 
 def test_power_as_designed_equals_half_re_qzq():

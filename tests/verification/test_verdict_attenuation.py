@@ -61,7 +61,7 @@ def test_a_weak_scatterer_passes():
     ds, v = exact_run(0.06, 0.4, 400.0)
     assert np.abs(ds["attenuation_as_designed_db"] - ds["attenuation_free_db"]).max() < 0.05
     np.testing.assert_allclose(ds["attenuation_free_db"].values[[0, 4, 8, 12]], [33.5, 29.5, 25.5, 21.5], atol=0.06)
-    assert v["outcome"] == "PASS" and v["first_departure_hz"] is None
+    assert v.outcome == "PASS" and v.first_departure_hz is None
 
 
 def test_a_strong_scatterer_fails_inside_the_band_not_at_its_bottom():
@@ -69,9 +69,9 @@ def test_a_strong_scatterer_fails_inside_the_band_not_at_its_bottom():
     falls short of the prediction by more than the tolerated 3 dB only where the prediction
     is no longer capped by the 10 dB target, i.e. inside the band; the bottom agrees."""
     ds, v = exact_run(0.3, 0.4, 1600.0)
-    assert v["outcome"] == "FAIL"
+    assert v.outcome == "FAIL"
     f = ds["frequency"].values
-    assert f[0] < v["first_departure_hz"] < f[-1]
+    assert f[0] < v.first_departure_hz < f[-1]
     assert (ds["status"].sel(signal="controlled").values[0] == 0).all()
 
 
@@ -251,11 +251,11 @@ def test_rules_of_thumb_say_what_each_length_is_and_where_it_falls():
     from bemcheck.compare import rules_of_thumb
 
     case = bemcheck.load_case(bemcheck.example_path("demo"))
-    rows = {(r["rule"], r["what"]): r for r in rules_of_thumb(case)}
+    rows = {(r.rule, r.what): r for r in rules_of_thumb(case)}
     bell = rows[("ka = 0.5", "bell")]
     a = np.hypot(0.09, 0.35)
-    assert bell["length_m"] == pytest.approx(a) and "bounding radius" in bell["length"]
-    assert bell["frequency_hz"] == pytest.approx(0.5 * 343.0 / (2 * np.pi * a)) and bell["in_band"] == "below the band"
+    assert bell.length_m == pytest.approx(a) and "bounding radius" in bell.length
+    assert bell.frequency_hz == pytest.approx(0.5 * 343.0 / (2 * np.pi * a)) and bell.in_band == "below the band"
     stand = rows[("kd = π", "ctl_stand")]
     d = np.linalg.norm(np.subtract(case.sources[4].position, case.sources[0].position))
-    assert stand["frequency_hz"] == pytest.approx(343.0 / (2 * d)) and stand["in_band"] == "above the band"
+    assert stand.frequency_hz == pytest.approx(343.0 / (2 * d)) and stand.in_band == "above the band"
