@@ -16,7 +16,8 @@ from bemcheck.compare.judgements import FAIL, PASS
 from bemcheck.errors import BemcheckInputError
 from bemcheck.report import tables
 from bemcheck.report.catalogue import catalogue_sections
-from bemcheck.report.figures import make_figures
+from bemcheck.report.figures import draw_figures, figure_inputs
+from bemcheck.report.registry import BEFORE_BUILD_SECTION, FIGURES_SECTION
 from bemcheck.report.signals import case_of, has_bem
 from bemcheck.results.files import SUMMARY_FILE, atomic_write_bytes, load_results
 from bemcheck.results.verdict_summary import verdict_from_summary
@@ -37,49 +38,6 @@ CAUTIONS = (
      "bemcheck compares two acoustic models of one layout. It verifies acoustics; it does not certify safety. "
      "For electrical installation, mounting, rigging and noise exposure, defer to local codes and licensed practice."),
 )
-
-CAPTIONS = {
-    "departure_map": "Level departure of the scattered field (BEM) from the free-field prediction over frequency and "
-                     "azimuth. Colour: 20 log10 |p_BEM/p_free|, linear within the tolerance and logarithmic beyond it, up to the "
-                     "largest departure (the colour bar says if it clips). Solid and dashed contours: the level tolerance. Grey: "
-                     "nulls of both models (not judged). Hatched: the departure is within the BEM's own error of the "
-                     "tolerance (refine the mesh to decide). Black bars: each sector's trust limit.",
-    "phase_map": "Phase departure of the scattered field (BEM) from the free-field prediction over frequency and "
-                 "azimuth, beside the level map: a trust limit can be set by either. Contours: the phase tolerance; "
-                 "grey, hatched and black bars as in the level map.",
-    "shortfall_map": "How far the controlled system's attenuation as designed, scattering included, falls short of "
-                     "what it must reach: the free-field prediction, capped by the target. Negative (blue): better "
-                     "than needed. Contour: the tolerated shortfall, beyond which a direction departs. Hatched: the "
-                     "BEM's own error cannot tell. Black bars: where the attenuation first surely falls short.",
-    "polar": "Sound pressure level at 1 m in the observers' plane at a few frequencies spread over the band (one "
-             "near the trust limit), each model a curve, the primaries at the case's strengths; the dotted curve is "
-             "the primaries alone with scattering (no control). One scale for every panel.",
-    "attenuation": "Attenuation of the radiated power by the control sources: as the free-field model predicts it, as "
-                   "the free-field design really gets it with the bodies scattering, and with the control strengths "
-                   "re-optimised for the scattered world.",
-    "departure_by_sector": "RMS (solid) and largest (dashed) |level departure| over each sector's directions, per "
-                           "signal; the shaded band is the tolerance. Ticks on the frequency axis: frequencies where "
-                           "the mesh cannot tell for the controlled system.",
-    "layout": "The meshed bodies with the sources and observer points, in perspective and projected across the "
-              "observers' plane.",
-    "volume_velocity": "Volume velocity (peak) each control loudspeaker must give at every harmonic of the notes "
-                       "played: filled markers as designed with the free-field model, open markers re-optimised with "
-                       "scattering (the free-field optimum again where the BEM did not solve that harmonic). Curves: "
-                       "what the loudspeaker in its closed box can give, within its excursion limit (Sd·xmax·ω) and "
-                       "at its rated power; shaded: beyond the lower of the two.",
-}
-
-# Figures shown in the before-build section rather than among the figures.
-BUILD_FIGURES = ("volume_velocity",)
-
-# A free-field run has no scattered curves; these captions replace the ones above.
-FREE_ONLY_CAPTIONS = {
-    "polar": "Sound pressure level at 1 m in the observers' plane at a few frequencies spread over the band, "
-             "free-field model only: the controlled system and the primaries alone (no control), the primaries at "
-             "the case's strengths. One scale for every panel.",
-    "attenuation": "Attenuation of the radiated power by the control sources as the free-field model predicts it "
-                   "(the BEM was not run).",
-}
 
 SCRIPT = (
     "window.addEventListener('load',function(){var im=document.images,ok=0;"
@@ -175,13 +133,14 @@ def _png_size(data):
     return int.from_bytes(data[16:20], "big"), int.from_bytes(data[20:24], "big")
 
 
-def _figure(name, path, bem):
-    data = Path(path).read_bytes()
-    mime = "image/svg+xml" if Path(path).suffix == ".svg" else "image/png"
+def _figure(drawn, bem):
+    """One drawn figure (:class:`~bemcheck.report.figures.DrawnFigure`) embedded with its registered caption."""
+    name, path = drawn.name, Path(drawn.path)
+    data = path.read_bytes()
+    mime = "image/svg+xml" if path.suffix == ".svg" else "image/png"
     size = _png_size(data)
     dims = f' width="{size[0]}" height="{size[1]}"' if size else ""
-    captions = CAPTIONS if bem else {**CAPTIONS, **FREE_ONLY_CAPTIONS}
-    caption = next((c for key, c in captions.items() if name.startswith(key)), "")
+    caption = drawn.spec.caption_for(bem)
     uri = f"data:{mime};base64,{base64.b64encode(data).decode()}"
     return (f'<figure id="fig-{escape(name)}"><img src="{uri}" alt="{escape(name.replace("_", " "))}"{dims}>'
             f"<figcaption><b>{_text(name.replace('_', ' '))}.</b> {_text(caption)} "
@@ -242,7 +201,7 @@ def _extra(extra_sections):
 
 def _build_body(build_sections, build_figures, bem):
     """The before-build section: its tables in order, the figures after the loudspeaker table."""
-    parts, figs = [], "\n".join(_figure(n, p, bem) for n, p in build_figures.items())
+    parts, figs = [], "\n".join(_figure(d, bem) for d in build_figures)
     for title, rows, notes in build_sections:
         parts += [f"<h3>{_text(title)}</h3>", _table(rows, scroll=len(rows) > 15)]
         parts += [_note(n) for n in notes]
@@ -254,8 +213,7 @@ def _build_body(build_sections, build_figures, bem):
     return "\n".join(parts)
 
 
-def render_report(ds, summary, figures, verdict=None, mesh=None, extra_sections=(), case_note="", build_sections=(),
-                  build_figures=None):
+def render_report(ds, summary, figures, verdict=None, mesh=None, extra_sections=(), case_note="", build_sections=()):
     """The report page as a string.
 
     Parameters
@@ -264,8 +222,9 @@ def render_report(ds, summary, figures, verdict=None, mesh=None, extra_sections=
         Results of the run (free-field only or both models).
     summary : dict
         The run's summary (``summary.json``): title, case hash, the before-build check.
-    figures : dict[str, Path]
-        From :func:`~bemcheck.report.figures.make_figures`; embedded in order.
+    figures : sequence of DrawnFigure
+        From :func:`~bemcheck.report.figures.draw_figures`; embedded in order,
+        each in the section its declaration names.
     verdict : Verdict, optional
         From :func:`bemcheck.compare.verdict`; None when only the free-field
         model ran (the page says so).
@@ -278,9 +237,7 @@ def render_report(ds, summary, figures, verdict=None, mesh=None, extra_sections=
         Why the case could not be re-read, if it could not.
     build_sections : sequence of (str, rows, notes)
         The before-build check (:func:`~bemcheck.report.tables.before_build_sections`),
-        shown as one section.
-    build_figures : dict[str, Path], optional
-        Figures shown in that section (after the loudspeaker table).
+        shown as one section with its figures after the loudspeaker table.
 
     Returns
     -------
@@ -296,8 +253,11 @@ def render_report(ds, summary, figures, verdict=None, mesh=None, extra_sections=
                                            "exceeds the tolerance.") if trust else
                      _note("Not computed: the BEM was not run.")))
     sections.append(("attenuation", "Power and attenuation per frequency", _table(tables.attenuation_rows(ds), scroll=True)))
-    figs = "\n".join(_figure(n, p, has_bem(ds)) for n, p in figures.items()) or _note("No figure could be drawn for this run.")
-    sections.append(("figures", "Figures", figs))
+    bem = has_bem(ds)
+    build_figures = [d for d in figures if d.spec.section == BEFORE_BUILD_SECTION]
+    shown = [d for d in figures if d.spec.section == FIGURES_SECTION]
+    figs = "\n".join(_figure(d, bem) for d in shown) or _note("No figure could be drawn for this run.")
+    sections.append((FIGURES_SECTION, "Figures", figs))
     mesh_body = _table(tables.mesh_rows(mesh)) if mesh is not None else _note(_no_mesh_text(ds))
     sections.append(("mesh", "Mesh", mesh_body))
     err = tables.numerical_error_rows(ds)
@@ -306,7 +266,7 @@ def render_report(ds, summary, figures, verdict=None, mesh=None, extra_sections=
     for i, (t, rows) in enumerate(_extra(extra_sections)):
         sections.append((f"extra-{i + 1}", t, _table(rows, scroll=len(rows) > 15) if rows else _note("nothing to show")))
     if build_sections or build_figures:
-        sections.append(("before-build", "Before build", _build_body(build_sections, build_figures or {}, has_bem(ds))))
+        sections.append((BEFORE_BUILD_SECTION, "Before build", _build_body(build_sections, build_figures, bem)))
     case_body = f'<pre class="case">{_text(a.get("case_text", ""))}</pre>' + (_note(case_note) if case_note else "")
     sections.append(("case", "Case file", case_body))
     cautions = "".join(f"<h3>{_text(h)}</h3><p>{_text(t)}</p>" for h, t in CAUTIONS)
@@ -383,12 +343,9 @@ def write_report(folder, ds, summary, mesh=None, extra_sections=(), case=None):
         case, note = case_of(ds)
     verdict = verdict_from_summary(summary["verdict"]) if summary.get("verdict") is not None else None
     tolerance_db = verdict.tolerance.level_db if verdict is not None else None
-    figures = make_figures(ds, folder / FIGURES_DIR, case=case, mesh=mesh, tolerance_db=tolerance_db)
-    build_figures = {n: p for n, p in figures.items() if n in BUILD_FIGURES}
-    figures = {n: p for n, p in figures.items() if n not in BUILD_FIGURES}
-    page = render_report(ds, summary, figures, verdict, mesh=mesh, extra_sections=extra, case_note=note,
-                         build_sections=tables.before_build_sections(summary) + catalogue_sections(summary),
-                         build_figures=build_figures)
+    drawn = draw_figures(figure_inputs(ds, case=case, mesh=mesh, tolerance_db=tolerance_db), folder / FIGURES_DIR)
+    page = render_report(ds, summary, drawn, verdict, mesh=mesh, extra_sections=extra, case_note=note,
+                         build_sections=tables.before_build_sections(summary) + catalogue_sections(summary))
     path = folder / REPORT_FILE
     atomic_write_bytes(path, page.encode("utf-8"))
     return path

@@ -14,6 +14,7 @@ from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.colors import LinearSegmentedColormap, SymLogNorm
 from matplotlib.figure import Figure
+from matplotlib.ticker import FixedLocator, FormatStrFormatter, NullFormatter
 
 from bemcheck.results.files import atomic_write_bytes
 
@@ -170,3 +171,14 @@ def departure_ticks(vmax, tol):
     series = [v for v in (1.0, 3.0, 10.0, 30.0) if 1.5 * tol <= v < 0.8 * vmax]
     pos = sorted({tol, *series, vmax})
     return [-v for v in reversed(pos)] + [0.0] + pos
+
+
+def frequency_axis(ax, f):
+    """Log frequency axis with plain-number ticks on a 1-2-5 series."""
+    ax.set_xscale("log")
+    decades = 10.0 ** np.arange(np.floor(np.log10(f.min())) - 1, np.ceil(np.log10(f.max())) + 1)
+    ticks = np.outer(decades, [1.0, 2.0, 5.0]).ravel()
+    ax.xaxis.set_major_locator(FixedLocator(ticks))
+    ax.xaxis.set_major_formatter(FormatStrFormatter("%g"))
+    ax.xaxis.set_minor_formatter(NullFormatter())
+    ax.set_xlabel("frequency [Hz]")
