@@ -177,13 +177,16 @@ def verdict(case, ds):
     attenuation = _power(ds, freqs) if controls else None
     if controls:
         judged_by = "attenuation"
-        candidates = [(s.attenuation_departs_from_hz, f"attenuation as designed in sector {s.sector}") for s in sectors]
+        candidates = [(s.attenuation_departs_from_hz, f"attenuation as designed in sector {s.sector}")
+                      for s in sectors]
         candidates.append((attenuation.as_designed.departs_from_hz, "power attenuation as designed"))
-        unresolved = any(s.attenuation_not_resolved_at_hz for s in sectors) or attenuation.as_designed.not_resolved_at_hz
+        unresolved = (any(s.attenuation_not_resolved_at_hz for s in sectors)
+                      or attenuation.as_designed.not_resolved_at_hz)
     else:
         judged_by = "field"
-        candidates = [(_first(freqs, ds["status"].values[:, :-1, in_sector(ds["azimuth_deg"].values, t.from_deg, t.to_deg)].max(axis=(1, 2))),
-                       f"a source's field in sector {s.sector}") for s, t in zip(sectors, tol.sectors)]
+        az = ds["azimuth_deg"].values
+        candidates = [(_first(freqs, ds["status"].values[:, :-1, in_sector(az, t.from_deg, t.to_deg)].max(axis=(1, 2))),
+                       f"a source's field in sector {s.sector}") for s, t in zip(sectors, tol.sectors, strict=True)]
         unresolved = any(s.field_not_resolved_at_hz for s in sectors)
     fails = sorted((f, why) for f, why in candidates if f is not None)
     outcome = FAIL if fails else UNRESOLVED if unresolved else PASS
@@ -270,7 +273,8 @@ def verdict_lines(v):
         lines.append(f"  sector {s.sector} ({s.from_deg:g} to {s.to_deg:g} deg): " + "; ".join(parts))
         pending = s.attenuation_not_resolved_at_hz if by_attenuation else s.field_not_resolved_at_hz
         if pending:
-            lines.append(f"    not resolved by the mesh at {', '.join(f'{f:.0f}' for f in pending)} Hz: refine there to decide")
+            at = ", ".join(f"{f:.0f}" for f in pending)
+            lines.append(f"    not resolved by the mesh at {at} Hz: refine there to decide")
     for row in v.decomposition or ():
         sm, ob = row.source_model, row.other_bodies
         lines.append(

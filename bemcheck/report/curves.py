@@ -67,7 +67,7 @@ def sector_figure(ds, tolerance_db=None):
     signals = [str(g) for g in ds["signal"].values]
     fig = style.new_figure(9.0, 1.2 + 2.4 * len(sectors))
     axes = fig.subplots(len(sectors), 1, sharex=True, squeeze=False)[:, 0]
-    for ax, sector in zip(axes, sectors):
+    for ax, sector in zip(axes, sectors, strict=True):
         ax.axhspan(0.0, tol, color=style.TOLERANCE_FILL, lw=0)
         for g, signal in enumerate(signals):
             emphasis = signal == CONTROLLED

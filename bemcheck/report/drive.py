@@ -67,7 +67,7 @@ def volume_velocity_figure(ds, case=None):
     axes = fig.subplots(rows, cols, squeeze=False).ravel()
     for ax in axes[len(controls):]:
         ax.set_visible(False)
-    for ax, j in zip(axes, controls):
+    for ax, j in zip(axes, controls, strict=False):
         f_c, q_x, q_w = _available_curves(ds, case, j, grid)
         shown = [designed[:, j], reopt[:, j], q_x, q_w]
         top = 3.0 * max(float(np.max(v)) for v in shown)
@@ -82,7 +82,7 @@ def volume_velocity_figure(ds, case=None):
                     label=f"{note}: required as designed")
             ax.plot(f_h[sel], reopt[sel, j], ls="none", marker=marker, ms=8, mfc="none", mew=1.3,
                     color=style.REOPTIMISED, label=f"{note}: required re-optimised")
-            for x, y, h in zip(f_h[sel], designed[sel, j], numbers[sel]):
+            for x, y, h in zip(f_h[sel], designed[sel, j], numbers[sel], strict=True):
                 ax.annotate(f"h{int(h)}", (x, y), xytext=(5, -9), textcoords="offset points", fontsize=7,
                             color=style.MUTED)
         ax.set_yscale("log")

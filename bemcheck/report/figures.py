@@ -71,7 +71,7 @@ def figure_inputs(ds, *, case=None, mesh=None, signals=None, frequencies=None, t
     if focus == CONTROLLED and primary_q is None:
         focus = str(ds["source"].values[list(ds["role"].values).index("primary")])
     if signals is None:
-        primaries = [str(s) for s, r in zip(ds["source"].values, ds["role"].values) if r == "primary"]
+        primaries = [str(s) for s, r in zip(ds["source"].values, ds["role"].values, strict=True) if r == "primary"]
         signals = ([CONTROLLED] if has_controls(ds) else []) + primaries
     known = [str(g) for g in ds["signal"].values] if has_bem(ds) else []
     if has_bem(ds) and any(g not in known for g in signals):
@@ -143,7 +143,8 @@ def make_figures(ds, out_dir, *, case=None, mesh=None, signals=None, frequencies
     Examples
     --------
     >>> import bemcheck, tempfile
-    >>> run = bemcheck.run_case(bemcheck.load_case(bemcheck.example_path("free-pair")), tempfile.mkdtemp(), model="free")
+    >>> case = bemcheck.load_case(bemcheck.example_path("free-pair"))
+    >>> run = bemcheck.run_case(case, tempfile.mkdtemp(), model="free")
     >>> sorted(make_figures(bemcheck.load_results(run.folder), run.folder / "figures"))
     ['attenuation', 'polar_controlled']
     """

@@ -133,7 +133,7 @@ def _runs(mask):
     out = []
     for i, row in enumerate(mask):
         d = np.diff(np.concatenate([[0], row.astype(int), [0]]))
-        out.extend((i, int(a), int(b)) for a, b in zip(np.nonzero(d == 1)[0], np.nonzero(d == -1)[0]))
+        out.extend((i, int(a), int(b)) for a, b in zip(np.nonzero(d == 1)[0], np.nonzero(d == -1)[0], strict=True))
     return out
 
 

@@ -14,9 +14,9 @@ Examples
 (<Need.PLANE_CIRCLE: 'three far-field directions in the observers plane'>,)
 """
 
+from collections.abc import Callable
 from dataclasses import dataclass
 from enum import Enum
-from typing import Callable
 
 from bemcheck.compare import CONTROLLED
 from bemcheck.report.curves import attenuation_figure, sector_figure

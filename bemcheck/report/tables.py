@@ -78,14 +78,16 @@ def decision_rows(verdict, before_build=None):
     before_build : dict, optional
         ``summary["before_build"]``: its go / no-go is the last row.
     """
-    rows = [("judged", "attenuation as designed", "first departure of a monopole field", "other bodies change a field by")]
+    rows = [("judged", "attenuation as designed", "first departure of a monopole field",
+             "other bodies change a field by")]
     worst_other = max(((d.other_bodies.max_level_db, d.source) for d in verdict.decomposition or ()), default=None)
     for s in verdict.sectors:
         limits = s.trusted_fields()
         first = limits[0] if limits else None
         rows.append((
             f"sector {s.sector} ({s.from_deg:g}° to {s.to_deg:g}°)",
-            _holds(s.attenuation_departs_from_hz, s.attenuation_not_resolved_at_hz) if verdict.attenuation else "no controls",
+            (_holds(s.attenuation_departs_from_hz, s.attenuation_not_resolved_at_hz) if verdict.attenuation
+             else "no controls"),
             f"{hz(first[0])}: {first[1]} ({first[2]})" if first else "none in the band",
             f"up to {db(worst_other[0])} ({worst_other[1]})" if worst_other else "-",
         ))
@@ -111,7 +113,8 @@ def verdict_attenuation_rows(verdict):
         b = x.band_db
         rows.append((label, _pm(b.mean, b.error_of_mean), db(b.min), db(b.max),
                      _pm(x.by_frequency_db[0], x.error_by_frequency_db[0])))
-    rows.append(("worst loss (predicted − as designed)", f"{db(a.worst_loss_db)} at {hz(a.worst_loss_at_hz)}", "", "", ""))
+    worst = f"{db(a.worst_loss_db)} at {hz(a.worst_loss_at_hz)}"
+    rows.append(("worst loss (predicted − as designed)", worst, "", "", ""))
     return rows
 
 
