@@ -9,8 +9,8 @@ import numpy as np
 from bemcheck.errors import BemcheckInputError
 from bemcheck.mesh.bands import plan_bands
 from bemcheck.mesh.estimate import check_mesh_size
-from bemcheck.mesh.quality import aspect_ratios
 from bemcheck.mesh.scene import mesh_scene
+from bemcheck.mesh.triangles import aspect_ratios
 
 
 @dataclass(frozen=True)
@@ -27,7 +27,7 @@ class BandStats:
     """What one band's mesh looks like.
 
     ``worst_aspect`` is the largest aspect ratio over the triangles
-    (:func:`bemcheck.mesh.quality.aspect_ratios`): 1 for an equilateral
+    (:func:`bemcheck.mesh.triangles.aspect_ratios`): 1 for an equilateral
     triangle, growing as triangles flatten.
     """
 
@@ -50,7 +50,7 @@ def mesh_stats(case, mesh, band, files=()):
         bodies.append(BodyStats(body.name, float(mesh.areas[mask].sum()),
                                 mesh.enclosed_volume(mask)))
     return BandStats(band, mesh.n_triangles, mesh.n_vertices, float(e.min()), float(e.max()),
-                     float(aspect_ratios(mesh).max()), tuple(bodies), tuple(files))
+                     float(aspect_ratios(e, mesh.areas).max()), tuple(bodies), tuple(files))
 
 
 def write_mesh(mesh, stem):

@@ -1,7 +1,8 @@
-"""Points and plane triangles: the nearest point of a triangle, and the solid angle it subtends.
+"""Points and plane triangles: the nearest point of a triangle, the solid angle it subtends, its aspect ratio.
 
-The one place for these two formulas; the mesher (distances, inside tests)
-and the solver (near-field quadrature, the double layer's jump) both use them.
+The one place for these formulas; the mesher (distances, inside tests, the
+band table of ``bemcheck mesh``), the solver (near-field quadrature, the
+double layer's jump) and the report's mesh table use them.
 """
 
 import numpy as np
@@ -117,3 +118,37 @@ def point_triangle_distance(points, corners):
     """
     corners = np.asarray(corners, dtype=float)
     return closest_points(np.asarray(points, dtype=float), corners[:, 0], corners[:, 1], corners[:, 2])[0]
+
+
+def aspect_ratios(edge_lengths, areas):
+    """Aspect ratio of each triangle: the longest edge over the shortest altitude, times √3/2.
+
+    aspect = (√3/2) l_max / h_min = √3 l_max² / (4 A), as h_min = 2 A / l_max:
+    1 for the equilateral triangle, √3 for the right isosceles one, growing
+    without bound as a triangle degenerates into a needle or a cap, and
+    independent of its size (the aspect ratio among the quality measures
+    surveyed by Shewchuk 2002, "What is a good linear finite element?
+    Interpolation, conditioning, anisotropy, and quality measures", sec. 6.3;
+    from memory).
+
+    Parameters
+    ----------
+    edge_lengths : (nt, 3) ndarray
+        Each triangle's edge lengths [m] (``SurfaceMesh.edge_lengths()``).
+    areas : (nt,) ndarray
+        Each triangle's area [m²] (``SurfaceMesh.areas``).
+
+    Returns
+    -------
+    (nt,) ndarray
+        Dimensionless; inf for a triangle of zero area.
+
+    Examples
+    --------
+    >>> aspect_ratios(np.array([[1.0, 1.0, 1.0], [1.0, 1.0, 2**0.5]]), np.array([3**0.5 / 4, 0.5])).round(12).tolist()
+    [1.0, 1.732050807569]
+    """
+    longest = np.asarray(edge_lengths, dtype=float).max(axis=1)
+    area = np.asarray(areas, dtype=float)
+    with np.errstate(divide="ignore"):
+        return np.where(area > 0.0, longest**2 * np.sqrt(3.0) / (4.0 * np.maximum(area, 1e-300)), np.inf)

@@ -30,19 +30,40 @@ def attenuation_figure(ds):
     ax.plot(f, predicted, color=style.FREE, lw=1.8, marker="o", ms=3, label="predicted by the free-field model")
     if has_bem(ds):
         designed = ds["attenuation_as_designed_db"].values
-        ax.fill_between(f, designed, predicted, where=predicted > designed, color=style.SCATTERED, alpha=0.15,
-                        lw=0, label="lost to scattering")
+        ax.fill_between(
+            f,
+            designed,
+            predicted,
+            where=predicted > designed,
+            color=style.SCATTERED,
+            alpha=0.15,
+            lw=0,
+            label="lost to scattering",
+        )
         ax.plot(f, designed, color=style.SCATTERED, lw=1.6, marker="s", ms=3, label="as designed, scattering included")
         error = ds["attenuation_as_designed_error_db"].values
-        ax.fill_between(f, designed - error, designed + error, color=style.SCATTERED, alpha=0.3, lw=0,
-                        label="± its numerical error")
-        ax.plot(f, ds["attenuation_reoptimised_db"].values, color=style.REOPTIMISED, lw=1.3, ls=(0, (5, 2)),
-                label="re-optimised with scattering")
+        ax.fill_between(
+            f, designed - error, designed + error, color=style.SCATTERED, alpha=0.3, lw=0, label="± its numerical error"
+        )
+        ax.plot(
+            f,
+            ds["attenuation_reoptimised_db"].values,
+            color=style.REOPTIMISED,
+            lw=1.3,
+            ls=(0, (5, 2)),
+            label="re-optimised with scattering",
+        )
         if bool(ds["attenuation_as_designed_limit_found"]):
             limit = float(ds["attenuation_as_designed_limit_hz"])
             ax.axvline(limit, color=style.INK, lw=0.9, ls=":")
-            ax.annotate("falls short", (limit, 1.0), xycoords=("data", "axes fraction"), xytext=(3, -10),
-                        textcoords="offset points", fontsize=7.5)
+            ax.annotate(
+                "falls short",
+                (limit, 1.0),
+                xycoords=("data", "axes fraction"),
+                xytext=(3, -10),
+                textcoords="offset points",
+                fontsize=7.5,
+            )
     ax.axhline(0.0, color=style.MUTED, lw=0.8)
     style.frequency_axis(ax, f)
     ax.set_ylabel("attenuation of radiated power [dB]")
@@ -79,8 +100,15 @@ def sector_figure(ds, tolerance_db=None):
             ax.plot(f, top, color=colour, lw=lw * 0.7, ls=(0, (4, 2)))
             unresolved = ds["not_resolved_fraction"].sel(sector=sector, signal=signal).values > 0
             if emphasis and unresolved.any():
-                ax.plot(f[unresolved], np.zeros(unresolved.sum()), ls="none", marker="|", ms=9, color=style.MUTED,
-                        clip_on=False)
+                ax.plot(
+                    f[unresolved],
+                    np.zeros(unresolved.sum()),
+                    ls="none",
+                    marker="|",
+                    ms=9,
+                    color=style.MUTED,
+                    clip_on=False,
+                )
         style.frequency_axis(ax, f)
         ax.set_yscale("symlog", linthresh=1.0)
         ax.set_ylim(0.0, max(10.0, 1.2 * float(ds["diffraction_max_db"].sel(sector=sector).max())))

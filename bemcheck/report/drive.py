@@ -22,8 +22,11 @@ def _available_curves(ds, case, j, grid):
     source = case.sources[j] if case is not None and j < len(case.sources) else None
     driver = next((d for d in case.drivers if source is not None and d.name == source.driver), None) if case else None
     if driver is not None:
-        return (grid, excursion_limited_volume_velocity(driver, grid),
-                volume_velocity_at_rated_power(driver, grid, case.medium))
+        return (
+            grid,
+            excursion_limited_volume_velocity(driver, grid),
+            volume_velocity_at_rated_power(driver, grid, case.medium),
+        )
     f = ds["harmonic_frequency"].values
     order = np.argsort(f, kind="stable")
     return (f[order], ds["q_available_excursion"].values[order, j], ds["q_available_rated_power"].values[order, j])
@@ -65,26 +68,44 @@ def volume_velocity_figure(ds, case=None):
     rows = -(-len(controls) // cols)
     fig = style.new_figure(6.8 if cols == 1 else 10.0, 0.9 + 3.1 * rows)
     axes = fig.subplots(rows, cols, squeeze=False).ravel()
-    for ax in axes[len(controls):]:
+    for ax in axes[len(controls) :]:
         ax.set_visible(False)
     for ax, j in zip(axes, controls, strict=False):
         f_c, q_x, q_w = _available_curves(ds, case, j, grid)
         shown = [designed[:, j], reopt[:, j], q_x, q_w]
         top = 3.0 * max(float(np.max(v)) for v in shown)
-        ax.fill_between(f_c, np.minimum(q_x, q_w), top, color=style.SCATTERED, alpha=0.10, lw=0,
-                        label="beyond the loudspeaker")
+        ax.fill_between(
+            f_c, np.minimum(q_x, q_w), top, color=style.SCATTERED, alpha=0.10, lw=0, label="beyond the loudspeaker"
+        )
         ax.plot(f_c, q_x, color=style.INK, lw=1.6, label="available within xmax (Sd·xmax·ω)")
         ax.plot(f_c, q_w, color=style.MUTED, lw=1.4, ls=(0, (5, 2)), label="available at rated power")
         for k, note in enumerate(dict.fromkeys(notes)):
             sel = np.array([n == note for n in notes]) & (designed[:, j] > 0)
             marker = _NOTE_MARKERS[k % len(_NOTE_MARKERS)]
-            ax.plot(f_h[sel], designed[sel, j], ls="none", marker=marker, ms=6, color=style.FREE,
-                    label=f"{note}: required as designed")
-            ax.plot(f_h[sel], reopt[sel, j], ls="none", marker=marker, ms=8, mfc="none", mew=1.3,
-                    color=style.REOPTIMISED, label=f"{note}: required re-optimised")
+            ax.plot(
+                f_h[sel],
+                designed[sel, j],
+                ls="none",
+                marker=marker,
+                ms=6,
+                color=style.FREE,
+                label=f"{note}: required as designed",
+            )
+            ax.plot(
+                f_h[sel],
+                reopt[sel, j],
+                ls="none",
+                marker=marker,
+                ms=8,
+                mfc="none",
+                mew=1.3,
+                color=style.REOPTIMISED,
+                label=f"{note}: required re-optimised",
+            )
             for x, y, h in zip(f_h[sel], designed[sel, j], numbers[sel], strict=True):
-                ax.annotate(f"h{int(h)}", (x, y), xytext=(5, -9), textcoords="offset points", fontsize=7,
-                            color=style.MUTED)
+                ax.annotate(
+                    f"h{int(h)}", (x, y), xytext=(5, -9), textcoords="offset points", fontsize=7, color=style.MUTED
+                )
         ax.set_yscale("log")
         floor = min(float(np.min(v[v > 0])) for v in shown if (v > 0).any())
         ax.set_ylim(floor / 3.0, top)
@@ -95,6 +116,11 @@ def volume_velocity_figure(ds, case=None):
         ax.set_title(f"{ds['source'].values[j]}" + (f" ({driver})" if driver else ""), fontsize=9)
     handles, labels = axes[0].get_legend_handles_labels()
     fig.legend(handles, labels, loc="outside lower center", ncol=min(len(labels), 3), fontsize=7.5)
-    fig.suptitle("Volume velocity per control loudspeaker: required at each harmonic against available",
-                 x=0.01, ha="left", fontsize=10, fontweight="bold")
+    fig.suptitle(
+        "Volume velocity per control loudspeaker: required at each harmonic against available",
+        x=0.01,
+        ha="left",
+        fontsize=10,
+        fontweight="bold",
+    )
     return fig

@@ -78,10 +78,12 @@ def figure_inputs(ds, *, case=None, mesh=None, signals=None, frequencies=None, t
         raise ValueError(f"signals: expected names among {', '.join(known)}, got {list(signals)}")
     if frequencies is None:
         frequencies = polar_frequencies(ds, focus)
-    tolerance = case.tolerance if case is not None else Tolerance(level_db=tolerance_db or Tolerance.level_db,
-                                                                  sectors=())
-    return registry.FigureInputs(ds, case, mesh, tolerance, tolerance_db, tuple(signals), focus,
-                                 tuple(frequencies), primary_q)
+    tolerance = (
+        case.tolerance if case is not None else Tolerance(level_db=tolerance_db or Tolerance.level_db, sectors=())
+    )
+    return registry.FigureInputs(
+        ds, case, mesh, tolerance, tolerance_db, tuple(signals), focus, tuple(frequencies), primary_q
+    )
 
 
 def draw_figures(inputs, out_dir, formats=style.FORMATS):
@@ -104,8 +106,9 @@ def draw_figures(inputs, out_dir, formats=style.FORMATS):
     return drawn
 
 
-def make_figures(ds, out_dir, *, case=None, mesh=None, signals=None, frequencies=None, tolerance_db=None,
-                 formats=style.FORMATS):
+def make_figures(
+    ds, out_dir, *, case=None, mesh=None, signals=None, frequencies=None, tolerance_db=None, formats=style.FORMATS
+):
     """Draw every figure a run supports and write them to ``out_dir``.
 
     Parameters
@@ -149,6 +152,7 @@ def make_figures(ds, out_dir, *, case=None, mesh=None, signals=None, frequencies
     ['attenuation', 'polar_controlled']
     """
     _check_formats(formats)
-    inputs = figure_inputs(ds, case=case, mesh=mesh, signals=signals, frequencies=frequencies,
-                           tolerance_db=tolerance_db)
+    inputs = figure_inputs(
+        ds, case=case, mesh=mesh, signals=signals, frequencies=frequencies, tolerance_db=tolerance_db
+    )
     return {d.name: d.path for d in draw_figures(inputs, out_dir, formats)}

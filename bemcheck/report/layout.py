@@ -91,7 +91,7 @@ def layout_figure(mesh, case=None):
     colours, base = _face_colours(mesh, 0.55 + 0.45 * np.clip(n @ (light / np.linalg.norm(light)), 0.0, 1.0))
     ax3.add_collection3d(Poly3DCollection(p, facecolors=colours, edgecolors=(0, 0, 0, 0.18), linewidths=0.15,
                                           rasterized=True))
-    for pos, mark, label in marks:
+    for pos, mark, _label in marks:
         ax3.scatter(*pos, depthshade=False, **mark)
     ax3.set_xlim(lo[0], hi[0])
     ax3.set_ylim(lo[1], hi[1])
@@ -112,7 +112,7 @@ def layout_figure(mesh, case=None):
     flat, _ = _face_colours(mesh, 0.5 + 0.5 * np.abs(n @ normal))
     ax2.add_collection(PolyCollection(p[order][:, :, [a, b]], facecolors=flat[order], edgecolors=(0, 0, 0, 0.12),
                                       linewidths=0.15, rasterized=True))
-    for pos, mark, label in marks:
+    for pos, mark, _label in marks:
         ax2.scatter(pos[a], pos[b], zorder=3, **mark)
     ax2.set_xlim(lo[a], hi[a])
     ax2.set_ylim(lo[b], hi[b])

@@ -32,12 +32,27 @@ def _circular_edges(az):
 # What a map can show: the values' variable, its tolerance's name in the case,
 # the colour bar's label, whether the tolerance is one-sided, the title.
 _MAPS = {
-    "level": ("level_departure_db", "level_db", "20 log10 |p_BEM / p_free| [dB]", False,
-              "Level departure, BEM vs free field"),
-    "phase": ("phase_departure_deg", "phase_deg", "phase of p_BEM / p_free [°]", False,
-              "Phase departure, BEM vs free field"),
-    "shortfall": (None, "attenuation_db", "min(predicted, target) − attenuation as designed [dB]", True,
-                  "Attenuation shortfall of the free-field design, scattering included"),
+    "level": (
+        "level_departure_db",
+        "level_db",
+        "20 log10 |p_BEM / p_free| [dB]",
+        False,
+        "Level departure, BEM vs free field",
+    ),
+    "phase": (
+        "phase_departure_deg",
+        "phase_deg",
+        "phase of p_BEM / p_free [°]",
+        False,
+        "Phase departure, BEM vs free field",
+    ),
+    "shortfall": (
+        None,
+        "attenuation_db",
+        "min(predicted, target) − attenuation as designed [dB]",
+        True,
+        "Attenuation shortfall of the free-field design, scattering included",
+    ),
 }
 
 
@@ -46,8 +61,10 @@ def _map_values(ds, quantity, signal, tolerance):
     name = _MAPS[quantity][0]
     if name is not None:
         return ds[name].sel(signal=signal).values
-    return (np.minimum(ds["directional_attenuation_predicted_db"].values, tolerance.attenuation_target_db)
-            - ds["directional_attenuation_as_designed_db"].values)
+    return (
+        np.minimum(ds["directional_attenuation_predicted_db"].values, tolerance.attenuation_target_db)
+        - ds["directional_attenuation_as_designed_db"].values
+    )
 
 
 def departure_map_figure(ds, signal=CONTROLLED, tolerance=None, sectors=(), quantity="level"):
@@ -96,8 +113,17 @@ def departure_map_figure(ds, signal=CONTROLLED, tolerance=None, sectors=(), quan
     x_edges, y_edges = _log_edges(f), _circular_edges(az)
     mesh = ax.pcolormesh(x_edges, y_edges, shown.T, cmap=style.DEPARTURE_CMAP, norm=norm, shading="flat")
     for i, j0, j1 in _runs(unresolved):
-        ax.add_patch(Rectangle((x_edges[i], y_edges[j0]), x_edges[i + 1] - x_edges[i], y_edges[j1] - y_edges[j0],
-                               fill=False, hatch="////", edgecolor=style.INK, linewidth=0.0))
+        ax.add_patch(
+            Rectangle(
+                (x_edges[i], y_edges[j0]),
+                x_edges[i + 1] - x_edges[i],
+                y_edges[j1] - y_edges[j0],
+                fill=False,
+                hatch="////",
+                edgecolor=style.INK,
+                linewidth=0.0,
+            )
+        )
     # Contours on the cell centres, with the circle closed on both sides.
     yy = np.concatenate([[az[-1] - 360.0], az, [az[0] + 360.0]])
     zz = np.ma.concatenate([shown[:, -1:], shown, shown[:, :1]], axis=1)
@@ -116,8 +142,11 @@ def departure_map_figure(ds, signal=CONTROLLED, tolerance=None, sectors=(), quan
     bar.set_ticks(style.departure_ticks(norm.vmax, tol))
     bar.ax.yaxis.set_major_formatter("{x:g}")
     bar.set_label(bar_label + (f"\n{clipped}" if clipped else ""))
-    contour = (f"+{tol:g}{unit}: falls short beyond the tolerated shortfall" if one_sided
-               else f"+{tol:g}{unit} (solid), −{tol:g}{unit} (dashed)")
+    contour = (
+        f"+{tol:g}{unit}: falls short beyond the tolerated shortfall"
+        if one_sided
+        else f"+{tol:g}{unit} (solid), −{tol:g}{unit} (dashed)"
+    )
     handles = [
         Line2D([], [], color=style.INK, lw=1.0, label=contour),
         Patch(facecolor=style.NULL_GREY, label="null in both models (not judged)"),
@@ -150,5 +179,13 @@ def _trust_marks(ax, ds, signal, y_edges, sectors):
         inside = in_sector(centres, sector.from_deg, sector.to_deg)
         for _, j0, j1 in _runs(inside[None, :]):
             ax.plot([x, x], [y_edges[j0], y_edges[j1]], color=style.INK, lw=3.0, solid_capstyle="butt")
-            ax.annotate(sector.name, (x, 0.5 * (y_edges[j0] + y_edges[j1])), xytext=(4, 0), textcoords="offset points",
-                        fontsize=7, color=style.INK, va="center", rotation=90)
+            ax.annotate(
+                sector.name,
+                (x, 0.5 * (y_edges[j0] + y_edges[j1])),
+                xytext=(4, 0),
+                textcoords="offset points",
+                fontsize=7,
+                color=style.INK,
+                va="center",
+                rotation=90,
+            )

@@ -120,61 +120,82 @@ _HATCH = "Hatched: the departure is within the BEM's own error of the tolerance 
 
 FIGURES = (
     FigureSpec(
-        "layout", lambda i, _: layout_figure(i.mesh, i.case),
+        "layout",
+        lambda i, _: layout_figure(i.mesh, i.case),
         "The meshed bodies with the sources and observer points, in perspective and projected across the "
         "observers' plane.",
-        needs=(Need.MESH,)),
+        needs=(Need.MESH,),
+    ),
     FigureSpec(
-        "shortfall_map", _map("shortfall"),
+        "shortfall_map",
+        _map("shortfall"),
         "How far the controlled system's attenuation as designed, scattering included, falls short of what it "
         "must reach: the free-field prediction, capped by the target. Negative (blue): better than needed. "
         "Contour: the tolerated shortfall, beyond which a direction departs. Hatched: the BEM's own error cannot "
         "tell. Black bars: where the attenuation first surely falls short.",
-        needs=(Need.BEM, Need.PLANE), per=Per.CONTROLLED),
+        needs=(Need.BEM, Need.PLANE),
+        per=Per.CONTROLLED,
+    ),
     FigureSpec(
-        "departure_map", _map("level"),
+        "departure_map",
+        _map("level"),
         "Level departure of the scattered field (BEM) from the free-field prediction over frequency and azimuth. "
         "Colour: 20 log10 |p_BEM/p_free|, linear within the tolerance and logarithmic beyond it, up to the largest "
         "departure (the colour bar says if it clips). Solid and dashed contours: the level tolerance. Grey: nulls "
         "of both models (not judged). " + _HATCH + "Black bars: each sector's trust limit.",
-        needs=(Need.BEM, Need.PLANE), per=Per.SOURCE),
+        needs=(Need.BEM, Need.PLANE),
+        per=Per.SOURCE,
+    ),
     FigureSpec(
-        "phase_map", _map("phase"),
+        "phase_map",
+        _map("phase"),
         "Phase departure of the scattered field (BEM) from the free-field prediction over frequency and azimuth, "
         "beside the level map: a trust limit can be set by either. Contours: the phase tolerance; grey, hatched "
         "and black bars as in the level map.",
-        needs=(Need.BEM, Need.PLANE), per=Per.SOURCE),
+        needs=(Need.BEM, Need.PLANE),
+        per=Per.SOURCE,
+    ),
     FigureSpec(
-        "departure_by_sector", lambda i, _: sector_figure(i.ds, i.tolerance_db),
+        "departure_by_sector",
+        lambda i, _: sector_figure(i.ds, i.tolerance_db),
         "RMS (solid) and largest (dashed) |level departure| over each sector's directions, per signal; the shaded "
         "band is the tolerance. Ticks on the frequency axis: frequencies where the mesh cannot tell for the "
         "controlled system.",
-        needs=(Need.BEM,)),
+        needs=(Need.BEM,),
+    ),
     FigureSpec(
-        "polar", lambda i, g: polar_figure(i.ds, g, i.frequencies, i.primary_q),
+        "polar",
+        lambda i, g: polar_figure(i.ds, g, i.frequencies, i.primary_q),
         "Sound pressure level at 1 m in the observers' plane at a few frequencies spread over the band (one near "
         "the trust limit), each model a curve, the primaries at the case's strengths; the dotted curve is the "
         "primaries alone with scattering (no control). One scale for every panel.",
-        needs=(Need.PLANE_CIRCLE,), per=Per.FOCUS,
+        needs=(Need.PLANE_CIRCLE,),
+        per=Per.FOCUS,
         free_caption="Sound pressure level at 1 m in the observers' plane at a few frequencies spread over the "
-                     "band, free-field model only: the controlled system and the primaries alone (no control), "
-                     "the primaries at the case's strengths. One scale for every panel."),
+        "band, free-field model only: the controlled system and the primaries alone (no control), "
+        "the primaries at the case's strengths. One scale for every panel.",
+    ),
     FigureSpec(
-        "attenuation", lambda i, _: attenuation_figure(i.ds),
+        "attenuation",
+        lambda i, _: attenuation_figure(i.ds),
         "Attenuation of the radiated power by the control sources: as the free-field model predicts it, as the "
         "free-field design really gets it with the bodies scattering, and with the control strengths "
         "re-optimised for the scattered world.",
         needs=(Need.CONTROLS,),
         free_caption="Attenuation of the radiated power by the control sources as the free-field model predicts "
-                     "it (the BEM was not run)."),
+        "it (the BEM was not run).",
+    ),
     FigureSpec(
-        "volume_velocity", lambda i, _: volume_velocity_figure(i.ds, i.case),
+        "volume_velocity",
+        lambda i, _: volume_velocity_figure(i.ds, i.case),
         "Volume velocity (peak) each control loudspeaker must give at every harmonic of the notes played: filled "
         "markers as designed with the free-field model, open markers re-optimised with scattering (the free-field "
         "optimum again where the BEM did not solve that harmonic). Curves: what the loudspeaker in its closed box "
         "can give, within its excursion limit (Sd·xmax·ω) and at its rated power; shaded: beyond the lower of "
         "the two.",
-        needs=(Need.DRIVERS,), section=BEFORE_BUILD_SECTION),
+        needs=(Need.DRIVERS,),
+        section=BEFORE_BUILD_SECTION,
+    ),
 )
 
 
@@ -208,7 +229,8 @@ def planned(inputs):
             block.append(spec)
             continue
         expand()
-        out.append((spec.name, spec, None) if spec.per is Per.RUN else
-                   (f"{spec.name}_{inputs.focus}", spec, inputs.focus))
+        out.append(
+            (spec.name, spec, None) if spec.per is Per.RUN else (f"{spec.name}_{inputs.focus}", spec, inputs.focus)
+        )
     expand()
     return [(name, spec, g) for name, spec, g in out if applies(spec, inputs)]

@@ -2,7 +2,7 @@
 
 import numpy as np
 
-from bemcheck.mesh.quality import aspect_ratios
+from bemcheck.mesh.triangles import aspect_ratios
 from bemcheck.report.layout import body_of_triangles
 from bemcheck.report.signals import has_bem, has_controls
 
@@ -195,7 +195,7 @@ def mesh_rows(mesh):
     """Per body of a :class:`~bemcheck.mesh.surface.SurfaceMesh`: triangles, edges, quality, area, volume."""
     bodies = body_of_triangles(mesh)
     edges = mesh.edge_lengths()
-    ratio = aspect_ratios(mesh)
+    ratio = aspect_ratios(edges, mesh.areas)
     area = mesh.areas
     rows = [("body", "triangles", "shortest edge", "longest edge", "worst aspect ratio", "area", "enclosed volume")]
     for b in dict.fromkeys(bodies):

@@ -56,9 +56,15 @@ def verdict_summary(v):
         "frequencies_hz": list(v.frequencies_hz),
         "sectors": [_sector_json(s) for s in v.sectors],
         "attenuation": None if v.attenuation is None else _attenuation_json(v.attenuation),
-        "decomposition": None if v.decomposition is None else {
-            d.source: {"source_model": _fields_json(d.source_model, _TERM),
-                       "other_bodies": _fields_json(d.other_bodies, _TERM)} for d in v.decomposition},
+        "decomposition": None
+        if v.decomposition is None
+        else {
+            d.source: {
+                "source_model": _fields_json(d.source_model, _TERM),
+                "other_bodies": _fields_json(d.other_bodies, _TERM),
+            }
+            for d in v.decomposition
+        },
         "rules_of_thumb": [_fields_json(r, _RULE) for r in v.rules_of_thumb],
     }
 
@@ -81,9 +87,12 @@ def verdict_from_summary(d):
             frequencies_hz=tuple(d["frequencies_hz"]),
             sectors=tuple(_sector_of(s) for s in d["sectors"]),
             attenuation=None if d["attenuation"] is None else _attenuation_of(d["attenuation"]),
-            decomposition=None if d["decomposition"] is None else tuple(
+            decomposition=None
+            if d["decomposition"] is None
+            else tuple(
                 SourceSplit(name, _term_of(row["source_model"]), _term_of(row["other_bodies"]))
-                for name, row in d["decomposition"].items()),
+                for name, row in d["decomposition"].items()
+            ),
             rules_of_thumb=tuple(RuleOfThumb(**{k: r[k] for k in _RULE}) for r in d["rules_of_thumb"]),
         )
     except KeyError as exc:
@@ -114,9 +123,17 @@ def _term_of(d):
 
 def _sector_json(s):
     out = {
-        "sector": s.sector, "from_deg": s.from_deg, "to_deg": s.to_deg,
-        "fields": {f.source: {"trust_limit_hz": f.trust_limit_hz, "set_by": f.set_by,
-                              "worst_departure_db": f.worst_departure_db} for f in s.fields},
+        "sector": s.sector,
+        "from_deg": s.from_deg,
+        "to_deg": s.to_deg,
+        "fields": {
+            f.source: {
+                "trust_limit_hz": f.trust_limit_hz,
+                "set_by": f.set_by,
+                "worst_departure_db": f.worst_departure_db,
+            }
+            for f in s.fields
+        },
         "attenuation_limit_hz": s.attenuation_limit_hz,
         "attenuation_departs_from_hz": s.attenuation_departs_from_hz,
         "attenuation_not_resolved_at_hz": list(s.attenuation_not_resolved_at_hz),
@@ -125,11 +142,17 @@ def _sector_json(s):
     }
     m = s.mean_square
     if m is not None:
-        worlds = {"predicted": m.predicted, "own_body": m.own_body, "as_designed": m.as_designed,
-                  "reoptimised": m.reoptimised}
+        worlds = {
+            "predicted": m.predicted,
+            "own_body": m.own_body,
+            "as_designed": m.as_designed,
+            "reoptimised": m.reoptimised,
+        }
         out["mean_square_attenuation_db"] = {w: list(worlds[w]) for w in WORLDS if worlds[w] is not None}
-        out["mean_square_attenuation_error_db"] = {"as_designed": list(m.as_designed_error),
-                                                   "reoptimised": list(m.reoptimised_error)}
+        out["mean_square_attenuation_error_db"] = {
+            "as_designed": list(m.as_designed_error),
+            "reoptimised": list(m.reoptimised_error),
+        }
     return out
 
 
@@ -138,13 +161,22 @@ def _sector_of(d):
     if "mean_square_attenuation_db" in d:
         ms, err = d["mean_square_attenuation_db"], d["mean_square_attenuation_error_db"]
         own = ms.get("own_body")
-        mean_square = SectorAttenuation(tuple(ms["predicted"]), None if own is None else tuple(own),
-                                        tuple(ms["as_designed"]), tuple(ms["reoptimised"]),
-                                        tuple(err["as_designed"]), tuple(err["reoptimised"]))
+        mean_square = SectorAttenuation(
+            tuple(ms["predicted"]),
+            None if own is None else tuple(own),
+            tuple(ms["as_designed"]),
+            tuple(ms["reoptimised"]),
+            tuple(err["as_designed"]),
+            tuple(err["reoptimised"]),
+        )
     return SectorJudgement(
-        sector=d["sector"], from_deg=d["from_deg"], to_deg=d["to_deg"],
-        fields=tuple(FieldTrust(name, f["trust_limit_hz"], f["set_by"], f["worst_departure_db"])
-                     for name, f in d["fields"].items()),
+        sector=d["sector"],
+        from_deg=d["from_deg"],
+        to_deg=d["to_deg"],
+        fields=tuple(
+            FieldTrust(name, f["trust_limit_hz"], f["set_by"], f["worst_departure_db"])
+            for name, f in d["fields"].items()
+        ),
         attenuation_limit_hz=d["attenuation_limit_hz"],
         attenuation_departs_from_hz=d["attenuation_departs_from_hz"],
         attenuation_not_resolved_at_hz=tuple(d["attenuation_not_resolved_at_hz"]),
@@ -155,14 +187,25 @@ def _sector_of(d):
 
 
 def _design_json(x):
-    return {"band_db": _band_json(x.band_db), "by_frequency_db": list(x.by_frequency_db),
-            "error_by_frequency_db": list(x.error_by_frequency_db), "departs_from_hz": x.departs_from_hz,
-            "limit_hz": x.limit_hz, "not_resolved_at_hz": list(x.not_resolved_at_hz)}
+    return {
+        "band_db": _band_json(x.band_db),
+        "by_frequency_db": list(x.by_frequency_db),
+        "error_by_frequency_db": list(x.error_by_frequency_db),
+        "departs_from_hz": x.departs_from_hz,
+        "limit_hz": x.limit_hz,
+        "not_resolved_at_hz": list(x.not_resolved_at_hz),
+    }
 
 
 def _design_of(d):
-    return DesignJudgement(_band_of(d["band_db"]), tuple(d["by_frequency_db"]), tuple(d["error_by_frequency_db"]),
-                           d["departs_from_hz"], d["limit_hz"], tuple(d["not_resolved_at_hz"]))
+    return DesignJudgement(
+        _band_of(d["band_db"]),
+        tuple(d["by_frequency_db"]),
+        tuple(d["error_by_frequency_db"]),
+        d["departs_from_hz"],
+        d["limit_hz"],
+        tuple(d["not_resolved_at_hz"]),
+    )
 
 
 def _attenuation_json(a):
@@ -174,5 +217,10 @@ def _attenuation_json(a):
 
 
 def _attenuation_of(d):
-    return AttenuationJudgement(_band_of(d["predicted_db"]), tuple(d["predicted_by_frequency_db"]),
-                                *(_design_of(d[k]) for k in _DESIGNS), d["worst_loss_db"], d["worst_loss_at_hz"])
+    return AttenuationJudgement(
+        _band_of(d["predicted_db"]),
+        tuple(d["predicted_by_frequency_db"]),
+        *(_design_of(d[k]) for k in _DESIGNS),
+        d["worst_loss_db"],
+        d["worst_loss_at_hz"],
+    )

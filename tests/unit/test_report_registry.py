@@ -59,13 +59,16 @@ def test_the_page_embeds_exactly_the_registered_figures_that_apply(run, tmp_path
 def test_adding_a_figure_is_one_declaration(tmp_path, monkeypatch):
     """A declaration appended to the registry is drawn, embedded and captioned with no
     other edit; one that needs the BEM is left out of a free-field run."""
+
     def draw(inputs, _):
         fig = new_figure(3.0, 2.0)
         fig.add_subplot().plot(inputs.ds["frequency"].values, inputs.ds["attenuation_free_db"].values)
         return fig
 
-    extra = (registry.FigureSpec("extra_curve", draw, "An added curve, for the test."),
-             registry.FigureSpec("extra_bem", draw, "Needs the BEM.", needs=(registry.Need.BEM,)))
+    extra = (
+        registry.FigureSpec("extra_curve", draw, "An added curve, for the test."),
+        registry.FigureSpec("extra_bem", draw, "Needs the BEM.", needs=(registry.Need.BEM,)),
+    )
     monkeypatch.setattr(registry, "FIGURES", registry.FIGURES + extra)
     case, ds = free_run()
     page = write_report(tmp_path, ds, {}, case=case).read_text(encoding="utf-8")

@@ -42,8 +42,12 @@ def test_a_split_verdict_survives_too():
     assert v.decomposition and v.sectors[0].mean_square.own_body is not None
     summary = json.loads(json.dumps(verdict_summary(v)))
     assert set(summary["decomposition"]) == {s.name for s in case.sources}
-    assert list(summary["sectors"][0]["mean_square_attenuation_db"]) == ["predicted", "own_body", "as_designed",
-                                                                           "reoptimised"]
+    assert list(summary["sectors"][0]["mean_square_attenuation_db"]) == [
+        "predicted",
+        "own_body",
+        "as_designed",
+        "reoptimised",
+    ]
     assert verdict_from_summary(summary) == v
 
 
