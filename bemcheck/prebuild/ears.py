@@ -86,9 +86,8 @@ def ear_summary(ears):
         out.append({
             "note": note, "points": list(e.points), "models": list(e.models), "limit_dba": e.limit_dba,
             "frequency_hz": [float(f) for f in e.frequencies],
-            "dba_without": [float(v) for v in e.dba_without], "dba_with": [float(v) for v in e.dba_with],
-            "dba_instrument": [float(v) for v in e.dba_without], "dba_controls": [float(v) for v in e.dba_controls],
-            "dba_total": [float(v) for v in e.dba_with],
+            "instrument_dba": [float(v) for v in e.dba_without], "controls_dba": [float(v) for v in e.dba_controls],
+            "total_dba": [float(v) for v in e.dba_with],
             "spl_instrument_db": e.spl_without.tolist(), "spl_controls_db": e.spl_controls.tolist(),
             "spl_total_db": e.spl_with.tolist(),
             "raised_by_control": [bool(v) for v in e.raised_by_control],

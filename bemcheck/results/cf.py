@@ -14,6 +14,7 @@ number, sec. 3.1.1), ``long_name`` (sec. 3.2), ``flag_values`` with
 
 import datetime
 import itertools
+import re
 import string
 from dataclasses import dataclass, field
 from importlib.metadata import version
@@ -228,9 +229,9 @@ def markdown_rows(schema):
     rows = []
     for v in schema.variables:
         name = f"`{v.pattern()}`" + (" (coordinate)" if v.coordinate else "")
-        meaning = v.long_name.format(**{c.key: f"<{c.key}>" for c in v.choices})
+        meaning = v.long_name.format(**{c.key: f"`<{c.key}>`" for c in v.choices})
         for c in v.choices:
-            meaning += f"; `<{c.key}>`: " + ", ".join(f"`{value}`" for value, _ in c.options)
+            meaning += f"; `<{c.key}>`: " + ", ".join(f"`{value}` {phrase}" for value, phrase in c.options)
         if v.flags is not None:
             meaning += "; flags: " + ", ".join(f"{val} {m}" for val, m in zip(v.flags.values, v.flags.meanings))
         if v.bounds:
@@ -243,3 +244,23 @@ def markdown_rows(schema):
 def markdown_table(schema):
     """The README table of ``schema``'s variables, header included."""
     return "\n".join(["| variable | dims | units | meaning |", "|---|---|---|---|", *markdown_rows(schema)])
+
+
+TABLE_BLOCK = re.compile(r"(<!-- schema:(?P<file>[\w.]+) -->\n)(?P<table>.*?)(<!-- /schema -->)", re.S)
+
+
+def fill_tables(text, schemas):
+    r"""``text`` with every ``<!-- schema:FILE -->`` ... ``<!-- /schema -->`` block holding FILE's table.
+
+    Examples
+    --------
+    >>> s = Schema("a.nc", (Variable("x", ("x",), "position", "m", coordinate=True),))
+    >>> print(fill_tables("<!-- schema:a.nc -->\nold\n<!-- /schema -->", [s]))
+    <!-- schema:a.nc -->
+    | variable | dims | units | meaning |
+    |---|---|---|---|
+    | `x` (coordinate) | x | m | position |
+    <!-- /schema -->
+    """
+    by_file = {s.file: s for s in schemas}
+    return TABLE_BLOCK.sub(lambda m: m.group(1) + markdown_table(by_file[m.group("file")]) + "\n" + m.group(4), text)

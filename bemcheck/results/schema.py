@@ -272,3 +272,4 @@ EXPLORE = Schema("explore.nc", (
              "frequencies (mean of dB)", DB),
     Variable("unknowns", (F,), "BEM unknowns N of the band mesh", "1"),
 ))
+

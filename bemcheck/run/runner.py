@@ -376,10 +376,10 @@ def build_summary(case, ds, fingerprint, verdict, metas):
             "device": ds.attrs.get("device"),
             "elements": [int(m["elements"]) for m in metas],
             "elements_per_wavelength": [float(m["elements_per_wavelength"]) for m in metas],
-            "seconds_per_frequency": [float(m.get("seconds", 0.0)) for m in metas],
+            "solve_time_s": [float(m.get("seconds", 0.0)) for m in metas],
             "attenuation_reoptimised_db": [float(a) for a in ds["attenuation_reoptimised_db"].values],
             "attenuation_as_designed_db": [float(a) for a in ds["attenuation_as_designed_db"].values],
-            "numerical_error_db_max": float(ds["numerical_error_db"].max()),
+            "numerical_error_max_db": float(ds["numerical_error_db"].max()),
             "attenuation_as_designed_error_db": [float(a) for a in ds["attenuation_as_designed_error_db"].values],
             "attenuation_reoptimised_error_db": [float(a) for a in ds["attenuation_reoptimised_error_db"].values],
         }
