@@ -122,8 +122,8 @@ class Variable:
         """Every (name, attributes) this declaration stands for."""
         out = []
         for combo in itertools.product(*(c.options for c in self.choices)):
-            values = {c.key: v for c, (v, _) in zip(self.choices, combo)}
-            phrases = {c.key: p for c, (_, p) in zip(self.choices, combo)}
+            values = {c.key: v for c, (v, _) in zip(self.choices, combo, strict=True)}
+            phrases = {c.key: p for c, (_, p) in zip(self.choices, combo, strict=True)}
             attrs = {"long_name": self.long_name.format(**phrases)}
             if self.units is not None:
                 attrs["units"] = self.units
@@ -204,12 +204,12 @@ def global_attributes(title, command, now=None):
 
     Examples
     --------
-    >>> a = global_attributes("A case", "run", datetime.datetime(2020, 1, 2, tzinfo=datetime.timezone.utc))
+    >>> a = global_attributes("A case", "run", datetime.datetime(2020, 1, 2, tzinfo=datetime.UTC))
     >>> a["history"].startswith("2020-01-02T00:00:00Z: bemcheck run"), a["Conventions"]
     (True, 'CF-1.10')
     """
-    now = now or datetime.datetime.now(datetime.timezone.utc)
-    stamp = now.astimezone(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+    now = now or datetime.datetime.now(datetime.UTC)
+    stamp = now.astimezone(datetime.UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
     release = version("bemcheck")
     return {
         "Conventions": CONVENTIONS,
@@ -233,7 +233,8 @@ def markdown_rows(schema):
         for c in v.choices:
             meaning += f"; `<{c.key}>`: " + ", ".join(f"`{value}` {phrase}" for value, phrase in c.options)
         if v.flags is not None:
-            meaning += "; flags: " + ", ".join(f"{val} {m}" for val, m in zip(v.flags.values, v.flags.meanings))
+            pairs = zip(v.flags.values, v.flags.meanings, strict=True)
+            meaning += "; flags: " + ", ".join(f"{val} {m}" for val, m in pairs)
         if v.bounds:
             meaning += f"; bounds in `{v.bounds}`"
         units = v.units if v.units is not None else "–"

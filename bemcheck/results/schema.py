@@ -23,7 +23,8 @@ Examples
 """
 
 from bemcheck.compare.trust import AGREES, DEPARTS, NOT_RESOLVED
-from bemcheck.results.cf import BOOLEAN, DECIBEL as DB, Choice, Flags, Schema, Variable
+from bemcheck.results.cf import BOOLEAN, Choice, Flags, Schema, Variable
+from bemcheck.results.cf import DECIBEL as DB
 
 STATUS = Flags((AGREES, NOT_RESOLVED, DEPARTS), ("agrees", "not_resolved", "departs"))
 
