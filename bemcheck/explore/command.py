@@ -7,6 +7,7 @@ run``), ``layout_free.toml`` (the one the free-field model picks) and
 ``explore.html``.  Bad input is refused before anything is written.
 """
 
+import re
 import time
 from dataclasses import dataclass
 from pathlib import Path
@@ -118,7 +119,7 @@ def explore_case(case, out_dir, cache_dir=None, progress=None):
         lines = _lines(case, kept, solves, choices, seconds)
         attrs = {**global_attributes(f"{case.title}: exploration", "explore"),
                  "case_title": case.title, "candidates_given": kept.total, "candidates_kept": len(kept.positions),
-                 **{f"dropped {reason}": n for reason, n in kept.dropped.items()},
+                 **{"dropped_" + re.sub(r"\W+", "_", reason): n for reason, n in kept.dropped.items()},
                  "controls_chosen": case.explore.controls, "fixed_controls": ", ".join(case.explore.fixed) or "none",
                  "band_average": "mean over the case's frequencies of the attenuation in dB",
                  "objective": "minimum total radiated power, strengths optimal in each model"}

@@ -13,6 +13,7 @@ number, sec. 3.1.1), ``long_name`` (sec. 3.2), ``flag_values`` with
 """
 
 import datetime
+import functools
 import itertools
 import re
 import string
@@ -161,18 +162,17 @@ class Schema:
         if twice:
             raise SchemaError(f"{self.file}: declared more than once: {', '.join(twice)}")
 
+    @functools.cached_property
+    def _index(self):
+        return {n: (v, attrs) for v in self.variables for n, attrs in v.expand()}
+
     def lookup(self, name):
         """(Variable, attributes) declared for ``name``; SchemaError if none is."""
-        for v in self.variables:
-            for n, attrs in v.expand():
-                if n == name:
-                    return v, attrs
-        raise SchemaError(f"{self.file}: variable {name!r} is not declared in bemcheck/results/schema.py; "
-                          "declare it there (name, dims, units, long_name) before writing it")
-
-    def names(self):
-        """Every declared name, placeholders filled."""
-        return [n for v in self.variables for n, _ in v.expand()]
+        try:
+            return self._index[name]
+        except KeyError:
+            raise SchemaError(f"{self.file}: variable {name!r} is not declared in bemcheck/results/schema.py; "
+                              "declare it there (name, dims, units, long_name) before writing it") from None
 
 
 def annotate(ds, schema):

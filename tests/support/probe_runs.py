@@ -4,7 +4,8 @@ The case has no bodies (so the BEM path runs without a mesh, in seconds) but
 everything else that adds a variable: a primary and a control with a
 driver, a played note, an observer point, placement and channel tolerances,
 two sectors (one wrapping through 0°) and explore candidates. Runs: the
-free-field model alone, both models, and ``bemcheck explore``.
+free-field model alone, both models, and ``bemcheck explore``; and the
+shipped example ``free-pair`` with both models.
 """
 
 import atexit
@@ -66,11 +67,15 @@ points = [[0.0, 0.3, 0.0], [0.0, -0.3, 0.0], [0.2, 0.2, 0.0]]
 
 @dataclass(frozen=True)
 class ProbeRuns:
-    """The run folders: ``free`` (free-field model only), ``both`` (both models), ``explore``."""
+    """The run folders: ``free`` (free-field model only), ``both`` (both models), ``explore``, ``example``.
+
+    ``summaries`` maps "free", "both" and "example" to the run's summary.json content.
+    """
 
     free: Path
     both: Path
     explore: Path
+    example: Path
     summaries: dict
 
 
@@ -85,7 +90,9 @@ def probe_runs():
     summaries = {}
     for model in ("free", "both"):
         summaries[model] = bemcheck.run_case(case, root / model, model=model, quiet=True).summary
+    example = bemcheck.load_case(bemcheck.example_path("free-pair"))
+    summaries["example"] = bemcheck.run_case(example, root / "example", model="both", quiet=True).summary
     if main(["explore", str(case_file), "--out", str(root / "explore"), "--mesh-cache", str(root / "cache"),
              "--quiet"]) != 0:
         raise RuntimeError("bemcheck explore failed on the probe case")
-    return ProbeRuns(root / "free", root / "both", root / "explore", summaries)
+    return ProbeRuns(root / "free", root / "both", root / "explore", root / "example", summaries)

@@ -92,7 +92,7 @@ def _number_keys(node, key="", parent=""):
     return []
 
 
-@pytest.mark.parametrize("model", ["free", "both"])
+@pytest.mark.parametrize("model", ["free", "both", "example"])
 def test_summary_keys_name_their_units(model):
     """A number in summary.json sits under a key ending in its unit, or is a count or ratio;
     the members of an object under a key with a unit (min, mean, max, ...) are in that unit

@@ -5,7 +5,7 @@ Conventions, version 1.10; the section of each check is named beside it.
 Units are parsed by UDUNITS-2 (Unidata) through the cf-units package. Each
 file is read as written (h5netcdf, no decoding), from the probe runs of
 :mod:`tests.support.probe_runs`: the free-field model alone, both models,
-and ``bemcheck explore``.
+``bemcheck explore``, and the shipped example free-pair with both models.
 """
 
 import re
@@ -19,9 +19,12 @@ from bemcheck.results.cf import DECIBEL
 from bemcheck.results.schema import EXPLORE, RESULTS
 from tests.support.probe_runs import probe_runs
 
-FILES = {"free": ("results.nc", RESULTS), "both": ("results.nc", RESULTS), "explore": ("explore.nc", EXPLORE)}
+FILES = {"free": ("results.nc", RESULTS), "both": ("results.nc", RESULTS), "explore": ("explore.nc", EXPLORE),
+         "example": ("results.nc", RESULTS)}
 # CF 1.10 sec. 3.5: flag meanings are words of alphanumerics and _ - . + @
 FLAG_WORD = re.compile(r"^[A-Za-z0-9_.+@-]+$")
+# CF 1.10 sec. 2.3: names begin with a letter and hold letters, digits and underscores
+NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
 
 
 def _file(run):
@@ -48,6 +51,17 @@ def test_global_attributes(run):
         for key in ("title", "history", "source"):
             assert isinstance(f.attrs[key], str) and f.attrs[key].strip(), key
         assert "coordinates" not in f.attrs
+
+
+@pytest.mark.parametrize("run", list(FILES))
+def test_names_are_letters_digits_and_underscores(run):
+    """CF 1.10 sec. 2.3: variable, dimension and attribute names begin with a letter and hold
+    letters, digits and underscores (names the netCDF User Guide reserves begin with _)."""
+    f, _ = _file(run)
+    with f:
+        names = [*f.variables, *f.dimensions, *f.attrs]
+        names += [a for v in f.variables.values() for a in v.attrs]
+    assert [n for n in names if not (NAME.match(n) or n.startswith("_"))] == []
 
 
 @pytest.mark.parametrize("run", list(FILES))
