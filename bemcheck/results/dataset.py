@@ -47,12 +47,13 @@ def model_dataset(case, responses, directions, model):
     q_all = np.array([full_strengths(case, q) for q in q_c])
     q_primary_only = full_strengths(case, np.zeros(len(controls)))
     w_primary = np.array([r.power(q_primary_only) for r in responses])
-    w_controlled = np.array([r.power(q) for r, q in zip(responses, q_all)])
+    w_controlled = np.array([r.power(q) for r, q in zip(responses, q_all, strict=True)])
     q_control_full = np.zeros((len(responses), len(case.sources)), dtype=complex)
     q_control_full[:, controls] = q_c
+    points = np.array([r.points.T for r in responses]).reshape(len(responses), len(case.sources), -1)
     data = {
         f"p_{model}": (("frequency", "source", "direction"), np.array([r.far_field.T for r in responses])),
-        f"p_{model}_points": (("frequency", "source", "point"), np.array([r.points.T for r in responses]).reshape(len(responses), len(case.sources), -1)),
+        f"p_{model}_points": (("frequency", "source", "point"), points),
         f"z_{model}": (("frequency", "at_source", "source"), np.array([r.impedance for r in responses])),
         f"power_{model}_primary": (("frequency",), w_primary),
         f"q_control_{model}": (("frequency", "source"), q_control_full),
