@@ -2,7 +2,7 @@
 
 The case has no bodies (so the BEM path runs without a mesh, in seconds) but
 everything else that adds a variable: a primary and a control with a
-driver, a played note, an observer point, placement and channel tolerances,
+driver fed by an amplifier, a catalogue driver no control names, a played note, an observer point, placement and channel tolerances,
 two sectors (one wrapping through 0°) and explore candidates. Runs: the
 free-field model alone, both models, and ``bemcheck explore``; and the
 shipped example ``free-pair`` with both models.
@@ -46,6 +46,22 @@ sd = 0.0133
 xmax = 0.005
 vb = 0.020
 rated_power = 50.0
+[[driver]]
+name = "spare"
+re = 6.0
+bl = 3.0
+mms = 0.003
+cms = 0.0005
+rms = 0.5
+sd = 0.0015
+xmax = 0.0005
+vb = 0.0005
+rated_power = 2.0
+[[amplifier]]
+name = "amp"
+rated_voltage_rms = 20.0
+rated_current_rms = 5.0
+controls = ["c"]
 [[note]]
 name = "low"
 fundamental = 100.0
@@ -62,6 +78,7 @@ points = [ { name = "ear", at = [-0.3, 0.1, 0.0] } ]
 sectors = [ { name = "front", from_deg = 300.0, to_deg = 420.0 }, { name = "all", from_deg = 0.0, to_deg = 360.0 } ]
 [explore]
 points = [[0.0, 0.3, 0.0], [0.0, -0.3, 0.0], [0.2, 0.2, 0.0]]
+fixed = ["c"]
 """
 
 
