@@ -182,37 +182,35 @@ def compare(case, directions, models):
         "source": ("source", [s.name for s in case.sources]),
         "at_source": ("at_source", [s.name for s in case.sources]),
         "direction": np.arange(len(directions)),
-        "azimuth_deg": ("direction", directions.azimuth_deg, {"units": "degree"}),
-        "elevation_deg": ("direction", directions.elevation_deg, {"units": "degree"}),
+        "azimuth_deg": ("direction", directions.azimuth_deg),
+        "elevation_deg": ("direction", directions.elevation_deg),
         "point": [p.name for p in case.observers.points],
         "sector": [s.name for s in case.tolerance.sectors],
     })
     fgd, fd, fsd = ("frequency", "signal", "direction"), ("frequency", "direction"), ("frequency", "source", "direction")
-    out["significant"] = (fgd, mask, {"long_name": "direction outside a deep null of both models (counts in the judgement)"})
-    out["level_departure_db"] = (fgd, level_departure_db(sig_bem, sig_free), {"units": "dB", "long_name": "20 log10 |p_bem / p_free| in the far field"})
-    out["phase_departure_deg"] = (fgd, phase_departure_deg(sig_bem, sig_free), {"units": "degree", "long_name": "phase of p_bem / p_free in the far field"})
-    out["level_error_db"] = (fgd, level_error_db(e_far, sig_bem), {"units": "dB", "long_name": "numerical error of the BEM level (the controlled signal is judged by its attenuation instead)"})
-    out["phase_error_deg"] = (fgd, phase_error_deg(e_far, sig_bem), {"units": "degree", "long_name": "numerical error of the BEM phase"})
-    out["far_field_error"] = (("frequency", "source"), far_error[:, :, 0], {"units": "Pa s/m^2", "long_name": "numerical error of each source's BEM far-field amplitude per unit volume velocity, largest over directions"})
-    out["z_bem_error"] = (("frequency", "at_source", "source"), z_error, {"units": "Pa s/m^3", "long_name": "numerical error of the BEM transfer impedances"})
+    out["significant"] = (fgd, mask)
+    out["level_departure_db"] = (fgd, level_departure_db(sig_bem, sig_free))
+    out["phase_departure_deg"] = (fgd, phase_departure_deg(sig_bem, sig_free))
+    out["level_error_db"] = (fgd, level_error_db(e_far, sig_bem))
+    out["phase_error_deg"] = (fgd, phase_error_deg(e_far, sig_bem))
+    out["far_field_error"] = (("frequency", "source"), far_error[:, :, 0])
+    out["z_bem_error"] = (("frequency", "at_source", "source"), z_error)
     pdims = ("frequency", "signal", "point")
-    out["level_departure_points_db"] = (pdims, level_departure_db(pts_bem, pts_free), {"units": "dB", "long_name": "20 log10 |p_bem / p_free| at the observer points"})
-    out["phase_departure_points_deg"] = (pdims, phase_departure_deg(pts_bem, pts_free), {"units": "degree", "long_name": "phase of p_bem / p_free at the observer points"})
-    for name, att, what in (("predicted", predicted, "the free-field model predicts for its design"),
-                            ("as_designed", designed, "the free-field design gets with scattering"),
-                            ("reoptimised", reopt, "strengths re-optimised with scattering get")):
-        out[f"directional_attenuation_{name}_db"] = (fd, att.directional_db, {"units": "dB", "long_name": f"20 log10 |p_uncontrolled / p_controlled| per direction: what {what}"})
+    out["level_departure_points_db"] = (pdims, level_departure_db(pts_bem, pts_free))
+    out["phase_departure_points_deg"] = (pdims, phase_departure_deg(pts_bem, pts_free))
+    for name, att in (("predicted", predicted), ("as_designed", designed), ("reoptimised", reopt)):
+        out[f"directional_attenuation_{name}_db"] = (fd, att.directional_db)
         if name != "predicted":
-            out[f"directional_attenuation_{name}_error_db"] = (fd, att.directional_error_db, {"units": "dB", "long_name": f"numerical error of directional_attenuation_{name}_db, either way"})
-            out[f"directional_attenuation_{name}_below_db"] = (fd, att.directional_below_db, {"units": "dB", "long_name": f"how much lower directional_attenuation_{name}_db may truly be"})
-            out[f"attenuation_{name}_error_db"] = ("frequency", att.power_error_db, {"units": "dB", "long_name": f"numerical error of attenuation_{name}_db, either way"})
-            out[f"attenuation_{name}_below_db"] = ("frequency", att.power_below_db, {"units": "dB", "long_name": f"how much lower attenuation_{name}_db may truly be"})
+            out[f"directional_attenuation_{name}_error_db"] = (fd, att.directional_error_db)
+            out[f"directional_attenuation_{name}_below_db"] = (fd, att.directional_below_db)
+            out[f"attenuation_{name}_error_db"] = ("frequency", att.power_error_db)
+            out[f"attenuation_{name}_below_db"] = ("frequency", att.power_below_db)
     power_designed = np.array([r.power(q) for r, q in zip(models.bem, q_design)])
-    out["power_as_designed"] = ("frequency", power_designed, {"units": "W", "long_name": "power with the free-field optimal strengths, scattering included"})
-    out["power_reoptimised"] = ("frequency", np.array([r.power(q) for r, q in zip(models.bem, q_reopt)]), {"units": "W", "long_name": "power with strengths optimal with scattering included"})
-    out["attenuation_as_designed_db"] = ("frequency", designed.power_db, {"units": "dB", "long_name": "attenuation the free-field design really gets"})
-    out["attenuation_reoptimised_db"] = ("frequency", reopt.power_db, {"units": "dB", "long_name": "attenuation this layout can get, controls re-optimised with scattering"})
-    out["attenuation_loss_db"] = ("frequency", predicted.power_db - designed.power_db, {"units": "dB", "long_name": "attenuation predicted by the free-field model minus as designed"})
+    out["power_as_designed"] = ("frequency", power_designed)
+    out["power_reoptimised"] = ("frequency", np.array([r.power(q) for r, q in zip(models.bem, q_reopt)]))
+    out["attenuation_as_designed_db"] = ("frequency", designed.power_db)
+    out["attenuation_reoptimised_db"] = ("frequency", reopt.power_db)
+    out["attenuation_loss_db"] = ("frequency", predicted.power_db - designed.power_db)
     worlds = {"predicted": predicted, "as_designed": designed, "reoptimised": reopt}
     if models.own_body is not None:
         _decomposition(out, fsd, free_far, bem_far, models.own_body)
@@ -238,16 +236,15 @@ def _sector_attenuations(out, case, directions, worlds):
             if world in ("as_designed", "reoptimised"):
                 name = f"sector_attenuation_{world}_error_db"
                 if name not in out:
-                    out[name] = (("frequency", "sector"), np.zeros((len(case.frequencies), len(sectors))),
-                                 {"units": "dB", "long_name": f"numerical error of sector_attenuation_db for world {world}"})
+                    out[name] = (("frequency", "sector"), np.zeros((len(case.frequencies), len(sectors))))
                 out[name].values[:, s] = error
     out.coords["world"] = ("world", names)
-    out["sector_attenuation_db"] = (("frequency", "sector", "world"), att, {"units": "dB", "long_name": "attenuation of the mean-square far-field pressure over the sector: free-field prediction, each source with its own body only, as designed, re-optimised"})
+    out["sector_attenuation_db"] = (("frequency", "sector", "world"), att)
 
 
 def _decomposition(out, dims, free_far, bem_far, own):
     """Source model (own body against free monopole) and diffraction by the other bodies (full scene against own body)."""
-    out["source_model_level_db"] = (dims, level_departure_db(own, free_far), {"units": "dB", "long_name": "20 log10 |p_own_body / p_free|: the source with only the body it sits on against a free monopole"})
-    out["source_model_phase_deg"] = (dims, phase_departure_deg(own, free_far), {"units": "degree", "long_name": "phase of p_own_body / p_free"})
-    out["other_bodies_level_db"] = (dims, level_departure_db(bem_far, own), {"units": "dB", "long_name": "20 log10 |p_bem / p_own_body|: diffraction by the other bodies"})
-    out["other_bodies_phase_deg"] = (dims, phase_departure_deg(bem_far, own), {"units": "degree", "long_name": "phase of p_bem / p_own_body"})
+    out["source_model_level_db"] = (dims, level_departure_db(own, free_far))
+    out["source_model_phase_deg"] = (dims, phase_departure_deg(own, free_far))
+    out["other_bodies_level_db"] = (dims, level_departure_db(bem_far, own))
+    out["other_bodies_phase_deg"] = (dims, phase_departure_deg(bem_far, own))

@@ -218,24 +218,23 @@ def trust_tables(cmp, tolerance):
             unresolved[:, s, g] = ((status[:, g, :] == NOT_RESOLVED) & m).sum(axis=1) / np.maximum(m.sum(axis=1), 1)
     coords = {"frequency": freqs, "signal": cmp["signal"].values, "sector": [s.name for s in tolerance.sectors]}
     fsg = ("frequency", "sector", "signal")
-    flags = {"flag_values": np.array([AGREES, NOT_RESOLVED, DEPARTS], dtype=np.int8), "flag_meanings": "agrees not_resolved departs"}
     out = xr.Dataset(
         {
-            "status": (("frequency", "signal", "direction"), status.astype(np.int8), {"long_name": "judgement per direction: a single source field against field, the controlled system by its attenuation as designed", **flags}),
-            "trust_limit_hz": (("sector", "signal"), limit, {"units": "Hz", "long_name": "lowest frequency where the departure surely exceeds the tolerance (top frequency where trust_limit_found is false)"}),
-            "trust_limit_found": (("sector", "signal"), found, {"long_name": "a departure beyond the tolerance was found in the band"}),
-            "trust_limit_set_by": (("sector", "signal"), set_by.astype(str), {"long_name": "what set the trust limit: level, phase or attenuation (empty: none found)"}),
-            "diffraction_rms_db": (fsg, rms, {"units": "dB", "long_name": "RMS over the sector's directions of |level departure|"}),
-            "diffraction_max_db": (fsg, worst, {"units": "dB", "long_name": "largest |level departure| in the sector"}),
-            "diffraction_max_azimuth_deg": (fsg, worst_az, {"units": "degree", "long_name": "azimuth of the largest departure"}),
-            "not_resolved_fraction": (fsg, unresolved, {"long_name": "share of the sector's directions where the mesh cannot tell"}),
+            "status": (("frequency", "signal", "direction"), status.astype(np.int8)),
+            "trust_limit_hz": (("sector", "signal"), limit),
+            "trust_limit_found": (("sector", "signal"), found),
+            "trust_limit_set_by": (("sector", "signal"), set_by.astype(str)),
+            "diffraction_rms_db": (fsg, rms),
+            "diffraction_max_db": (fsg, worst),
+            "diffraction_max_azimuth_deg": (fsg, worst_az),
+            "not_resolved_fraction": (fsg, unresolved),
         },
         coords=coords,
     )
     for design in ("as_designed", "reoptimised"):
         st, ex = power_judgement(cmp, tolerance, design)
         f_lim, f_found = crossing_frequency(freqs, ex)
-        out[f"attenuation_{design}_status"] = ("frequency", st.astype(np.int8), {"long_name": f"judgement of the power attenuation {design.replace('_', ' ')} against min(predicted, target)", **flags})
-        out[f"attenuation_{design}_limit_hz"] = ((), f_lim, {"units": "Hz", "long_name": f"lowest frequency where the power attenuation {design.replace('_', ' ')} surely falls short"})
+        out[f"attenuation_{design}_status"] = ("frequency", st.astype(np.int8))
+        out[f"attenuation_{design}_limit_hz"] = ((), f_lim)
         out[f"attenuation_{design}_limit_found"] = ((), f_found)
     return out

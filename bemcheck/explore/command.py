@@ -7,6 +7,7 @@ run``), ``layout_free.toml`` (the one the free-field model picks) and
 ``explore.html``.  Bad input is refused before anything is written.
 """
 
+import re
 import time
 from dataclasses import dataclass
 from pathlib import Path
@@ -22,7 +23,9 @@ from bemcheck.explore.page import PAGE_FILE, write_page
 from bemcheck.explore.results import DESIGNS, EXPLORE_FILE, MODELS, Choice, explore_dataset
 from bemcheck.explore.solve import band_meshes, base_sources, solve_candidates
 from bemcheck.observers import for_observers
+from bemcheck.results.cf import global_attributes
 from bemcheck.results.files import atomic_write_bytes, write_dataset
+from bemcheck.results.schema import EXPLORE
 from bemcheck.run.runner import prepare_folder
 from bemcheck.run.store import RunLock
 
@@ -114,14 +117,15 @@ def explore_case(case, out_dir, cache_dir=None, progress=None):
                                              case.explore.controls)[0]) for d in DESIGNS]
         seconds = {**solves.seconds, "choice": time.perf_counter() - t0}
         lines = _lines(case, kept, solves, choices, seconds)
-        attrs = {"case_title": case.title, "candidates_given": kept.total, "candidates_kept": len(kept.positions),
-                 **{f"dropped {reason}": n for reason, n in kept.dropped.items()},
+        attrs = {**global_attributes(f"{case.title}: exploration", "explore"),
+                 "case_title": case.title, "candidates_given": kept.total, "candidates_kept": len(kept.positions),
+                 **{"dropped_" + re.sub(r"\W+", "_", reason): n for reason, n in kept.dropped.items()},
                  "controls_chosen": case.explore.controls, "fixed_controls": ", ".join(case.explore.fixed) or "none",
                  "band_average": "mean over the case's frequencies of the attenuation in dB",
                  "objective": "minimum total radiated power, strengths optimal in each model"}
         ds = explore_dataset(solves, kept, maps, choices, attrs)
         results = folder / EXPLORE_FILE
-        write_dataset(ds, results)
+        write_dataset(ds, results, EXPLORE)
         taken = {s.name for s in case.sources}
         names = [n for n in (f"explore_{i + 1}" for i in range(len(taken) + case.explore.controls)) if n not in taken]
         layouts = {}

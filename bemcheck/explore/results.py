@@ -51,45 +51,37 @@ def explore_dataset(solves, candidates, maps, choices, attrs):
     Returns
     -------
     xarray.Dataset
+        Values only: the attributes are declared in
+        :data:`bemcheck.results.schema.EXPLORE` and attached when written.
     """
     f = solves.frequencies
     m = len(candidates.positions)
     k = len(choices[0].candidates)
     ds = xr.Dataset(
         coords={
-            "frequency": ("frequency", f, {"units": "Hz", "long_name": "frequency"}),
-            "candidate": ("candidate", np.arange(m), {"long_name": "candidate control position index"}),
-            "xyz": ("xyz", ["x", "y", "z"], {"long_name": "Cartesian axis of the scene"}),
-            "choice": ("choice", np.arange(k), {"long_name": "chosen control, in the order chosen"}),
-            "model": ("model", list(MODELS), {"long_name": "free: free-field monopoles; bem: rigid bodies scattering"}),
-            "design": ("design", list(DESIGNS), {"long_name": "the model the layout was chosen with"}),
+            "frequency": ("frequency", f),
+            "candidate": ("candidate", np.arange(m)),
+            "xyz": ("xyz", ["x", "y", "z"]),
+            "choice": ("choice", np.arange(k)),
+            "model": ("model", list(MODELS)),
+            "design": ("design", list(DESIGNS)),
         },
         attrs=attrs,
     )
-    ds["candidate_position"] = (("candidate", "xyz"), candidates.positions, {"units": "m", "long_name": "candidate control position"})
-    ds["candidate_grid_index"] = (("candidate", "grid_axis"), candidates.grid_index,
-                                  {"long_name": "(i, j) on the explore grid; -1 for a listed point"})
+    ds["candidate_position"] = (("candidate", "xyz"), candidates.positions)
+    ds["candidate_grid_index"] = (("candidate", "grid_axis"), candidates.grid_index)
     for model in MODELS:
         name = f"single_control_attenuation_{model}_db"
-        where = "in the free field" if model == "free" else "with scattering by the bodies"
         a, e = maps[model].attenuation_db, maps[model].error_db
-        ds[name] = (("frequency", "candidate"), a, {
-            "units": "dB", "long_name": f"minimum power attenuation with one control at the candidate, {where}"})
-        ds[f"{name[:-3]}_error_db"] = (("frequency", "candidate"), e, {
-            "units": "dB", "long_name": f"numerical error of {name} (zero for the exact free field)"})
-        ds[f"{name[:-3]}_band_db"] = (("candidate",), band_average(a), {
-            "units": "dB", "long_name": f"{name} averaged over the frequencies (mean of dB)"})
-    ds["chosen_candidate"] = (("design", "choice"), np.array([c.candidates for c in choices]),
-                              {"long_name": "candidate index of each chosen control"})
-    ds["chosen_position"] = (("design", "choice", "xyz"), candidates.positions[np.array([c.candidates for c in choices])],
-                             {"units": "m", "long_name": "position of each chosen control"})
+        ds[name] = (("frequency", "candidate"), a)
+        ds[f"{name[:-3]}_error_db"] = (("frequency", "candidate"), e)
+        ds[f"{name[:-3]}_band_db"] = (("candidate",), band_average(a))
+    ds["chosen_candidate"] = (("design", "choice"), np.array([c.candidates for c in choices]))
+    ds["chosen_position"] = (("design", "choice", "xyz"), candidates.positions[np.array([c.candidates for c in choices])])
     att = np.array([[c.attenuation_db[mo] for mo in MODELS] for c in choices])
     err = np.array([[c.error_db[mo] for mo in MODELS] for c in choices])
-    ds["layout_attenuation_db"] = (("design", "model", "frequency"), att, {
-        "units": "dB", "long_name": "minimum power attenuation of the chosen layout, evaluated in each model"})
-    ds["layout_attenuation_error_db"] = (("design", "model", "frequency"), err, {
-        "units": "dB", "long_name": "numerical error of layout_attenuation_db"})
-    ds["layout_attenuation_band_db"] = (("design", "model"), att.mean(axis=-1), {
-        "units": "dB", "long_name": "layout_attenuation_db averaged over the frequencies (mean of dB)"})
-    ds["unknowns"] = (("frequency",), solves.unknowns, {"long_name": "BEM unknowns N of the band mesh"})
+    ds["layout_attenuation_db"] = (("design", "model", "frequency"), att)
+    ds["layout_attenuation_error_db"] = (("design", "model", "frequency"), err)
+    ds["layout_attenuation_band_db"] = (("design", "model"), att.mean(axis=-1))
+    ds["unknowns"] = (("frequency",), solves.unknowns)
     return ds

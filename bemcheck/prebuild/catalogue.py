@@ -172,33 +172,12 @@ def catalogue_lines(positions, case):
     return lines
 
 
-# Results variables: name (unit in it), dimensions, units, long name.
+# The ranking's results variables and their dimensions; units and meanings are in results/schema.py.
 CATALOGUE_FIGURES = (
-    (
-        "catalogue_worst_margin_db",
-        ("source", "catalogue_driver"),
-        "dB",
-        "worst margin of each catalogue driver at each control position over every note, harmonic, demand and limit "
-        "(negative: over)",
-    ),
-    (
-        "catalogue_worst_margin_by_demand_db",
-        ("source", "catalogue_driver", "demand"),
-        "dB",
-        "worst margin over the designed demands and over the re-optimised ones (negative: over)",
-    ),
-    (
-        "catalogue_passes_every_note",
-        ("source", "catalogue_driver"),
-        "",
-        "true where the catalogue driver passes every note at that position",
-    ),
-    (
-        "catalogue_first_limit",
-        ("source", "catalogue_driver"),
-        "",
-        "limit met first at the worst demand: excursion, rated power, amplifier voltage or amplifier current",
-    ),
+    ("catalogue_worst_margin_db", ("source", "catalogue_driver")),
+    ("catalogue_worst_margin_by_demand_db", ("source", "catalogue_driver", "demand")),
+    ("catalogue_passes_every_note", ("source", "catalogue_driver")),
+    ("catalogue_first_limit", ("source", "catalogue_driver")),
 )
 
 
@@ -230,12 +209,6 @@ def catalogue_variables(ds, positions):
             values["catalogue_first_limit"][j, k] = c.worst.limit
             for kind, margin in c.by_demand:
                 values["catalogue_worst_margin_by_demand_db"][j, k, DEMANDS.index(kind)] = margin
-    for name, dims, units, what in CATALOGUE_FIGURES:
-        attrs = {"units": units, "long_name": what} if units else {"long_name": what}
-        value = values[name].astype(str) if name.endswith("limit") else values[name]
-        ds[name] = (dims, value, attrs)
-    ds["catalogue_ranked"] = (
-        "source",
-        ranked,
-        {"long_name": "true for the control positions the catalogue was ranked at"},
-    )
+    for name, dims in CATALOGUE_FIGURES:
+        ds[name] = (dims, values[name].astype(str) if name.endswith("limit") else values[name])
+    ds["catalogue_ranked"] = ("source", ranked)

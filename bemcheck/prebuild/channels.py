@@ -209,20 +209,15 @@ def channel_study(case, plan, q_designed, controls, free_at, bem_at):
 
 def channel_variables(ds, rows):
     """Add the channel-error figures to ``ds`` (dimension ``harmonic``), in place; 0 where not computed."""
-    ds.coords["channel_percentile"] = ("channel_percentile", np.array(PERCENTILES), {"units": "%"})
-    for tag, what, spreads in (("free", "free field", [r.free for r in rows]),
-                               ("bem", "with scattering (BEM)", [r.bem for r in rows])):
+    ds.coords["channel_percentile"] = ("channel_percentile", np.array(PERCENTILES))
+    for tag, spreads in (("free", [r.free for r in rows]), ("bem", [r.bem for r in rows])):
         has = np.array([s is not None for s in spreads])
-        ds[f"channel_spread_{tag}_computed"] = ("harmonic", has, {"long_name": f"true where computed ({what})"})
+        ds[f"channel_spread_{tag}_computed"] = ("harmonic", has)
         ds[f"channel_spread_{tag}_db"] = (("harmonic", "channel_percentile"),
-                                          np.array([s.values_db if s else np.zeros(3) for s in spreads]),
-                                          {"units": "dB", "long_name": f"attenuation at these percentiles of builds with channel errors ({what})"})
-        ds[f"channel_designed_{tag}_db"] = ("harmonic", [s.designed_db if s else 0.0 for s in spreads],
-                                            {"units": "dB", "long_name": f"attenuation with exact channels ({what})"})
-        ds[f"channel_gain_needed_{tag}_db"] = ("harmonic", [s.gain_needed_db if s else 0.0 for s in spreads],
-                                               {"units": "dB", "long_name": f"gain tolerance keeping 95 % of builds within max_loss_db ({what})"})
-        ds[f"channel_phase_needed_{tag}_deg"] = ("harmonic", [np.degrees(s.phase_needed_rad) if s else 0.0 for s in spreads],
-                                                 {"units": "degree", "long_name": f"phase tolerance keeping 95 % of builds within max_loss_db ({what})"})
+                                          np.array([s.values_db if s else np.zeros(3) for s in spreads]))
+        ds[f"channel_designed_{tag}_db"] = ("harmonic", [s.designed_db if s else 0.0 for s in spreads])
+        ds[f"channel_gain_needed_{tag}_db"] = ("harmonic", [s.gain_needed_db if s else 0.0 for s in spreads])
+        ds[f"channel_phase_needed_{tag}_deg"] = ("harmonic", [np.degrees(s.phase_needed_rad) if s else 0.0 for s in spreads])
 
 
 def channel_summary(case, rows):

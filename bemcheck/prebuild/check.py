@@ -204,20 +204,20 @@ def _dataset(case, plan, names, q_designed, q_reopt, scattered, p_without, p_wit
         "harmonic": np.arange(len(plan)),
         "harmonic_note": ("harmonic", [p[0] for p in plan]),
         "harmonic_number": ("harmonic", [p[1] for p in plan]),
-        "harmonic_frequency": ("harmonic", [p[2] for p in plan], {"units": "Hz"}),
+        "harmonic_frequency": ("harmonic", [p[2] for p in plan]),
         "source": names,
         "point": [p.name for p in case.observers.points],
     }
     ds = xr.Dataset(coords=coords)
-    ds["q_required_designed"] = (("harmonic", "source"), q_designed, {"units": "m^3/s", "long_name": "volume velocity asked by the free-field design at each harmonic"})
-    ds["q_required_reoptimised"] = (("harmonic", "source"), q_reopt, {"units": "m^3/s", "long_name": "volume velocity asked when re-optimised with scattering"})
+    ds["q_required_designed"] = (("harmonic", "source"), q_designed)
+    ds["q_required_reoptimised"] = (("harmonic", "source"), q_reopt)
     q_x, q_w = _available(case, plan)
-    ds["q_available_excursion"] = (("harmonic", "source"), q_x, {"units": "m^3/s", "long_name": "largest volume velocity within xmax, Sd xmax omega (0: no driver)"})
-    ds["q_available_rated_power"] = (("harmonic", "source"), q_w, {"units": "m^3/s", "long_name": "volume velocity at the driver's rated power (0: no driver)"})
-    ds["harmonic_scattered"] = ("harmonic", scattered, {"long_name": "true where the BEM was solved at this harmonic"})
-    ds["spl_points_without_control"] = (("harmonic", "point"), spl_from_pressure(p_without), {"units": "dB re 20 uPa"})
-    ds["spl_points_with_control"] = (("harmonic", "point"), spl_from_pressure(p_with), {"units": "dB re 20 uPa"})
-    ds["attenuation_harmonic_as_designed_db"] = ("harmonic", att_designed, {"units": "dB"})
+    ds["q_available_excursion"] = (("harmonic", "source"), q_x)
+    ds["q_available_rated_power"] = (("harmonic", "source"), q_w)
+    ds["harmonic_scattered"] = ("harmonic", scattered)
+    ds["spl_points_without_control"] = (("harmonic", "point"), spl_from_pressure(p_without))
+    ds["spl_points_with_control"] = (("harmonic", "point"), spl_from_pressure(p_with))
+    ds["attenuation_harmonic_as_designed_db"] = ("harmonic", att_designed)
     if placement:
         _placement_variables(ds, placement)
     return ds
@@ -226,29 +226,21 @@ def _dataset(case, plan, names, q_designed, q_reopt, scattered, p_without, p_wit
 def _placement_variables(ds, placement):
     """Placement figures per harmonic; where a figure was not computed it is 0 and a flag says so
     (results.nc holds finite numbers only)."""
-    ds.coords["placement_percentile"] = ("placement_percentile", np.array(PERCENTILES), {"units": "%"})
+    ds.coords["placement_percentile"] = ("placement_percentile", np.array(PERCENTILES))
     rows = placement.rows
-    models = (
-        ("free", "free field, every control moved", [r.free for r in rows]),
-        ("same_moves_free", "free field, only the controls the scattered study moves", [r.same_moves_free for r in rows]),
-        ("scattered", "with scattering, from the stored surface solutions", [r.scattered for r in rows]),
-    )
-    for tag, what, studies in models:
+    models = (("free", [r.free for r in rows]), ("same_moves_free", [r.same_moves_free for r in rows]),
+              ("scattered", [r.scattered for r in rows]))
+    for tag, studies in models:
         ok = np.array([s is not None for s in studies])
         pct = np.array([s.values_db if s is not None else np.full(len(PERCENTILES), np.nan) for s in studies])
         has = ok & np.isfinite(pct).all(axis=1)
-        ds[f"placement_{tag}_computed"] = ("harmonic", has, {"long_name": f"true where the spread was computed ({what})"})
-        ds[f"placement_{tag}_db"] = (("harmonic", "placement_percentile"), np.where(has[:, None], pct, 0.0),
-                                     {"units": "dB", "long_name": f"attenuation at these percentiles of random builds ({what})"})
-        ds[f"placement_{tag}_designed_db"] = ("harmonic", [s.designed_db if s else 0.0 for s in studies],
-                                              {"units": "dB", "long_name": f"attenuation with the controls where designed ({what})"})
-        ds[f"placement_{tag}_tolerance_needed_m"] = ("harmonic", [s.tolerance_needed_m if s else 0.0 for s in studies],
-                                                     {"units": "m", "long_name": f"largest tolerance keeping the 5 % loss within max_loss_db ({what}; 0: not computed)"})
-        ds[f"placement_{tag}_tolerance_found"] = ("harmonic", [bool(s.found) if s else False for s in studies],
-                                                  {"long_name": "false when even the largest tolerance searched keeps the loss within max_loss_db"})
-    ds["placement_scattered_moves"] = ("source", np.isin(ds["source"].values, placement.moved),
-                                       {"long_name": "controls moved in the study with scattering (the others move with a body and are held)"})
-    ds["placement_tolerance_m"] = ((), placement.tolerance, {"units": "m", "long_name": "largest position tolerance of the controls"})
+        ds[f"placement_{tag}_computed"] = ("harmonic", has)
+        ds[f"placement_{tag}_db"] = (("harmonic", "placement_percentile"), np.where(has[:, None], pct, 0.0))
+        ds[f"placement_{tag}_designed_db"] = ("harmonic", [s.designed_db if s else 0.0 for s in studies])
+        ds[f"placement_{tag}_tolerance_needed_m"] = ("harmonic", [s.tolerance_needed_m if s else 0.0 for s in studies])
+        ds[f"placement_{tag}_tolerance_found"] = ("harmonic", [bool(s.found) if s else False for s in studies])
+    ds["placement_scattered_moves"] = ("source", np.isin(ds["source"].values, placement.moved))
+    ds["placement_tolerance_m"] = ((), placement.tolerance)
 
 
 def _mm(x):

@@ -49,14 +49,12 @@ def point_variables(ds, plan, points):
     """
     a = a_weighting(np.array([f for _, _, f in plan], dtype=float))[:, None]
     dims = ("harmonic", "point")
-    for part, p, what in (("instrument", points.instrument, "the primaries alone"),
-                          ("controls", points.controls, "the controls alone (as designed)"),
-                          ("total", points.total, "primaries and controls together")):
-        ds[f"p_points_{part}"] = (dims, p, {"units": "Pa", "long_name": f"pressure (peak) at the observer points from {what}"})
+    for part, p in (("instrument", points.instrument), ("controls", points.controls), ("total", points.total)):
+        ds[f"p_points_{part}"] = (dims, p)
         spl = spl_from_pressure(p)
-        ds[f"spl_points_{part}_db"] = (dims, spl, {"units": "dB re 20 uPa", "long_name": f"SPL from {what}"})
-        ds[f"dba_points_{part}"] = (dims, spl + a, {"units": "dB(A)", "long_name": f"A-weighted SPL of the harmonic from {what}"})
-    ds["points_model"] = ("harmonic", list(points.models), {"long_name": "model the levels at the points come from"})
+        ds[f"spl_points_{part}_db"] = (dims, spl)
+        ds[f"dba_points_{part}"] = (dims, spl + a)
+    ds["points_model"] = ("harmonic", list(points.models))
 
 
 def ear_items(ears, item, lines):
@@ -88,9 +86,8 @@ def ear_summary(ears):
         out.append({
             "note": note, "points": list(e.points), "models": list(e.models), "limit_dba": e.limit_dba,
             "frequency_hz": [float(f) for f in e.frequencies],
-            "dba_without": [float(v) for v in e.dba_without], "dba_with": [float(v) for v in e.dba_with],
-            "dba_instrument": [float(v) for v in e.dba_without], "dba_controls": [float(v) for v in e.dba_controls],
-            "dba_total": [float(v) for v in e.dba_with],
+            "instrument_dba": [float(v) for v in e.dba_without], "controls_dba": [float(v) for v in e.dba_controls],
+            "total_dba": [float(v) for v in e.dba_with],
             "spl_instrument_db": e.spl_without.tolist(), "spl_controls_db": e.spl_controls.tolist(),
             "spl_total_db": e.spl_with.tolist(),
             "raised_by_control": [bool(v) for v in e.raised_by_control],

@@ -159,17 +159,12 @@ def note_variables(ds, strengths):
     bem = np.array([s.bem_m3s for s in strengths])
     has = np.isfinite(bem)
     diff = np.array([s.difference_db for s in strengths])
-    ds["primary_strength_route"] = ("harmonic", [s.route for s in strengths],
-                                    {"long_name": "how the note's level became the primary strength: bem or monopole"})
-    ds["primary_strength_used_m3s"] = ("harmonic", [s.used_m3s for s in strengths],
-                                       {"units": "m^3/s", "long_name": "total primary strength used (peak)"})
-    ds["primary_strength_monopole_m3s"] = ("harmonic", [s.monopole_m3s for s in strengths],
-                                           {"units": "m^3/s", "long_name": "free-field monopole at the measurement distance (peak)"})
-    ds["primary_strength_bem_m3s"] = ("harmonic", np.where(has, bem, 0.0),
-                                      {"units": "m^3/s", "long_name": "from the BEM's field at the measurement point (peak; 0: not computed)"})
-    ds["primary_strength_bem_computed"] = ("harmonic", has, {"long_name": "true where the BEM gave the strength"})
-    ds["primary_strength_bem_minus_monopole_db"] = ("harmonic", np.where(has, diff, 0.0),
-                                                    {"units": "dB", "long_name": "20 log10 of the BEM over the monopole strength (0: not computed)"})
+    ds["primary_strength_route"] = ("harmonic", [s.route for s in strengths])
+    ds["primary_strength_used_m3s"] = ("harmonic", [s.used_m3s for s in strengths])
+    ds["primary_strength_monopole_m3s"] = ("harmonic", [s.monopole_m3s for s in strengths])
+    ds["primary_strength_bem_m3s"] = ("harmonic", np.where(has, bem, 0.0))
+    ds["primary_strength_bem_computed"] = ("harmonic", has)
+    ds["primary_strength_bem_minus_monopole_db"] = ("harmonic", np.where(has, diff, 0.0))
 
 
 def note_lines(strengths, notes):

@@ -261,18 +261,10 @@ def check_drivers(drivers, driver_of, demands, medium=Medium(), *, where="", amp
 
 
 
-DRIVE_FIGURES = (
-    ("volume_velocity_peak_m3s", "m^3/s", "volume velocity asked (peak)"),
-    ("voltage_rms_v", "V", "drive voltage (RMS)"),
-    ("current_rms_a", "A", "drive current (RMS)"),
-    ("excursion_peak_m", "m", "cone excursion (peak)"),
-    ("electrical_power_w", "W", "real electrical power, Re(V I*)/2"),
-    ("nominal_power_w", "W", "V_rms^2/Re, the quantity the rating limits"),
-    ("excursion_margin_db", "dB", "margin to xmax (negative: over)"),
-    ("power_margin_db", "dB", "margin to the rated power (negative: over)"),
-    ("amplifier_voltage_margin_db", "dB", "margin to the amplifier channel's rated RMS voltage (negative: over)"),
-    ("amplifier_current_margin_db", "dB", "margin to the amplifier channel's rated RMS current (negative: over)"),
-)
+# The DriveRow fields written as drive_<figure>; their units and meanings are in results/schema.py.
+DRIVE_FIGURES = ("volume_velocity_peak_m3s", "voltage_rms_v", "current_rms_a", "excursion_peak_m",
+                 "electrical_power_w", "nominal_power_w", "excursion_margin_db", "power_margin_db",
+                 "amplifier_voltage_margin_db", "amplifier_current_margin_db")
 
 
 def drive_variables(ds, check, plan):
@@ -289,16 +281,15 @@ def drive_variables(ds, check, plan):
     ds.coords["demand"] = ("demand", demands)
     checked = np.zeros(len(sources), bool)
     amplified = np.zeros(len(sources), bool)
-    values = {name: np.zeros((len(plan), len(sources), 2)) for name, _, _ in DRIVE_FIGURES}
+    values = {name: np.zeros((len(plan), len(sources), 2)) for name in DRIVE_FIGURES}
     for r in check.rows:
         i, j, k = index[(r.note, r.harmonic)], sources.index(r.source), demands.index(r.demand)
         checked[j] = True
         amplified[j] = bool(r.amplifier)
-        for name, _, _ in DRIVE_FIGURES:
+        for name in DRIVE_FIGURES:
             value = getattr(r, name)
             values[name][i, j, k] = 0.0 if value is None else value
-    for name, units, what in DRIVE_FIGURES:
-        ds[f"drive_{name}"] = (("harmonic", "source", "demand"), values[name], {"units": units, "long_name": what})
-    ds["drive_checked"] = ("source", checked, {"long_name": "true for the controls whose loudspeaker was checked"})
-    ds["drive_amplifier_checked"] = ("source", amplified, {"long_name": "true for the controls fed by an [[amplifier]] "
-                                                                        "(its margins are checked)"})
+    for name in DRIVE_FIGURES:
+        ds[f"drive_{name}"] = (("harmonic", "source", "demand"), values[name])
+    ds["drive_checked"] = ("source", checked)
+    ds["drive_amplifier_checked"] = ("source", amplified)

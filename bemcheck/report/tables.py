@@ -349,17 +349,17 @@ def ear_rows(e):
 
     Examples
     --------
-    >>> rows, notes = ear_rows({"points": ["ear"], "dba_without": [90.0], "dba_controls": [80.0], "dba_with": [86.0],
+    >>> rows, notes = ear_rows({"points": ["ear"], "instrument_dba": [90.0], "controls_dba": [80.0], "total_dba": [86.0],
     ...     "raised_by_control": [False], "instrument_over": [True], "models": ["BEM"], "limit_dba": 85.0, "cautions": []})
     >>> rows[1]
     ('ear', '90.0', '80.0', '86.0', 'the instrument alone (a caution, not a no-go)')
     """
     rows = [("point", "instrument alone [dB(A)]", "controls alone [dB(A)]", "total [dB(A)]", "over the limit because of")]
     n = len(e["points"])
-    controls = e.get("dba_controls", [None] * n)
+    controls = e.get("controls_dba", [None] * n)
     raised = e.get("raised_by_control", [False] * n)
     over = e.get("instrument_over", [False] * n)
-    for p, a, c, b, r, o in zip(e["points"], e["dba_without"], controls, e["dba_with"], raised, over):
+    for p, a, c, b, r, o in zip(e["points"], e["instrument_dba"], controls, e["total_dba"], raised, over):
         why = "the controls (no-go)" if r else "the instrument alone (a caution, not a no-go)" if o else ""
         rows.append((p, f"{a:.1f}", "" if c is None else f"{c:.1f}", f"{b:.1f}", why))
     notes = []

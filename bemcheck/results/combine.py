@@ -4,7 +4,7 @@ import numpy as np
 import xarray as xr
 
 from bemcheck.compare import Models, compare, trust_tables, verdict
-from bemcheck.results.dataset import model_dataset
+from bemcheck.results.dataset import model_dataset, sector_coordinates
 
 
 def combine(case, directions, free, bem=None, check=None, check_ratio=None, own_body=None):
@@ -43,7 +43,9 @@ def combine(case, directions, free, bem=None, check=None, check_ratio=None, own_
     ds = xr.merge([ds, cmp.drop_vars("direction_weight"), trust], compat="override", combine_attrs="override")
     e_db = ds["level_error_db"].values[:, :-1].max(axis=1)
     e_deg = ds["phase_error_deg"].values[:, :-1].max(axis=1)
-    ds["numerical_error_db"] = (("frequency", "direction"), e_db, {"units": "dB", "long_name": "BEM level error estimate at each frequency, worst source (band mesh against a second mesh of known size ratio)"})
-    ds["numerical_error_deg"] = (("frequency", "direction"), e_deg, {"units": "degree", "long_name": "BEM phase error estimate, as numerical_error_db"})
-    ds["q_control_bem"].attrs["long_name"] = "control strengths optimal with scattering included (re-optimised)"
+    ds["numerical_error_db"] = (("frequency", "direction"), e_db)
+    ds["numerical_error_deg"] = (("frequency", "direction"), e_deg)
+    coords, bounds = sector_coordinates(case.tolerance.sectors)
+    ds = ds.assign_coords(coords)
+    ds["sector_azimuth_bounds"] = bounds
     return ds, verdict(case, ds)

@@ -5,33 +5,22 @@ from importlib.metadata import version as _dist_version
 import numpy as np
 import xarray as xr
 
+from bemcheck.results.cf import global_attributes
 from bemcheck.solvers.control.optimal import attenuation_db
 from bemcheck.solvers.control.strengths import control_strengths, full_strengths, primary_strengths, source_indices
 
-# Variable metadata: (units, meaning); also the source of the README's table.
-VARIABLES = {
-    "p_{m}": ("Pa", "far-field pressure at 1 m (F, p ≈ F e^(ikr)/r) per unit volume velocity of each source"),
-    "p_{m}_points": ("Pa", "pressure at the observer points per unit volume velocity of each source"),
-    "z_{m}": ("Pa s/m^3", "transfer impedance: pressure at `at_source` per unit volume velocity of `source`"),
-    "power_{m}_primary": ("W", "power radiated by the primaries alone"),
-    "q_control_{m}": ("m^3/s", "control strengths optimal in this model for the case's objective"),
-    "power_{m}_controlled": ("W", "power with the primaries and the controls of q_control_{m}"),
-    "attenuation_{m}_db": ("dB", "10 log10 of primary power over controlled power, in this model"),
-}
-
 
 def coordinates(case, directions):
-    """The coordinates every results Dataset shares."""
+    """The coordinates every results Dataset shares (their attributes are in :mod:`bemcheck.results.schema`)."""
     return {
-        "frequency": ("frequency", np.asarray(case.frequencies, dtype=float), {"units": "Hz"}),
+        "frequency": ("frequency", np.asarray(case.frequencies, dtype=float)),
         "source": ("source", [s.name for s in case.sources]),
         "at_source": ("at_source", [s.name for s in case.sources]),
         "role": ("source", [s.role for s in case.sources]),
-        "source_position": (("source", "xyz"), np.array([s.position for s in case.sources]), {"units": "m"}),
         "xyz": ("xyz", ["x", "y", "z"]),
         "direction": ("direction", np.arange(len(directions))),
-        "azimuth_deg": ("direction", directions.azimuth_deg, {"units": "degree"}),
-        "elevation_deg": ("direction", directions.elevation_deg, {"units": "degree"}),
+        "azimuth_deg": ("direction", directions.azimuth_deg),
+        "elevation_deg": ("direction", directions.elevation_deg),
         "direction_weight": ("direction", directions.weights),
         "point": ("point", [p.name for p in case.observers.points]),
     }
@@ -58,12 +47,13 @@ def model_dataset(case, responses, directions, model):
     q_all = np.array([full_strengths(case, q) for q in q_c])
     q_primary_only = full_strengths(case, np.zeros(len(controls)))
     w_primary = np.array([r.power(q_primary_only) for r in responses])
-    w_controlled = np.array([r.power(q) for r, q in zip(responses, q_all)])
+    w_controlled = np.array([r.power(q) for r, q in zip(responses, q_all, strict=True)])
     q_control_full = np.zeros((len(responses), len(case.sources)), dtype=complex)
     q_control_full[:, controls] = q_c
+    points = np.array([r.points.T for r in responses]).reshape(len(responses), len(case.sources), -1)
     data = {
         f"p_{model}": (("frequency", "source", "direction"), np.array([r.far_field.T for r in responses])),
-        f"p_{model}_points": (("frequency", "source", "point"), np.array([r.points.T for r in responses]).reshape(len(responses), len(case.sources), -1)),
+        f"p_{model}_points": (("frequency", "source", "point"), points),
         f"z_{model}": (("frequency", "at_source", "source"), np.array([r.impedance for r in responses])),
         f"power_{model}_primary": (("frequency",), w_primary),
         f"q_control_{model}": (("frequency", "source"), q_control_full),
@@ -73,16 +63,14 @@ def model_dataset(case, responses, directions, model):
     q_primary = np.zeros(len(case.sources), dtype=complex)
     q_primary[primary] = primary_strengths(case)
     data["q_primary"] = (("source",), q_primary)
-    ds = xr.Dataset(data, coords=coordinates(case, directions))
-    ds["q_primary"].attrs.update(units="m^3/s", long_name="primary strengths used in the sweep (zero for controls)")
-    for template, (units, meaning) in VARIABLES.items():
-        name = template.format(m=model)
-        ds[name].attrs.update(units=units, long_name=meaning.format(m=model))
-    return ds
+    # a data variable, not a coordinate: no data variable has both its dims,
+    # and xarray would name such a coordinate in a global attribute CF does not know
+    data["source_position"] = (("source", "xyz"), np.array([s.position for s in case.sources], dtype=float))
+    return xr.Dataset(data, coords=coordinates(case, directions))
 
 
 def run_attributes(case, case_hash, device=None):
-    """Attributes that let a result be traced to its case and its software."""
+    """Attributes that let a result be traced to its case and its software, with CF's global ones."""
     import importlib.metadata as md
 
     def version(pkg):
@@ -92,7 +80,7 @@ def run_attributes(case, case_hash, device=None):
             return "not installed"
 
     return {
-        "title": case.title,
+        **global_attributes(case.title, "run"),
         "case_file": str(case.path),
         "case_text": case.text,
         "case_hash": case_hash,
@@ -104,3 +92,21 @@ def run_attributes(case, case_hash, device=None):
         "scipy_version": version("scipy"),
         "device": device or "none",
     }
+
+
+def sector_coordinates(sectors):
+    """``sector_azimuth`` (sector) with its CF bounds ``sector_azimuth_bounds`` (sector, nv), in degrees.
+
+    A sector runs counter-clockwise from ``from_deg`` to ``to_deg`` (above it
+    by at most 360, so 300 to 420 wraps through 0); its coordinate is the
+    middle azimuth and its bounds the two ends (CF 1.10 sec. 7.1).
+
+    Examples
+    --------
+    >>> from bemcheck.case.model import Sector
+    >>> coords, bounds = sector_coordinates([Sector("front", 300.0, 420.0)])
+    >>> coords["sector_azimuth"][1].tolist(), bounds[1].tolist()
+    ([360.0], [[300.0, 420.0]])
+    """
+    ends = np.array([[s.from_deg, s.to_deg] for s in sectors], dtype=float).reshape(-1, 2)
+    return {"sector_azimuth": ("sector", ends.mean(axis=1))}, (("sector", "nv"), ends)

@@ -1,7 +1,10 @@
 """The results file: one xarray Dataset in NetCDF (h5netcdf), plus summary.json.
 
 Complex variables are stored as ``<name>_re`` / ``<name>_im`` pairs so any
-NetCDF reader opens the file; :func:`load_results` joins them again.  Every
+NetCDF reader opens the file (each part with the variable's units and its
+long name marked as the real or imaginary part); :func:`load_results` joins
+them again.  Every variable is held to its schema
+(:mod:`bemcheck.results.schema`) before it is written.  Every
 write goes to a temporary name in the same folder and is renamed into place,
 so a reader never sees a half-written file, and refuses NaN or inf.
 """
@@ -15,10 +18,12 @@ import numpy as np
 import xarray as xr
 
 from bemcheck.errors import BemcheckInputError
+from bemcheck.results.cf import annotate
 
 RESULTS_FILE = "results.nc"
 SUMMARY_FILE = "summary.json"
 _COMPLEX_FLAG = "bemcheck_complex_part"
+_PART_NAMES = {"re": "real part", "im": "imaginary part"}
 
 
 class NonFiniteResult(RuntimeError):
@@ -30,7 +35,10 @@ def _split_complex(ds):
     for name, var in ds.data_vars.items():
         if np.iscomplexobj(var.values):
             for part, values in (("re", var.values.real), ("im", var.values.imag)):
-                out[f"{name}_{part}"] = (var.dims, values, {**var.attrs, _COMPLEX_FLAG: part})
+                attrs = {**var.attrs, _COMPLEX_FLAG: part}
+                if "long_name" in attrs:
+                    attrs["long_name"] = f"{_PART_NAMES[part]} of: {attrs['long_name']}"
+                out[f"{name}_{part}"] = (var.dims, values, attrs)
         else:
             out[name] = var
     return out
@@ -45,6 +53,8 @@ def _join_complex(ds):
         if part == "re":
             base = name[: -len("_re")]
             attrs = {k: v for k, v in var.attrs.items() if k != _COMPLEX_FLAG}
+            if "long_name" in attrs:
+                attrs["long_name"] = attrs["long_name"].removeprefix(f"{_PART_NAMES['re']} of: ")
             out[base] = (var.dims, var.values + 1j * ds[f"{base}_im"].values, attrs)
         else:
             out[name] = var
@@ -119,20 +129,28 @@ def atomic_write_bytes(path, data):
         raise
 
 
-def write_dataset(ds, path):
-    """Write ``ds`` to NetCDF at ``path`` atomically, complex parts split.
+def write_dataset(ds, path, schema):
+    """Write ``ds`` to NetCDF at ``path`` atomically, its attributes from ``schema``, complex parts split.
 
     Parameters
     ----------
     ds : xarray.Dataset
     path : str or Path
         Target file; its folder must exist.
+    schema : Schema
+        The file's declarations (:data:`bemcheck.results.schema.RESULTS` or
+        ``EXPLORE``); a variable it does not declare raises
+        :class:`~bemcheck.results.cf.SchemaError` and nothing is written.
     """
+    ds = annotate(ds, schema)
     check_finite(ds)
     # Built in memory, written as plain bytes: when a disk fills during an
     # HDF5 file write, h5py cannot close the file, prints tracebacks as it is
     # collected and the process dies with a segmentation fault (seen here).
-    atomic_write_bytes(path, _split_complex(ds).to_netcdf(engine="h5netcdf"))
+    split = _split_complex(ds)
+    # results hold finite numbers only (check_finite), so no fill value is declared
+    encoding = {name: {"_FillValue": None} for name in split.variables}
+    atomic_write_bytes(path, split.to_netcdf(engine="h5netcdf", encoding=encoding))
 
 
 def read_dataset(path):

@@ -21,6 +21,7 @@ from bemcheck.prebuild.check import before_build, harmonic_plan
 from bemcheck.results.combine import combine
 from bemcheck.results.dataset import run_attributes
 from bemcheck.results.files import RESULTS_FILE, SUMMARY_FILE, read_dataset, write_dataset, write_summary
+from bemcheck.results.schema import RESULTS
 from bemcheck.results.verdict_summary import verdict_summary
 from bemcheck.run import tasks as bem_tasks
 from bemcheck.run.progress import COMPILE_HINT_S, Progress
@@ -275,8 +276,8 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
             device = metas[0].get("device") if metas else None
             ds, verdict = combine(case, directions, free, sweep.responses, sweep.check, sweep.check_ratio,
                                   sweep.own_body)
-            ds["elements_per_wavelength"] = ("frequency", np.array([m["elements_per_wavelength"] for m in metas]), {"long_name": "wavelength over the mesh's largest element edge"})
-            ds["elements"] = ("frequency", np.array([m["elements"] for m in metas]), {"long_name": "triangles in the mesh solved"})
+            ds["elements_per_wavelength"] = ("frequency", np.array([m["elements_per_wavelength"] for m in metas]))
+            ds["elements"] = ("frequency", np.array([m["elements"] for m in metas]))
         ds.attrs.update(run_attributes(case, fingerprint, device))
         summary = build_summary(case, ds, fingerprint, verdict, metas)
         if case.all_notes:
@@ -287,7 +288,7 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
             ds = ds.merge(build.dataset, compat="override", combine_attrs="override")
             summary["before_build"] = build.summary
         results = folder / RESULTS_FILE
-        write_dataset(ds, results)
+        write_dataset(ds, results, RESULTS)
         try:
             write_summary(summary, folder / SUMMARY_FILE)
         except BaseException:
@@ -377,10 +378,10 @@ def build_summary(case, ds, fingerprint, verdict, metas):
             "device": ds.attrs.get("device"),
             "elements": [int(m["elements"]) for m in metas],
             "elements_per_wavelength": [float(m["elements_per_wavelength"]) for m in metas],
-            "seconds_per_frequency": [float(m.get("seconds", 0.0)) for m in metas],
+            "solve_time_s": [float(m.get("seconds", 0.0)) for m in metas],
             "attenuation_reoptimised_db": [float(a) for a in ds["attenuation_reoptimised_db"].values],
             "attenuation_as_designed_db": [float(a) for a in ds["attenuation_as_designed_db"].values],
-            "numerical_error_db_max": float(ds["numerical_error_db"].max()),
+            "numerical_error_max_db": float(ds["numerical_error_db"].max()),
             "attenuation_as_designed_error_db": [float(a) for a in ds["attenuation_as_designed_error_db"].values],
             "attenuation_reoptimised_error_db": [float(a) for a in ds["attenuation_reoptimised_error_db"].values],
         }

@@ -7,6 +7,7 @@ import pytest
 
 import bemcheck
 from bemcheck.cli import main
+from bemcheck.results.cf import Schema, Variable
 from bemcheck.results.files import NonFiniteResult, read_dataset, write_dataset
 
 
@@ -51,12 +52,16 @@ def test_free_run_writes_results_that_reload_to_the_same_numbers(tmp_path, capsy
     assert not list(tmp_path.glob(".*part"))
 
 
+SMALL = Schema("r.nc", (Variable("x", ("a",), "a number", "1"), Variable("z", ("a",), "a complex number", "Pa"),
+                        Variable("w", ("a",), "a length", "m")))
+
+
 def test_non_finite_results_are_never_written(tmp_path):
     import xarray as xr
 
     ds = xr.Dataset({"x": ("a", np.array([1.0, np.nan]))})
     with pytest.raises(NonFiniteResult, match="'x'"):
-        write_dataset(ds, tmp_path / "r.nc")
+        write_dataset(ds, tmp_path / "r.nc", SMALL)
     assert list(tmp_path.iterdir()) == []
 
 
@@ -64,10 +69,11 @@ def test_complex_round_trip(tmp_path):
     import xarray as xr
 
     z = np.array([1 + 2j, -3.5j])
-    write_dataset(xr.Dataset({"z": ("a", z), "w": ("a", [1.0, 2.0])}), tmp_path / "r.nc")
+    write_dataset(xr.Dataset({"z": ("a", z), "w": ("a", [1.0, 2.0])}), tmp_path / "r.nc", SMALL)
     back = read_dataset(tmp_path / "r.nc")
     np.testing.assert_array_equal(back["z"].values, z)
     assert set(back.data_vars) == {"z", "w"}
+    assert back["z"].attrs["units"] == "Pa" and back["z"].attrs["long_name"] == "a complex number"
 
 
 def test_unwritable_output_folder(tmp_path, capsys):

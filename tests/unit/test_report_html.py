@@ -13,6 +13,7 @@ from bemcheck.compare import verdict_lines
 from bemcheck.errors import BemcheckInputError
 from bemcheck.report import records_rows, report_run, write_report
 from bemcheck.results.files import write_dataset, write_summary
+from bemcheck.results.schema import RESULTS
 from bemcheck.results.verdict_summary import verdict_from_summary, verdict_summary
 from tests.unit.test_report_figures import PNG_MAGIC, cube_mesh, floor_run, free_run
 
@@ -108,7 +109,7 @@ def test_report_run_reads_a_run_folder_and_names_missing_files(tmp_path):
     case, ds = free_run()
     with pytest.raises(BemcheckInputError, match="results.nc"):
         report_run(tmp_path)
-    write_dataset(ds, tmp_path / "results.nc")
+    write_dataset(ds, tmp_path / "results.nc", RESULTS)
     with pytest.raises(BemcheckInputError, match="summary.json"):
         report_run(tmp_path)
     (tmp_path / "summary.json").write_text("[1, 2]")

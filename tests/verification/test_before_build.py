@@ -95,7 +95,7 @@ def test_loud_instrument_is_a_caution_not_a_no_go(tmp_path):
     assert ears and ears[0]["go"] and "free field" in ears[0]["check"]
     e = bb["ears"][0]
     assert e["instrument_over"] == [True] and e["raised_by_control"] == [False]
-    assert e["dba_instrument"][0] > 85.0 > e["dba_total"][0]
+    assert e["instrument_dba"][0] > 85.0 > e["total_dba"][0]
     assert e["cautions"] and "not the layout" in e["cautions"][0]
     assert any(line.startswith("  caution: ear, low: the instrument alone") for line in out.verdict_lines)
 
@@ -138,9 +138,9 @@ def test_controls_raising_an_ear_level_are_a_no_go(tmp_path):
     def dba(p):
         return 10 * np.log10(np.sum(10 ** ((20 * np.log10(np.abs(p) / np.sqrt(2) / 20e-6) + a) / 10)))
 
-    assert e["dba_instrument"][0] == pytest.approx(dba(p_i), abs=0.01)
-    assert e["dba_controls"][0] == pytest.approx(dba(p_c), abs=0.01)
-    assert e["dba_total"][0] == pytest.approx(dba(p_i + p_c), abs=0.01)
+    assert e["instrument_dba"][0] == pytest.approx(dba(p_i), abs=0.01)
+    assert e["controls_dba"][0] == pytest.approx(dba(p_c), abs=0.01)
+    assert e["total_dba"][0] == pytest.approx(dba(p_i + p_c), abs=0.01)
     ds = bemcheck.load_results(tmp_path)
     total = ds["p_points_total"].values
     parts = ds["p_points_instrument"].values + ds["p_points_controls"].values
