@@ -11,6 +11,7 @@ from bemcheck.observers import for_observers
 from bemcheck.report import report_run
 from bemcheck.results.combine import combine
 from bemcheck.results.files import write_dataset, write_summary
+from bemcheck.results.schema import RESULTS
 from bemcheck.results.verdict_summary import verdict_from_summary, verdict_summary
 from bemcheck.run.runner import free_responses
 from tests.unit.test_report_figures import floor_run, free_run
@@ -58,7 +59,7 @@ def test_a_summary_with_a_broken_verdict_is_bad_input(floor_verdict, tmp_path):
     with pytest.raises(ValueError, match="missing key 'fields'"):
         verdict_from_summary(broken)
     _, ds = free_run()
-    write_dataset(ds, tmp_path / "results.nc")
+    write_dataset(ds, tmp_path / "results.nc", RESULTS)
     write_summary({"case_hash": "x", "verdict": broken}, tmp_path / "summary.json")
     with pytest.raises(BemcheckInputError, match=r"summary.json: verdict: missing key 'fields'"):
         report_run(tmp_path)
