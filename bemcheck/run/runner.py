@@ -65,7 +65,7 @@ def free_responses(case, directions):
     """The free-field model's responses at every frequency of the case."""
     sources = np.array([s.position for s in case.sources])
     points = np.array([p.at for p in case.observers.points]).reshape(-1, 3)
-    return [free_response(f, case.medium, sources, directions.unit, points) for f in case.frequencies]
+    return [free_response(f, case.medium, sources, directions.unit, points, case.floor) for f in case.frequencies]
 
 
 @dataclass(frozen=True)
@@ -346,7 +346,7 @@ def _before_build(case, directions, solved, stored):
 
     return before_build(
         case,
-        lambda f: free_response(f, case.medium, sources, directions.unit, points),
+        lambda f: free_response(f, case.medium, sources, directions.unit, points, case.floor),
         (lambda f: solved.get(f)) if solved else None,
         surface_at if stored else None,
     )
