@@ -252,4 +252,5 @@ def stored_solve(case, frequency, arrays):
         mesh=mesh,
         column=column,
         positions=x,
+        floor=case.floor,
     )
