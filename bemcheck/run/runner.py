@@ -24,6 +24,7 @@ from bemcheck.results.files import RESULTS_FILE, SUMMARY_FILE, read_dataset, wri
 from bemcheck.run import tasks as bem_tasks
 from bemcheck.run.progress import COMPILE_HINT_S, Progress
 from bemcheck.run.store import PartStore, RunLock
+from bemcheck.run.surface_fields import COLLECTION, frames, write_surface_fields
 from bemcheck.run.sweep import CHECK, SOLVE, execute, plan_tasks, task_label
 from bemcheck.run.tasks import check_mesh, stored_solve
 from bemcheck.solvers.bem.runtime import kernels_compiled
@@ -214,7 +215,7 @@ def _say_compile(case, todo, workers, scheduler, progress):
         progress.step(f"compiling the BEM kernels with the first task: once per process, about {COMPILE_HINT_S:.0f} s")
 
 
-def run_case(case, out_dir, model="both", report=False, frequencies=None, **options):
+def run_case(case, out_dir, model="both", report=False, frequencies=None, surface_fields=False, **options):
     """Evaluate ``case`` and write ``results.nc`` and ``summary.json`` in ``out_dir``.
 
     Parameters
@@ -230,6 +231,9 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
     frequencies : sequence of float, optional
         Run only these of the case's frequencies; every number at them is
         the same as in a run of all of them (the meshes are planned from all).
+    surface_fields : bool
+        Also write the surface pressures per frequency for ParaView
+        (:mod:`bemcheck.run.surface_fields`; the BEM's solves only).
     **options
         ``progress_stream`` (default stderr) and ``quiet`` for the progress
         lines; the rest is passed to :func:`bem_responses`: ``workers``,
@@ -292,11 +296,18 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
             # a results.nc without its summary would pass for a finished run
             results.unlink(missing_ok=True)
             raise
+        if surface_fields and stored:
+            _write_surface_fields(case, ds, stored, folder, progress)
         report_path = _write_report(full, folder, options, progress) if report else None
     lines = tuple(verdict_lines(verdict)) if verdict else ()
     if build is not None:
         lines += build.lines
     return RunOutcome(folder, results, json.loads(json.dumps(summary)), lines, report_path)
+
+
+def _write_surface_fields(case, ds, stored, folder, progress):
+    progress.step(f"surface fields: {len(stored)} frequencies into {folder / COLLECTION}")
+    write_surface_fields(folder, frames(case, ds, stored, stored_solve))
 
 
 def _write_report(case, folder, options, progress):
