@@ -67,3 +67,15 @@ def test_free_run_over_the_floor(tmp_path, capsys):
         big_r = np.sinc(k * r / np.pi) + np.sinc(k * r_image / np.pi)
         expected = -10 * np.log10(1 - big_r[0, 1] ** 2 / (big_r[0, 0] * big_r[1, 1]))
         assert float(ds["attenuation_free_db"].sel(frequency=f)) == pytest.approx(expected, abs=1e-9)
+
+
+def test_explore_drops_candidates_at_or_below_the_floor():
+    """A candidate under the floor has no field in the half space (common practice, no source)."""
+    from bemcheck.explore.candidates import BELOW, screen
+
+    text = CASE.format(floor="[floor]\nz = -0.5") + "[explore]\npoints = [[1.0, 0.0, 0.0], [1.0, 0.0, -0.5], [1.0, 0.0, -0.9]]\n"
+    case = parse_case(text)
+    kept = screen(case.explore, [], [s.position for s in case.sources], case.floor)
+    assert kept.positions.tolist() == [[1.0, 0.0, 0.0]]
+    assert kept.dropped[BELOW] == 2 and kept.total == 3
+    assert "2 at or below the floor" in kept.dropped_line()
