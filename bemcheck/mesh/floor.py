@@ -29,11 +29,12 @@ def check_floor_clearance(case, mesh):
     Examples
     --------
     >>> from bemcheck.case.floor import Floor
-    >>> from bemcheck.case.model import Body, Case, Source, Sphere
+    >>> from bemcheck.case.model import Body, Case, Source
+    >>> from bemcheck.case.shapes import Sphere
     >>> from bemcheck.mesh.surface import SurfaceMesh
     >>> tet = SurfaceMesh(np.array([[0, 0, 0.1], [1, 0, 0.1], [0, 1, 0.1], [0, 0, 1.1]]),
     ...                   np.array([[0, 2, 1], [0, 1, 3], [0, 3, 2], [1, 2, 3]]), np.ones(4, int), {"b": 1})
-    >>> case = Case("t", (100.0,), (Source("p", "primary", (2, 0, 1)),), bodies=(Body("b", "sphere", Sphere(1.0)),),
+    >>> case = Case("t", (100.0,), (Source("p", "primary", (2, 0, 1)),), bodies=(Body("b", Sphere(1.0)),),
     ...             floor=Floor(0.0))
     >>> check_floor_clearance(case, tet)
     Traceback (most recent call last):

@@ -25,9 +25,8 @@ from dataclasses import replace
 import numba
 import numpy as np
 
-from bemcheck.solvers.bem.assembly import (
-    _BLOCK, FAR_RATIO, _add_pair, _far_apart, _far_block, _pair_sums, _points, colour_triangles,
-)
+from bemcheck.settings import NUMERICS
+from bemcheck.solvers.bem.assembly import _BLOCK, _add_pair, _far_apart, _far_block, _pair_sums, _points, colour_triangles
 from bemcheck.solvers.bem.kernel import cis, surface_curls
 
 _FLIP = np.array([1.0, 1.0, -1.0])
@@ -90,7 +89,7 @@ def _doubled(surface, floor):
     )
 
 
-def add_image_part(out, surface, k, eta, floor, far_ratio=FAR_RATIO):
+def add_image_part(out, surface, k, eta, floor, far_ratio=NUMERICS.far_ratio):
     """Add the image part of -K + ηW (every pair of triangles) to ``out`` in place.
 
     Holds one more (nv, nv) complex array while it runs, as the free-space pass.
@@ -158,7 +157,7 @@ def _image_velocity(out, support, triangles, normals, areas, sizes, centroids, x
                 out[triangles[t, a], j] += areas[t] * areas[s] * v[a]
 
 
-def image_velocity_matrix(surface, support, k, eta, floor, far_ratio=FAR_RATIO):
+def image_velocity_matrix(surface, support, k, eta, floor, far_ratio=NUMERICS.far_ratio):
     """The image part of V + ηK' from a constant ∂p/∂n on each support triangle: (nv, n_sup) complex."""
     a = _doubled(surface, floor)
     support = np.ascontiguousarray(support, dtype=np.int64)
