@@ -23,7 +23,7 @@ from bemcheck.case.model import Medium
 from bemcheck.mesh.surface import SurfaceMesh
 from bemcheck.solvers import freefield, halfspace
 from bemcheck.solvers.bem import image, system as bem_system
-from bemcheck.solvers.bem.device import bempp, current_device
+from bemcheck.solvers.bem.runtime import bempp, current_device
 from bemcheck.solvers.bem.quadrature import rule
 from bemcheck.solvers.bem.solve import solve_frequency
 from bemcheck.solvers.bem.surface import surface_from_mesh
