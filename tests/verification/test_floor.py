@@ -23,7 +23,7 @@ from bemcheck.case.model import Medium
 from bemcheck.mesh.surface import SurfaceMesh
 from bemcheck.solvers import freefield, halfspace
 from bemcheck.solvers.bem import image, system as bem_system
-from bemcheck.solvers.bem.runtime import bempp, current_device
+from bemcheck.solvers.bem.runtime import BACKEND, bempp
 from bemcheck.solvers.bem.quadrature import rule
 from bemcheck.solvers.bem.solve import solve_frequency
 from bemcheck.solvers.bem.surface import surface_from_mesh
@@ -112,7 +112,7 @@ def test_image_terms_are_bempp_cl_operators_on_the_mirrored_grid(body):
     p1, q1 = b.function_space(bem_system._grid(s), "P", 1), b.function_space(mirrored, "P", 1)
     params = b.DefaultParameters()
     params.quadrature.regular = 4
-    opts = {"assembler": "dense", "device_interface": current_device(), "precision": "double", "parameters": params}
+    opts = {"assembler": "dense", "device_interface": BACKEND, "precision": "double", "parameters": params}
     helm = b.operators.boundary.helmholtz
     support = np.flatnonzero(s.normals[:, 2] > 0.5)
     dp0 = b.function_space(mirrored, "DP", 0, support_elements=support)
