@@ -59,10 +59,15 @@ def measure(repeat):
     out = np.zeros((surface.n_vertices, surface.n_vertices), complex)
     image = _best(lambda: add_image_part(out, surface, k, eta, floor), repeat)
     return {
-        "triangles": int(surface.n_triangles), "unknowns": int(surface.n_vertices), "frequency_hz": band.f_high,
-        "free_space_assembly_s": free, "image_part_s": image, "with_floor_over_without": (free + image) / free,
+        "triangles": int(surface.n_triangles),
+        "unknowns": int(surface.n_vertices),
+        "frequency_hz": band.f_high,
+        "free_space_assembly_s": free,
+        "image_part_s": image,
+        "with_floor_over_without": (free + image) / free,
         "threads": int(os.environ.get("NUMBA_NUM_THREADS", os.cpu_count())),
-        "load_before": load_before, "load_after": os.getloadavg(),
+        "load_before": load_before,
+        "load_after": os.getloadavg(),
     }
 
 

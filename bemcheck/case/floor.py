@@ -80,17 +80,21 @@ def check_floor(case):
         _above(floor, obs.at, f"{file}: observers.points[{i}].at: observer point '{obs.name}'", above)
     for i, note in enumerate(case.played):
         if note.at is not None:
-            _above(floor, note.at, f"{file}: note[{i}].distance: the point the levels of '{note.name}' were measured at",
-                   above)
+            _above(
+                floor,
+                note.at,
+                f"{file}: note[{i}].distance: the point the levels of '{note.name}' were measured at",
+                above,
+            )
     unit = for_observers(case.observers.far_field).unit
     below = np.flatnonzero(unit[:, 2] < -1e-12)
     if below.size:
         ff = case.observers.far_field
-        asked = f"sphere = true, degree = {ff.degree}" if ff.sphere else f"plane = \"{ff.plane}\""
+        asked = f"sphere = true, degree = {ff.degree}" if ff.sphere else f'plane = "{ff.plane}"'
         raise CaseError(
             f"{file}: observers.far_field: {asked} holds {below.size} direction(s) below the floor "
             f"(floor.z = {floor.z:g} m), e.g. {unit[below[0]].round(4).tolist()}; expected directions "
-            "above it only: plane = \"xy\" (the floor's own plane, grazing)"
+            'above it only: plane = "xy" (the floor\'s own plane, grazing)'
         )
 
 

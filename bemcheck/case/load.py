@@ -11,6 +11,7 @@ from bemcheck.case import limits
 from bemcheck.case.amplifiers import read_amplifiers
 from bemcheck.case.drivers import Driver, check_driver
 from bemcheck.case.explore import read_explore
+from bemcheck.case.floor import check_floor, read_floor
 from bemcheck.case.limits import COINCIDENT, COORDINATE, DIRECTION, FREQUENCY
 from bemcheck.case.model import (
     Body,
@@ -25,7 +26,6 @@ from bemcheck.case.model import (
     Spectrum,
     Tolerance,
 )
-from bemcheck.case.floor import check_floor, read_floor
 from bemcheck.case.objectives import OBJECTIVES, MinimumPower
 from bemcheck.case.reader import TableReader
 from bemcheck.case.sector import read_sector

@@ -53,12 +53,16 @@ def check_floor_clearance(case, mesh):
         h = float(heights[low])
         point = np.round(corners[low], 4).tolist()
         if h <= 0.0:
-            raise GeometryError(f"{file}: body[{i}] '{body.name}': its surface reaches {-h:.3g} m below the floor "
-                                f"(floor.z = {floor.z:g} m) at {point}; expected every body above the floor")
+            raise GeometryError(
+                f"{file}: body[{i}] '{body.name}': its surface reaches {-h:.3g} m below the floor "
+                f"(floor.z = {floor.z:g} m) at {point}; expected every body above the floor"
+            )
         edges = np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max(axis=1)
         touching = (np.abs(heights - h) <= 1e-12 * max(1.0, abs(floor.z))).any(axis=1)
         need = FLOOR_MARGIN * float(edges[touching].max())
         if h < need:
-            raise GeometryError(f"{file}: body[{i}] '{body.name}': its surface comes down to {h:.3g} m above the floor "
-                                f"(floor.z = {floor.z:g} m) at {point}; expected at least {FLOOR_MARGIN:g} of the local "
-                                f"element size ({need:.3g} m) between a body and the floor: raise the body")
+            raise GeometryError(
+                f"{file}: body[{i}] '{body.name}': its surface comes down to {h:.3g} m above the floor "
+                f"(floor.z = {floor.z:g} m) at {point}; expected at least {FLOOR_MARGIN:g} of the local "
+                f"element size ({need:.3g} m) between a body and the floor: raise the body"
+            )

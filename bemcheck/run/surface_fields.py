@@ -124,7 +124,9 @@ def write_surface_fields(folder, frames_):
         atomic_write_bytes(folder / name, _vtu_bytes(frame))
         written.append(folder / name)
         rows.append(f'    <DataSet timestep="{frame.frequency!r}" group="" part="0" file={quoteattr(name)}/>')
-    pvd = ('<?xml version="1.0"?>\n<VTKFile type="Collection" version="0.1" byte_order="LittleEndian">\n'
-           "  <Collection>\n" + "\n".join(rows) + "\n  </Collection>\n</VTKFile>\n")
+    pvd = (
+        '<?xml version="1.0"?>\n<VTKFile type="Collection" version="0.1" byte_order="LittleEndian">\n'
+        "  <Collection>\n" + "\n".join(rows) + "\n  </Collection>\n</VTKFile>\n"
+    )
     atomic_write_bytes(folder / COLLECTION, pvd.encode())
     return written + [folder / COLLECTION]

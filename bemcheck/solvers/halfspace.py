@@ -38,8 +38,9 @@ def transfer_matrix(frequency, medium, sources, points, floor=None):
     x = np.atleast_2d(np.asarray(sources, dtype=float))
     if floor is None:
         return freefield.transfer_matrix(frequency, medium, x, points)
-    return (freefield.transfer_matrix(frequency, medium, x, points)
-            + freefield.transfer_matrix(frequency, medium, floor.mirror(x), points))
+    return freefield.transfer_matrix(frequency, medium, x, points) + freefield.transfer_matrix(
+        frequency, medium, floor.mirror(x), points
+    )
 
 
 def far_field_matrix(frequency, medium, sources, directions, floor=None):
@@ -47,8 +48,9 @@ def far_field_matrix(frequency, medium, sources, directions, floor=None):
     x = np.atleast_2d(np.asarray(sources, dtype=float))
     if floor is None:
         return freefield.far_field_matrix(frequency, medium, x, directions)
-    return (freefield.far_field_matrix(frequency, medium, x, directions)
-            + freefield.far_field_matrix(frequency, medium, floor.mirror(x), directions))
+    return freefield.far_field_matrix(frequency, medium, x, directions) + freefield.far_field_matrix(
+        frequency, medium, floor.mirror(x), directions
+    )
 
 
 def impedance_matrix(frequency, medium, sources, floor=None):
@@ -62,7 +64,8 @@ def impedance_matrix(frequency, medium, sources, floor=None):
     if floor is None:
         return freefield.impedance_matrix(frequency, medium, x)
     return freefield.impedance_matrix(frequency, medium, x) + freefield.transfer_matrix(
-        frequency, medium, floor.mirror(x), x)
+        frequency, medium, floor.mirror(x), x
+    )
 
 
 def resistance_matrix(frequency, medium, sources, floor=None):
@@ -83,4 +86,5 @@ def resistance_matrix(frequency, medium, sources, floor=None):
     k = freefield.wavenumber(frequency, medium)
     image = np.linalg.norm(x[:, None, :] - floor.mirror(x)[None, :, :], axis=2)
     return freefield.resistance_matrix(frequency, medium, x) + freefield.radiation_resistance(
-        frequency, medium) * np.sinc(k * image / np.pi)
+        frequency, medium
+    ) * np.sinc(k * image / np.pi)

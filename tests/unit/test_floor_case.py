@@ -73,7 +73,10 @@ def test_explore_drops_candidates_at_or_below_the_floor():
     """A candidate under the floor has no field in the half space (common practice, no source)."""
     from bemcheck.explore.candidates import BELOW, screen
 
-    text = CASE.format(floor="[floor]\nz = -0.5") + "[explore]\npoints = [[1.0, 0.0, 0.0], [1.0, 0.0, -0.5], [1.0, 0.0, -0.9]]\n"
+    text = (
+        CASE.format(floor="[floor]\nz = -0.5")
+        + "[explore]\npoints = [[1.0, 0.0, 0.0], [1.0, 0.0, -0.5], [1.0, 0.0, -0.9]]\n"
+    )
     case = parse_case(text)
     kept = screen(case.explore, [], [s.position for s in case.sources], case.floor)
     assert kept.positions.tolist() == [[1.0, 0.0, 0.0]]

@@ -49,8 +49,19 @@ def run(tmp_path_factory):
     tmp = tmp_path_factory.mktemp("surface")
     path = tmp / "case.toml"
     path.write_text(CASE)
-    code = main(["run", str(path), "--out", str(tmp / "out"), "--no-report", "--surface-fields", "--quiet",
-                 "--mesh-cache", str(tmp / "cache")])
+    code = main(
+        [
+            "run",
+            str(path),
+            "--out",
+            str(tmp / "out"),
+            "--no-report",
+            "--surface-fields",
+            "--quiet",
+            "--mesh-cache",
+            str(tmp / "cache"),
+        ]
+    )
     assert code == 0
     return bemcheck.load_case(path), tmp / "out"
 
@@ -76,8 +87,11 @@ def test_each_file_holds_the_surface_solution(run):
         mesh = SurfaceMesh(vtu.points, triangles, np.ones(len(triangles), int))
         sol = solve_frequency(mesh, f, case.medium, x, floor=case.floor)
         q = ds["q_primary"].values + ds["q_control_free"].sel(frequency=f).values
-        for name, p in [("p", sol.surface_pressure[:, 0] * q[0]), ("c", sol.surface_pressure[:, 1] * q[1]),
-                        ("controlled", sol.surface_pressure @ q)]:
+        for name, p in [
+            ("p", sol.surface_pressure[:, 0] * q[0]),
+            ("c", sol.surface_pressure[:, 1] * q[1]),
+            ("controlled", sol.surface_pressure @ q),
+        ]:
             level = 20 * np.log10(np.abs(p) / np.sqrt(2) / 20e-6)
             np.testing.assert_allclose(vtu.point_data[f"{name}_spl_db"], level, rtol=0, atol=1e-9)
             np.testing.assert_allclose(vtu.point_data[f"{name}_phase_deg"], np.degrees(np.angle(p)), rtol=0, atol=1e-7)

@@ -22,9 +22,10 @@ from bemcheck.case.floor import Floor
 from bemcheck.case.model import Medium
 from bemcheck.mesh.surface import SurfaceMesh
 from bemcheck.solvers import freefield, halfspace
-from bemcheck.solvers.bem import image, system as bem_system
-from bemcheck.solvers.bem.runtime import BACKEND, bempp
+from bemcheck.solvers.bem import image
+from bemcheck.solvers.bem import system as bem_system
 from bemcheck.solvers.bem.quadrature import rule
+from bemcheck.solvers.bem.runtime import BACKEND, bempp
 from bemcheck.solvers.bem.solve import solve_frequency
 from bemcheck.solvers.bem.surface import surface_from_mesh
 from tests.support.icosphere import icosphere, voxel_body
@@ -44,7 +45,14 @@ def image_pressure(frequency, x0, points, z0):
     image = np.array(x0, dtype=float) * [1, 1, -1] + [0, 0, 2 * z0]
     r1 = np.linalg.norm(points - np.asarray(x0), axis=1)
     r2 = np.linalg.norm(points - image, axis=1)
-    return -1j * 2 * np.pi * frequency * MEDIUM.density * (np.exp(1j * k * r1) / (4 * np.pi * r1) + np.exp(1j * k * r2) / (4 * np.pi * r2))
+    return (
+        -1j
+        * 2
+        * np.pi
+        * frequency
+        * MEDIUM.density
+        * (np.exp(1j * k * r1) / (4 * np.pi * r1) + np.exp(1j * k * r2) / (4 * np.pi * r2))
+    )
 
 
 # -- the free-field model --------------------------------------------------------------
@@ -81,7 +89,9 @@ def test_free_model_power_is_the_flux_through_the_upper_hemisphere():
     mu, w_mu = 0.5 * (mu + 1), 0.5 * w_mu
     phi = 2 * np.pi * np.arange(120) / 120
     s = np.sqrt(1 - mu**2)
-    d = np.stack([np.outer(s, np.cos(phi)), np.outer(s, np.sin(phi)), np.outer(mu, np.ones_like(phi))], -1).reshape(-1, 3)
+    d = np.stack([np.outer(s, np.cos(phi)), np.outer(s, np.sin(phi)), np.outer(mu, np.ones_like(phi))], -1).reshape(
+        -1, 3
+    )
     w = np.outer(w_mu, np.full(len(phi), 2 * np.pi / len(phi))).reshape(-1)
     far = halfspace.far_field_matrix(f, MEDIUM, x, d, FLOOR) @ q
     flux = (w * np.abs(far) ** 2).sum() / (2 * RHO_C)
@@ -102,13 +112,19 @@ def _dense(op):
 def test_image_terms_are_bempp_cl_operators_on_the_mirrored_grid(body):
     """-K + ηW and V + ηK' from the mirror image of the grid (its triangles reversed, so
     outward) to the grid itself: bempp-cl with the 6-point rule, ours with it everywhere."""
-    mesh = {"sphere": lambda: icosphere(0.3, 3, centre=(0.1, 0.0, 0.15)),
-            "L block": lambda: voxel_body(np.array([[[True], [True]], [[True], [False]]]), 0.1, n=2,
-                                          origin=(0.0, 0.0, -0.18))}[body]()
+    mesh = {
+        "sphere": lambda: icosphere(0.3, 3, centre=(0.1, 0.0, 0.15)),
+        "L block": lambda: voxel_body(
+            np.array([[[True], [True]], [[True], [False]]]), 0.1, n=2, origin=(0.0, 0.0, -0.18)
+        ),
+    }[body]()
     s = surface_from_mesh(mesh)
     b = bempp()
-    mirrored = b.Grid(FLOOR.mirror(s.vertices).T.copy(), s.triangles[:, [0, 2, 1]].T.astype(np.uint32).copy(),
-                      s.domains.astype(np.uint32))
+    mirrored = b.Grid(
+        FLOOR.mirror(s.vertices).T.copy(),
+        s.triangles[:, [0, 2, 1]].T.astype(np.uint32).copy(),
+        s.domains.astype(np.uint32),
+    )
     p1, q1 = b.function_space(bem_system._grid(s), "P", 1), b.function_space(mirrored, "P", 1)
     params = b.DefaultParameters()
     params.quadrature.regular = 4
@@ -117,11 +133,15 @@ def test_image_terms_are_bempp_cl_operators_on_the_mirrored_grid(body):
     support = np.flatnonzero(s.normals[:, 2] > 0.5)
     dp0 = b.function_space(mirrored, "DP", 0, support_elements=support)
     for k, eta in [(10.0, 0.1j), (3.0, 0.2 - 0.5j)]:
-        ref = -_dense(helm.double_layer(q1, p1, p1, k, **opts)) + eta * _dense(helm.hypersingular(q1, p1, p1, k, **opts))
+        ref = -_dense(helm.double_layer(q1, p1, p1, k, **opts)) + eta * _dense(
+            helm.hypersingular(q1, p1, p1, k, **opts)
+        )
         ours = np.zeros_like(ref)
         image.add_image_part(ours, s, k, eta, FLOOR, far_ratio=np.inf)
         assert np.linalg.norm(ours - ref) <= 1e-12 * np.linalg.norm(ref)
-        ref_v = _dense(helm.single_layer(dp0, p1, p1, k, **opts)) + eta * _dense(helm.adjoint_double_layer(dp0, p1, p1, k, **opts))
+        ref_v = _dense(helm.single_layer(dp0, p1, p1, k, **opts)) + eta * _dense(
+            helm.adjoint_double_layer(dp0, p1, p1, k, **opts)
+        )
         ours_v = image.image_velocity_matrix(s, support, k, eta, FLOOR, far_ratio=np.inf)
         assert np.linalg.norm(ours_v - ref_v) <= 1e-12 * np.linalg.norm(ref_v)
 
@@ -141,7 +161,14 @@ def halfspace_velocity(mesh, x0, frequency):
     for src in (np.asarray(x0, float), FLOOR.mirror(x0)):
         d = y - src
         dist = np.linalg.norm(d, axis=2)
-        total = total + np.exp(1j * k * dist) / (4 * np.pi * dist) * (1j * k - 1 / dist) * np.einsum("tqi,ti->tq", d, normal) / dist
+        total = (
+            total
+            + np.exp(1j * k * dist)
+            / (4 * np.pi * dist)
+            * (1j * k - 1 / dist)
+            * np.einsum("tqi,ti->tq", d, normal)
+            / dist
+        )
     return (-total * r.weights).sum(axis=1, keepdims=True)
 
 
@@ -150,7 +177,9 @@ def interior_source(frequency):
     """A cube of 0.3 m (7 x 7 per face) 0.05 m above the floor, a monopole inside it at height 0.19 m."""
     mesh = voxel_body([[[True]]], 0.3, n=7, origin=(-0.15, -0.15, FLOOR.z + 0.05))
     x0 = np.array([0.03, -0.05, FLOOR.z + 0.19])
-    points = np.array([[0.5, 0.2, FLOOR.z + 0.1], [-0.3, 0.6, 0.4], [0.0, 0.0, FLOOR.z + 0.4], [1.0, -1.0, FLOOR.z + 1e-3]])
+    points = np.array(
+        [[0.5, 0.2, FLOOR.z + 0.1], [-0.3, 0.6, 0.4], [0.0, 0.0, FLOOR.z + 0.4], [1.0, -1.0, FLOOR.z + 1e-3]]
+    )
     v = halfspace_velocity(mesh, x0, frequency)
     sol = solve_frequency(mesh, frequency, MEDIUM, np.zeros((0, 3)), UPPER, points, velocities=v, floor=FLOOR)
     return sol, x0, points
@@ -196,9 +225,12 @@ def sphere_and_mirror():
     obs = np.array([[0.0, 0.6, FLOOR.z + 0.2], [-0.5, -0.5, FLOOR.z + 0.9]])
     over = solve_frequency(mesh, frequency, MEDIUM, [x0], UPPER, obs, floor=FLOOR)
     nv = len(mesh.vertices)
-    both = SurfaceMesh(np.vstack([mesh.vertices, FLOOR.mirror(mesh.vertices)]),
-                       np.vstack([mesh.triangles, mesh.triangles[:, [0, 2, 1]] + nv]),
-                       np.concatenate([mesh.domains, mesh.domains + 1]), {"upper": 1, "lower": 2})
+    both = SurfaceMesh(
+        np.vstack([mesh.vertices, FLOOR.mirror(mesh.vertices)]),
+        np.vstack([mesh.triangles, mesh.triangles[:, [0, 2, 1]] + nv]),
+        np.concatenate([mesh.domains, mesh.domains + 1]),
+        {"upper": 1, "lower": 2},
+    )
     free = solve_frequency(both, frequency, MEDIUM, [x0, FLOOR.mirror(x0)], UPPER, obs)
     return over, free, nv
 

@@ -26,15 +26,43 @@ import numba
 import numpy as np
 
 from bemcheck.settings import NUMERICS
-from bemcheck.solvers.bem.assembly import _BLOCK, _add_pair, _far_apart, _far_block, _pair_sums, _points, colour_triangles
+from bemcheck.solvers.bem.assembly import (
+    _BLOCK,
+    _add_pair,
+    _far_apart,
+    _far_block,
+    _pair_sums,
+    _points,
+    colour_triangles,
+)
 from bemcheck.solvers.bem.kernel import cis, surface_curls
 
 _FLIP = np.array([1.0, 1.0, -1.0])
 
 
 @numba.njit(parallel=True, fastmath=True, error_model="numpy")
-def _image_pairs(ahead, behind, triangles, normals, areas, sizes, centroids, curls, near_x, near_phi, near_w,
-                 far_phi, far_w, fx, nrm, members, k, eta_re, eta_im, far_ratio):
+def _image_pairs(
+    ahead,
+    behind,
+    triangles,
+    normals,
+    areas,
+    sizes,
+    centroids,
+    curls,
+    near_x,
+    near_phi,
+    near_w,
+    far_phi,
+    far_w,
+    fx,
+    nrm,
+    members,
+    k,
+    eta_re,
+    eta_im,
+    far_ratio,
+):
     """Add the image part of -K + ηW for test triangles t in ``members``.
 
     The arrays hold 2·nt triangles: the surface's, then their mirror images
@@ -113,15 +141,49 @@ def add_image_part(out, surface, k, eta, floor, far_ratio=NUMERICS.far_ratio):
     nrm = np.ascontiguousarray(a["normals"].T)
     behind = np.zeros_like(out)
     for members in colour_triangles(surface.triangles):
-        _image_pairs(out, behind, a["triangles"], a["normals"], a["areas"], a["sizes"], a["centroids"], a["curls"],
-                     *a["near"], a["far"][1], a["far"][2], fx, nrm, members, float(k), float(np.real(eta)),
-                     float(np.imag(eta)), float(far_ratio))
+        _image_pairs(
+            out,
+            behind,
+            a["triangles"],
+            a["normals"],
+            a["areas"],
+            a["sizes"],
+            a["centroids"],
+            a["curls"],
+            *a["near"],
+            a["far"][1],
+            a["far"][2],
+            fx,
+            nrm,
+            members,
+            float(k),
+            float(np.real(eta)),
+            float(np.imag(eta)),
+            float(far_ratio),
+        )
     out += behind.T
 
 
 @numba.njit(parallel=True, fastmath=True, error_model="numpy")
-def _image_velocity(out, support, triangles, normals, areas, sizes, centroids, xq_near, xq_far, near_phi, near_w,
-                    far_phi, far_w, k, eta_re, eta_im, far_ratio):
+def _image_velocity(
+    out,
+    support,
+    triangles,
+    normals,
+    areas,
+    sizes,
+    centroids,
+    xq_near,
+    xq_far,
+    near_phi,
+    near_w,
+    far_phi,
+    far_w,
+    k,
+    eta_re,
+    eta_im,
+    far_ratio,
+):
     """Add the image part of V + ηK' for a constant trial function on each support triangle.
 
     As :func:`bemcheck.solvers.bem.assembly._regular_velocity`, on the
@@ -162,9 +224,25 @@ def image_velocity_matrix(surface, support, k, eta, floor, far_ratio=NUMERICS.fa
     a = _doubled(surface, floor)
     support = np.ascontiguousarray(support, dtype=np.int64)
     out = np.zeros((surface.n_vertices, len(support)), dtype=np.complex128)
-    _image_velocity(out, support, a["triangles"], a["normals"], a["areas"], a["sizes"], a["centroids"],
-                    a["near"][0], a["far"][0], a["near"][1], a["near"][2], a["far"][1], a["far"][2], float(k),
-                    float(np.real(eta)), float(np.imag(eta)), float(far_ratio))
+    _image_velocity(
+        out,
+        support,
+        a["triangles"],
+        a["normals"],
+        a["areas"],
+        a["sizes"],
+        a["centroids"],
+        a["near"][0],
+        a["far"][0],
+        a["near"][1],
+        a["near"][2],
+        a["far"][1],
+        a["far"][2],
+        float(k),
+        float(np.real(eta)),
+        float(np.imag(eta)),
+        float(far_ratio),
+    )
     return out
 
 
@@ -174,11 +252,16 @@ def with_image(direct, image):
     The nearness data (distance, nearest point, inside test) stay the
     direct ones: the mirror images lie below the floor, away from every body.
     """
+
     def plus(a, b):
         return None if a is None else a + b
 
-    return replace(direct, single=plus(direct.single, image.single), double=direct.double + image.double,
-                   single_p0=plus(direct.single_p0, image.single_p0))
+    return replace(
+        direct,
+        single=plus(direct.single, image.single),
+        double=direct.double + image.double,
+        single_p0=plus(direct.single_p0, image.single_p0),
+    )
 
 
 def mirrored_directions(directions, k, floor):
