@@ -11,6 +11,7 @@ from bemcheck.case import limits
 from bemcheck.case.amplifiers import read_amplifiers
 from bemcheck.case.drivers import Driver, check_driver
 from bemcheck.case.explore import read_explore
+from bemcheck.case.floor import check_floor, read_floor
 from bemcheck.case.limits import COINCIDENT, COORDINATE, DIRECTION, FREQUENCY
 from bemcheck.case.model import (
     Body,
@@ -120,6 +121,7 @@ def parse_case(text, path=Path("<case>")):
     _unique([n.name for n in played], "note", file)
     build = _build(top.sub("build", None))
     explore = read_explore(top.sub("explore", None), sources, file)
+    floor = read_floor(top.sub("floor", None))
     top.done()
     case = Case(
         title=title,
@@ -137,10 +139,12 @@ def parse_case(text, path=Path("<case>")):
         played=played,
         build=build,
         explore=explore,
+        floor=floor,
         path=Path(path),
         text=text,
     )
     limits.check_case(case)
+    check_floor(case)
     return case
 
 

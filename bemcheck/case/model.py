@@ -9,6 +9,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from bemcheck.case.explore import ExploreSpec
+from bemcheck.case.floor import Floor
 from bemcheck.case.objectives import MinimumPower, Objective
 from bemcheck.case.sector import Sector
 from bemcheck.case.shapes import Shape, Vec3
@@ -196,6 +197,7 @@ class Case:
     played: tuple[Spectrum, ...] = ()
     build: BuildChecks = field(default_factory=BuildChecks)
     explore: ExploreSpec | None = None
+    floor: Floor | None = None
     notes: str = ""
     path: Path | None = None
     text: str = ""

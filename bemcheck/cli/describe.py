@@ -122,6 +122,9 @@ def case_lines(case, directions):
         lines += _mesh_lines(case)
     else:
         lines.append(_row("bodies", "none: the BEM answers the free field (nothing is meshed)"))
+    if case.floor is not None:
+        lines.append(_row("floor", f"rigid plane z = {case.floor.z:g} m: both models hold it by image sources "
+                                   "(power over the upper half space)"))
     lines += [_source_line(s) for s in case.sources]
     kind = f"sphere, Lebedev degree {ff.degree}" if ff.sphere else f"circle in {ff.plane}, every {ff.step_deg:g} deg"
     lines.append(_row("far field", f"{len(directions)} directions ({kind})"))

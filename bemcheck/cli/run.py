@@ -28,6 +28,7 @@ def add_arguments(r):
     r.add_argument("--scheduler", metavar="ADDRESS", help="run the BEM sweep on a Dask distributed scheduler, e.g. tcp://10.0.0.5:8786")
     r.add_argument("--mesh-cache", type=Path, metavar="DIR", help=MESH_CACHE_HELP)
     r.add_argument("--no-report", action="store_true", help="skip the HTML report")
+    r.add_argument("--surface-fields", action="store_true", help="also write the surface pressure level and phase of each source and of the controlled system per frequency (.vtu and a .pvd collection for ParaView)")
     talk = r.add_mutually_exclusive_group()
     talk.add_argument("--quiet", action="store_true", help="no progress lines")
     talk.add_argument("--verbose", action="store_true", help="also print each task's mesh, timings and stored file, the mesh cache's hits and the numerical error per band")
@@ -43,12 +44,15 @@ def execute(args, out):
               file=out)
     if args.workers < 1:
         raise BemcheckInputError(f"--workers: expected a whole number ≥ 1, got {args.workers}")
+    if args.surface_fields and args.model == "free":
+        raise BemcheckInputError("--surface-fields: expected --model both (the free-field model has no surfaces)")
     folder = args.out or default_out(args.case)
     options = {"quiet": args.quiet}
     if args.model != "free":
         options.update(workers=args.workers, scheduler=args.scheduler, cache_dir=args.mesh_cache)
     bands = _verbose_before(case, args) if args.verbose else None
-    outcome = run_case(case, folder, model=args.model, report=not args.no_report, frequencies=subset, **options)
+    outcome = run_case(case, folder, model=args.model, report=not args.no_report, frequencies=subset,
+                       surface_fields=args.surface_fields, **options)
     if bands:
         _verbose_after(bands, outcome)
     if args.model == "free":

@@ -2,8 +2,8 @@
 
 A candidate is dropped when a model could not hold it: inside a body, closer
 to a surface than the BEM resolves (``MIN_SOURCE_GAP`` element sizes on any
-band's mesh), or on top of a primary or a fixed control (the two would be one
-source to any model).
+band's mesh), on top of a primary or a fixed control (the two would be one
+source to any model), or at or below the case's floor.
 """
 
 from dataclasses import dataclass
@@ -18,7 +18,8 @@ from bemcheck.solvers.bem.solve import MIN_SOURCE_GAP
 from bemcheck.solvers.bem.surface import surface_from_mesh
 
 INSIDE, TOO_CLOSE, COINCIDES = "inside a body", "closer to a surface than the solver resolves", "at a source's position"
-REASONS = (INSIDE, TOO_CLOSE, COINCIDES)
+BELOW = "at or below the floor"
+REASONS = (INSIDE, TOO_CLOSE, COINCIDES, BELOW)
 
 
 @dataclass(frozen=True)
@@ -86,7 +87,7 @@ def candidate_points(spec):
     return np.round(np.concatenate(x), 9), np.concatenate(ij)
 
 
-def screen(spec, meshes, occupied):
+def screen(spec, meshes, occupied, floor=None):
     """Keep the candidates every model can hold.
 
     Parameters
@@ -96,12 +97,16 @@ def screen(spec, meshes, occupied):
         Every band's mesh (a candidate must fit on all of them); empty without bodies.
     occupied : (S, 3) array_like
         Positions of the primaries and fixed controls [m].
+    floor : Floor, optional
+        The case's rigid floor: candidates must stand above it.
 
     Returns
     -------
     Candidates
     """
     x, ij = candidate_points(spec)
+    below = np.zeros(len(x), dtype=bool) if floor is None else floor.height(x) <= 0.0
+    x, ij = x[~below], ij[~below]
     inside = np.zeros(len(x), dtype=bool)
     close = np.zeros(len(x), dtype=bool)
     for mesh in meshes:
@@ -118,5 +123,6 @@ def screen(spec, meshes, occupied):
     near = np.linalg.norm(x[:, None, :] - occ[None, :, :], axis=2).min(axis=1, initial=np.inf) < COINCIDENT
     near &= ~(inside | close)
     keep = ~(inside | close | near)
-    dropped = {INSIDE: int(inside.sum()), TOO_CLOSE: int(close.sum()), COINCIDES: int(near.sum())}
-    return Candidates(x[keep], ij[keep], dropped, len(x))
+    dropped = {INSIDE: int(inside.sum()), TOO_CLOSE: int(close.sum()), COINCIDES: int(near.sum()),
+               BELOW: int(below.sum())}
+    return Candidates(x[keep], ij[keep], dropped, len(x) + int(below.sum()))

@@ -132,7 +132,7 @@ def solve_candidates(case, positions, meshes, directions, progress=None):
     free, bem, check, ratio, unknowns = [], [], [], [], []
     seconds = {"solve": 0.0, "check": 0.0}
     for i, f in enumerate(case.frequencies):
-        r = free_response(f, case.medium, xyz, directions.unit, np.zeros((0, 3)))
+        r = free_response(f, case.medium, xyz, directions.unit, np.zeros((0, 3)), case.floor)
         free.append((r.far_field, r.power_matrix))
         if meshes:
             mesh, coarse, size_ratio = meshes[band_of(bands, f).index]

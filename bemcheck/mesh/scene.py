@@ -11,6 +11,7 @@ from bemcheck.mesh.bands import REFUSED_BELOW
 from bemcheck.mesh.bodies import mesh_body
 from bemcheck.mesh.distance import nearest_on_surface, winding_number
 from bemcheck.mesh.estimate import check_mesh_size
+from bemcheck.mesh.floor import check_floor_clearance
 from bemcheck.mesh.surface import SurfaceMesh
 from bemcheck.settings import NUMERICS
 
@@ -146,8 +147,10 @@ def check_clearances(case, mesh, element_size, source_margin=None):
     Raises
     ------
     GeometryError
-        Naming the two bodies and their gap, or the source / observer and the body.
+        Naming the two bodies and their gap, the source / observer and the body, or a body
+        too close to the floor (:func:`~bemcheck.mesh.floor.check_floor_clearance`).
     """
+    check_floor_clearance(case, mesh)
     v = mesh.vertices
     surfaces = {b.name: _body_surface(mesh, b.name) for b in case.bodies}
     for a, b in combinations(case.bodies, 2):

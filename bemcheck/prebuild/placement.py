@@ -26,7 +26,7 @@ import numpy as np
 from bemcheck.errors import GeometryError
 from bemcheck.prebuild.tolerance import placement_spread, tolerance_for_loss
 from bemcheck.solvers.control.strengths import source_indices
-from bemcheck.solvers.freefield import impedance_matrix
+from bemcheck.solvers.halfspace import impedance_matrix
 
 # Percentiles of the attenuation reported [%]; the loss is judged at the first.
 PERCENTILES = (5.0, 50.0, 95.0)
@@ -174,7 +174,7 @@ def placement_study(case, plan, q_designed, surface_at=None):
         args = (x[primary], q_designed[i, primary], x[controls], q_designed[i, controls])
 
         def z_free(positions, f=f):
-            return impedance_matrix(f, case.medium, positions)
+            return impedance_matrix(f, case.medium, positions, case.floor)
 
         free = _study(z_free, args, tol, weights, loss, trials, SEARCH_UP_TO)
         same = None

@@ -21,7 +21,7 @@ import numpy as np
 
 from bemcheck.mesh.distance import nearest_on_surface
 from bemcheck.settings import NUMERICS
-from bemcheck.solvers import freefield
+from bemcheck.solvers import halfspace
 from bemcheck.solvers.bem.fields import Fields, check_targets
 from bemcheck.solvers.bem.moved import ImpedanceUpdate
 from bemcheck.solvers.bem.surface import surface_from_mesh
@@ -53,6 +53,8 @@ class StoredSolve:
         Solver column of each source, in case order.
     positions : (S, 3) ndarray
         Position of each source in case order [m] (a piston's face centre).
+    floor : Floor or None
+        The rigid floor of the solve (image terms in every field).
     """
 
     frequency: float
@@ -63,6 +65,7 @@ class StoredSolve:
     mesh: object
     column: np.ndarray
     positions: np.ndarray
+    floor: object = None
 
     @property
     def movable(self):
@@ -109,11 +112,11 @@ class StoredSolve:
         """
         x = np.asarray(points, dtype=float).reshape(-1, 3)
         f = self.frequency
-        incident = freefield.transfer_matrix(f, medium, self.monopoles, x).reshape(len(x), len(self.monopoles))
+        incident = halfspace.transfer_matrix(f, medium, self.monopoles, x, self.floor).reshape(len(x), len(self.monopoles))
         surface = surface_from_mesh(self.mesh)
         if surface.n_triangles == 0:
             return incident[:, self.column]
-        fields = Fields.build(surface, f, medium, self.monopoles, self.normal_velocity)
+        fields = Fields.build(surface, f, medium, self.monopoles, self.normal_velocity, self.floor)
         mom = fields.moments(x)
         check_targets(mom, x, "points")
         field = fields.pad(incident) + fields.scattered(mom, self.surface_pressure[surface.mesh_vertex])
@@ -157,7 +160,7 @@ class MovedImpedance:
         self.mono = stored.movable[order]
         self.fixed = stored.positions[order][~self.mono]
         self._update = ImpedanceUpdate(stored.frequency, medium, stored.mesh, stored.monopoles, stored.impedance,
-                                       stored.surface_pressure, stored.normal_velocity)
+                                       stored.surface_pressure, stored.normal_velocity, floor=stored.floor)
 
     def __call__(self, positions):
         """(K, 3) positions [m] -> (K, K) impedances [Pa per m³/s]."""

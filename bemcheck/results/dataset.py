@@ -79,7 +79,8 @@ def run_attributes(case, case_hash, device=None):
         except md.PackageNotFoundError:
             return "not installed"
 
-    return {
+    floor = {} if case.floor is None else {"floor_z": float(case.floor.z)}  # [m]; absent: no floor
+    return floor | {
         **global_attributes(case.title, "run"),
         "case_file": str(case.path),
         "case_text": case.text,

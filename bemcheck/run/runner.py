@@ -26,6 +26,7 @@ from bemcheck.results.verdict_summary import verdict_summary
 from bemcheck.run import tasks as bem_tasks
 from bemcheck.run.progress import COMPILE_HINT_S, Progress
 from bemcheck.run.store import PartStore, RunLock
+from bemcheck.run.surface_fields import COLLECTION, frames, write_surface_fields
 from bemcheck.run.sweep import CHECK, SOLVE, execute, plan_tasks, task_label
 from bemcheck.run.tasks import check_mesh, stored_solve
 from bemcheck.solvers.bem.runtime import kernels_compiled
@@ -68,7 +69,7 @@ def free_responses(case, directions):
     """The free-field model's responses at every frequency of the case."""
     sources = np.array([s.position for s in case.sources])
     points = np.array([p.at for p in case.observers.points]).reshape(-1, 3)
-    return [free_response(f, case.medium, sources, directions.unit, points) for f in case.frequencies]
+    return [free_response(f, case.medium, sources, directions.unit, points, case.floor) for f in case.frequencies]
 
 
 @dataclass(frozen=True)
@@ -217,7 +218,7 @@ def _say_compile(case, todo, workers, scheduler, progress):
         progress.step(f"compiling the BEM kernels with the first task: once per process, about {COMPILE_HINT_S:.0f} s")
 
 
-def run_case(case, out_dir, model="both", report=False, frequencies=None, **options):
+def run_case(case, out_dir, model="both", report=False, frequencies=None, surface_fields=False, **options):
     """Evaluate ``case`` and write ``results.nc`` and ``summary.json`` in ``out_dir``.
 
     Parameters
@@ -233,6 +234,9 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
     frequencies : sequence of float, optional
         Run only these of the case's frequencies; every number at them is
         the same as in a run of all of them (the meshes are planned from all).
+    surface_fields : bool
+        Also write the surface pressures per frequency for ParaView
+        (:mod:`bemcheck.run.surface_fields`; the BEM's solves only).
     **options
         ``progress_stream`` (default stderr) and ``quiet`` for the progress
         lines; the rest is passed to :func:`bem_responses`: ``workers``,
@@ -295,11 +299,18 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, **opti
             # a results.nc without its summary would pass for a finished run
             results.unlink(missing_ok=True)
             raise
+        if surface_fields and stored:
+            _write_surface_fields(case, ds, stored, folder, progress)
         report_path = _write_report(full, folder, options, progress) if report else None
     lines = tuple(verdict_lines(verdict)) if verdict else ()
     if build is not None:
         lines += build.lines
     return RunOutcome(folder, results, json.loads(json.dumps(summary)), lines, report_path, verdict)
+
+
+def _write_surface_fields(case, ds, stored, folder, progress):
+    progress.step(f"surface fields: {len(stored)} frequencies into {folder / COLLECTION}")
+    write_surface_fields(folder, frames(case, ds, stored, stored_solve))
 
 
 def _write_report(case, folder, options, progress):
@@ -349,7 +360,7 @@ def _before_build(case, directions, solved, stored):
 
     return before_build(
         case,
-        lambda f: free_response(f, case.medium, sources, directions.unit, points),
+        lambda f: free_response(f, case.medium, sources, directions.unit, points, case.floor),
         (lambda f: solved.get(f)) if solved else None,
         surface_at if stored else None,
     )

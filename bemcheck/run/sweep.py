@@ -73,6 +73,8 @@ def physics_fingerprint(case):
         "sources": [(s.name, s.position, s.radiator, s.on) for s in case.sources],
         "observers": dataclasses.asdict(case.observers),
     }
+    if case.floor is not None:  # only then: the keys of a case without a floor stay as they were
+        parts["floor"] = case.floor.z
     return hash_body_files(hashlib.sha256(json.dumps(parts, sort_keys=True, default=str).encode()),
                            case.bodies).hexdigest()
 

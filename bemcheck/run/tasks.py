@@ -77,7 +77,8 @@ def solve_case_frequency(case, mesh, frequency, directions, alone=False):
     x = np.array([case.sources[i].position for i in points]).reshape(-1, 3)
     obs = np.array([p.at for p in case.observers.points]).reshape(-1, 3)
     groups_alone = _alone_groups(case, mesh, order) if alone and mesh.n_triangles else ()
-    sol = solve_frequency(mesh, frequency, case.medium, x, directions.unit, obs, pistons=groups, alone=groups_alone)
+    sol = solve_frequency(mesh, frequency, case.medium, x, directions.unit, obs, pistons=groups, alone=groups_alone,
+                          floor=case.floor)
     back = np.argsort(order)  # solver column j holds case source order[j]
     arrays = {
         "far_field": sol.far_field[:, back],
@@ -251,4 +252,5 @@ def stored_solve(case, frequency, arrays):
         mesh=mesh,
         column=column,
         positions=x,
+        floor=case.floor,
     )

@@ -4,7 +4,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bemcheck.solvers import freefield
+from bemcheck.solvers import halfspace
 
 
 @dataclass(frozen=True, eq=False)
@@ -40,8 +40,11 @@ class FieldResponse:
         return np.real(np.einsum("i...,ij,j...->...", q.conj(), self.power_matrix, q))
 
 
-def free_response(frequency, medium, sources, directions, points):
+def free_response(frequency, medium, sources, directions, points, floor=None):
     """The free-field monopole model's :class:`FieldResponse`.
+
+    With a ``floor`` (:class:`~bemcheck.case.floor.Floor`) the model holds the
+    floor by image sources (:mod:`bemcheck.solvers.halfspace`).
 
     Parameters
     ----------
@@ -54,6 +57,8 @@ def free_response(frequency, medium, sources, directions, points):
         Unit vectors.
     points : (P, 3) array_like
         [m]; may be empty.
+    floor : Floor, optional
+        A rigid plane below every source and point.
 
     Examples
     --------
@@ -64,11 +69,11 @@ def free_response(frequency, medium, sources, directions, points):
     """
     sources = np.atleast_2d(np.asarray(sources, dtype=float))
     points = np.asarray(points, dtype=float).reshape(-1, 3)
-    p = freefield.transfer_matrix(frequency, medium, sources, points) if len(points) else np.zeros((0, len(sources)), complex)
+    p = halfspace.transfer_matrix(frequency, medium, sources, points, floor) if len(points) else np.zeros((0, len(sources)), complex)
     return FieldResponse(
         frequency=float(frequency),
-        far_field=freefield.far_field_matrix(frequency, medium, sources, directions),
+        far_field=halfspace.far_field_matrix(frequency, medium, sources, directions, floor),
         points=p,
-        impedance=freefield.impedance_matrix(frequency, medium, sources),
-        power_matrix=0.5 * freefield.resistance_matrix(frequency, medium, sources).astype(complex),
+        impedance=halfspace.impedance_matrix(frequency, medium, sources, floor),
+        power_matrix=0.5 * halfspace.resistance_matrix(frequency, medium, sources, floor).astype(complex),
     )

@@ -21,6 +21,9 @@ The physical rules behind the refusals, with their sources:
 * Element size: at least 4 linear elements per wavelength for any accuracy,
   6 usually advised (Marburg 2002, "Six boundary elements per wavelength: is
   that enough?", J. Comput. Acoust. 10(1) 25-51; from memory).
+* A rigid floor: the half-space Green's function holds above the plane only (method of
+  images, Morse & Ingard 1968, Theoretical Acoustics, ch. 7): a body, source or observer
+  at or below it, or a far-field direction pointing below it, has no meaning there.
 * TOML files are UTF-8 (TOML v1.0.0 specification, "Spec").  ENOSPC is "no
   space left on device" (POSIX.1-2017, <errno.h>).
 """
@@ -75,6 +78,7 @@ points = [ { name = "ear", at = [0.0, 1.0, 0.0] } ]
 """
 
 NOTE = '[[note]]\nname = "n"\nfundamental = 100.0\nspl_at_1m = [90.0]\n{where}\n[observers]'
+FLOOR = "[floor]\nz = {z}\n[observers]"
 AMP = '[[amplifier]]\nname = "{name}"\nrated_voltage_rms = {volts}\nrated_current_rms = {amps}\ncontrols = {controls}\n'
 
 
@@ -287,6 +291,28 @@ ROWS = [
     Row("note measured inside a body", ("{case}", "note[0].distance", "inside body 'cab'", "expected a point in the air"),
         changes=(("[observers]", NOTE.format(where="direction = [180.0, 0.0]\ndistance = 0.45")),),
         why="primary at x = 0.5 m, 0.45 m toward -x: (0.05, 0, 0), |0.05| < 0.1: inside the octahedron"),
+    # -- a rigid floor ------------------------------------------------------
+    Row("source below the floor", ("{case}", "source[0].at", "0.1 m below the floor", "floor.z = -0.2"),
+        changes=(("[observers]", FLOOR.format(z=-0.2)), ("at = [0.5, 0.0, 0.0]", "at = [0.5, 0.0, -0.3]"))),
+    Row("source on the floor", ("{case}", "source[1].at", "on the floor", "expected a point above the floor"),
+        changes=(("[observers]", FLOOR.format(z=-0.2)), ("at = [-0.5, 0.0, 0.0]", "at = [-0.5, 0.0, -0.2]"))),
+    Row("observer below the floor", ("{case}", "observers.points[0].at", "'ear'", "below the floor"),
+        changes=(("[observers]", FLOOR.format(z=-0.2)), ("at = [0.0, 1.0, 0.0]", "at = [0.0, 1.0, -0.5]"))),
+    Row("body placed below the floor", ("{case}", "body[0].at", "body 'cab'", "below the floor"),
+        changes=(("[observers]", FLOOR.format(z=0.05)), ("at = [0.5, 0.0, 0.0]", "at = [0.5, 0.0, 0.3]"),
+                 ("at = [-0.5, 0.0, 0.0]", "at = [-0.5, 0.0, 0.3]"), ("at = [0.0, 1.0, 0.0]", "at = [0.0, 1.0, 0.3]"))),
+    Row("body reaching through the floor", ("{case}", "body[0] 'cab'", "0.05 m below the floor", "floor.z = -0.05"),
+        changes=(("[observers]", FLOOR.format(z=-0.05)),),
+        why="the octahedron's lowest corner is at z = -0.1 m, 0.05 m below the floor"),
+    Row("body too close to the floor", ("{case}", "body[0] 'cab'", "0.02 m above the floor", "0.25 of the local element",
+                                        "0.0354 m", "raise the body"),
+        changes=(("[observers]", FLOOR.format(z=-0.12)),),
+        why="lowest corner 0.02 m above the floor; edges 0.1414 m: a quarter is 0.0354 m (body and image half an "
+            "element apart, as two bodies)"),
+    Row("far-field plane below the floor", ("{case}", "observers.far_field", 'plane = "xz"', "below the floor",
+                                            'plane = "xy"'),
+        changes=(("[observers]", FLOOR.format(z=-0.2)), ('plane = "xy"', 'plane = "xz"')),
+        why="the xz circle at 30-degree steps holds 5 directions with z < 0"),
     # -- control-channel tolerances ----------------------------------------
     Row("channel gain tolerance negative", ("{case}", "build.channel_gain_db", "≥ 0"),
         changes=(("[observers]", "[build]\nchannel_gain_db = -0.5\n[observers]"),)),

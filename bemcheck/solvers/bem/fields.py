@@ -12,7 +12,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from bemcheck.errors import GeometryError
-from bemcheck.solvers import freefield
+from bemcheck.solvers import freefield, halfspace
+from bemcheck.solvers.bem.image import mirrored_directions, with_image
 from bemcheck.solvers.bem.integrals import far_field_moments, moments
 
 
@@ -122,6 +123,9 @@ class Fields:
         Triangles where some velocity source moves.
     g : (n_sup, M + V) ndarray of complex
         ∂p/∂n = iωρ v_n there per unit strength (zero for monopoles) [Pa/m].
+    floor : Floor or None
+        A rigid plane below everything: every kernel integral and incident
+        field adds its image term (:mod:`bemcheck.solvers.bem.image`).
     """
 
     surface: object
@@ -131,15 +135,16 @@ class Fields:
     k: float
     support: np.ndarray
     g: np.ndarray
+    floor: object = None
 
     @classmethod
-    def build(cls, surface, frequency, medium, monopoles, v):
+    def build(cls, surface, frequency, medium, monopoles, v, floor=None):
         """From unit-strength normal velocities ``v`` (nt, V) [m/s per unit strength]."""
         support = np.flatnonzero(np.any(v != 0, axis=1))
         iwr = 1j * 2.0 * np.pi * frequency * medium.density
         g = np.concatenate([np.zeros((len(support), len(monopoles)), complex), iwr * v[support]], axis=1)
         k = float(freefield.wavenumber(frequency, medium))
-        return cls(surface, frequency, medium, monopoles, k, support, g)
+        return cls(surface, frequency, medium, monopoles, k, support, g, floor)
 
     @property
     def n_velocity(self):
@@ -147,7 +152,11 @@ class Fields:
 
     def moments(self, targets, single=False):
         """Kernel integrals seen from ``targets`` (M, 3), with the velocity support."""
-        return moments(self.surface, targets, self.k, single=single, p0_support=self.support)
+        direct = moments(self.surface, targets, self.k, single=single, p0_support=self.support)
+        if self.floor is None or not len(targets):
+            return direct
+        image = moments(self.surface, self.floor.mirror(targets), self.k, single=single, p0_support=self.support)
+        return with_image(direct, image)
 
     def scattered(self, mom, u):
         """DL(u) - SL(g) at the targets of ``mom``: (T, M + V) [Pa per unit strength]."""
@@ -163,7 +172,13 @@ class Fields:
     def far_field(self, directions, u):
         """F with p ≈ F e^{ikr}/r in ``directions`` (D, 3): (D, M + V) [Pa·m per unit strength]."""
         dff, sff = far_field_moments(self.surface, directions, self.k, self.support)
-        f = self.pad(freefield.far_field_matrix(self.frequency, self.medium, self.monopoles, directions)) + dff @ u
+        if self.floor is not None:
+            mirrored, phase = mirrored_directions(directions, self.k, self.floor)
+            dff_i, sff_i = far_field_moments(self.surface, mirrored, self.k, self.support)
+            dff = dff + phase[:, None] * dff_i
+            sff = sff + phase[:, None] * sff_i
+        incident = halfspace.far_field_matrix(self.frequency, self.medium, self.monopoles, directions, self.floor)
+        f = self.pad(incident) + dff @ u
         if self.support.size:
             f -= sff @ self.g
         return f

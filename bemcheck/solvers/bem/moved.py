@@ -15,7 +15,7 @@ placement study's stacks of layouts share :class:`ImpedanceUpdate`.
 import numpy as np
 
 from bemcheck.settings import NUMERICS
-from bemcheck.solvers import freefield
+from bemcheck.solvers import halfspace
 from bemcheck.solvers.bem.fields import Fields, check_targets
 from bemcheck.solvers.bem.surface import surface_from_mesh
 
@@ -43,21 +43,24 @@ class ImpedanceUpdate:
         Total pressure at the mesh's vertices per unit strength [Pa per m³/s].
     normal_velocity : (nt, V) ndarray
         Normal velocity of each velocity source per unit strength [m/s per m³/s].
+    floor : Floor, optional
+        The rigid floor of the solve (image terms in every field).
     """
 
-    def __init__(self, frequency, medium, mesh, monopoles, impedance, surface_pressure, normal_velocity):
+    def __init__(self, frequency, medium, mesh, monopoles, impedance, surface_pressure, normal_velocity, floor=None):
         self.frequency = frequency
         self.medium = medium
+        self.floor = floor
         self.monopoles = np.asarray(monopoles, dtype=float).reshape(-1, 3)
         self.impedance = np.asarray(impedance)
         m = len(self.monopoles)
         surface = surface_from_mesh(mesh)
         self._fields = None
         if surface.n_triangles:
-            self._fields = Fields.build(surface, frequency, medium, self.monopoles, normal_velocity)
+            self._fields = Fields.build(surface, frequency, medium, self.monopoles, normal_velocity, floor)
             self._u = np.asarray(surface_pressure)[surface.mesh_vertex]
             self._z_s = self.impedance.copy()
-            self._z_s[:m] -= self._fields.pad(freefield.impedance_matrix(frequency, medium, self.monopoles))
+            self._z_s[:m] -= self._fields.pad(halfspace.impedance_matrix(frequency, medium, self.monopoles, floor))
 
     def many(self, moved):
         """(T, M, 3) monopole positions [m], solver order -> (T, S, S) impedances [Pa per m³/s], solver order.
@@ -73,7 +76,7 @@ class ImpedanceUpdate:
         f, medium = self.frequency, self.medium
         if m == 0:
             return np.repeat(self.impedance[None], t, axis=0)
-        free = np.array([freefield.impedance_matrix(f, medium, xm).reshape(m, m) for xm in moved])
+        free = np.array([halfspace.impedance_matrix(f, medium, xm, self.floor).reshape(m, m) for xm in moved])
         if self._fields is None:
             return free
         block = max(1, PAIRS_PER_BLOCK // (m * max(len(self._u), 1)))

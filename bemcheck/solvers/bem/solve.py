@@ -23,7 +23,7 @@ import numpy as np
 
 from bemcheck.errors import CaseError, GeometryError
 from bemcheck.settings import NUMERICS
-from bemcheck.solvers import freefield
+from bemcheck.solvers import freefield, halfspace
 from bemcheck.solvers.bem.fields import Fields, check_targets, directions_array, points_array, velocity_columns
 from bemcheck.solvers.bem.moved import ImpedanceUpdate
 from bemcheck.solvers.bem.power import power_directions
@@ -85,6 +85,9 @@ class BemSolution:
         With ``alone`` given: the far field of each listed source with only
         its own body present; the other columns hold the incident field
         alone (a monopole's free field).  None otherwise.
+    floor : Floor or None
+        The rigid plane the solve held by the half-space Green's function;
+        every field above is for the half space over it.
     """
 
     frequency: float
@@ -102,6 +105,7 @@ class BemSolution:
     device: str
     seconds: dict
     own_far_field: np.ndarray | None = None
+    floor: object = None
 
     def power(self, q):
         """Radiated power Re(qᴴ P q) of strengths ``q`` [W].
@@ -117,7 +121,7 @@ class BemSolution:
 
 def solve_frequency(
     mesh, frequency, medium, monopoles, directions=None, points=None, pistons=(), velocities=None, *, power=True, coupling=None,
-    alone=()
+    alone=(), floor=None
 ):
     """Solve the rigid-body scattering of every source at one frequency.
 
@@ -153,6 +157,11 @@ def solve_frequency(
         the solver columns of the sources on it): the diagonal block of the
         scene's matrix is the body's own, so it costs one small LU and no
         assembly (``BemSolution.own_far_field``).
+    floor : Floor, optional
+        A rigid plane z = const below every body, source and point: the
+        solve uses the half-space Green's function (image terms, the floor
+        not meshed), the power is integrated over the upper half space, and
+        far-field directions should point above the floor.
 
     Returns
     -------
@@ -183,9 +192,9 @@ def solve_frequency(
         if surface.n_triangles == 0:
             if len(pistons) or velocities is not None:
                 raise GeometryError("pistons/velocities: the mesh has no triangles to move")
-            return _free_solution(frequency, medium, x_src, dirs, obs)
+            return _free_solution(frequency, medium, x_src, dirs, obs, floor)
         v, names = velocity_columns(surface, pistons, velocities)
-        flds = Fields.build(surface, frequency, medium, x_src, v)
+        flds = Fields.build(surface, frequency, medium, x_src, v, floor)
         # Positions are checked before the costly assembly.
         at_src = flds.moments(x_src, single=True)
         check_targets(at_src, x_src, "monopoles", MIN_SOURCE_GAP)
@@ -193,7 +202,7 @@ def solve_frequency(
         check_targets(at_obs, obs, "points")
 
         blocks = [np.unique(surface.triangles[np.isin(surface.domains, tags)]) for tags, _ in alone]
-        system = assemble(surface, flds.k, coupling, blocks)
+        system = assemble(surface, flds.k, coupling, blocks, floor)
         t1 = time.perf_counter()
         iwr = 1j * 2.0 * np.pi * frequency * medium.density
         rhs = -iwr * (at_src.single + system.coupling * at_src.double).T
@@ -202,10 +211,10 @@ def solve_frequency(
         u = system.solve(rhs)
 
         t2 = time.perf_counter()
-        z_mono = flds.pad(freefield.impedance_matrix(frequency, medium, x_src)) + flds.scattered(at_src, u)
+        z_mono = flds.pad(halfspace.impedance_matrix(frequency, medium, x_src, floor)) + flds.scattered(at_src, u)
         weights = mixed_mass(surface, flds.support) @ v[flds.support]
         impedance = np.concatenate([z_mono, weights.T @ u], axis=0)
-        field = flds.pad(freefield.transfer_matrix(frequency, medium, x_src, obs)) + flds.scattered(at_obs, u)
+        field = flds.pad(halfspace.transfer_matrix(frequency, medium, x_src, obs, floor)) + flds.scattered(at_obs, u)
         # On the surface the trace of the total field is u itself.
         on = np.flatnonzero(at_obs.on_surface)
         field[on] = at_obs.nearest[on] @ u
@@ -233,6 +242,7 @@ def solve_frequency(
             device=system.device,
             seconds={**system.seconds, "solve": t2 - t1, "fields": t3 - t2},
             own_far_field=own,
+            floor=floor,
         )
 
 
@@ -246,29 +256,42 @@ def _own_far_field(system, flds, dirs, rhs, columns):
 
 
 def _power_matrix(flds, surface, x_src, u, medium):
-    """P = (1/2ρc) ∫ F_iᴴ F_j dΩ on a sphere rule that resolves the far fields, made exactly Hermitian."""
-    directions, weights = power_directions(flds.k, _extent(surface, x_src))
+    """P = (1/2ρc) ∫ F_iᴴ F_j dΩ on a sphere rule that resolves the far fields, made exactly Hermitian.
+
+    Above a floor the field of bodies and sources with their mirror images is
+    symmetric about the floor (its far field referred to a point on the floor;
+    the products F_iᴴ F_j do not see the reference), so the integral over the
+    upper half space is half that over the whole sphere of the field extended
+    below: the same rule with its weights halved.  On a Lebedev rule, which is
+    symmetric about z = 0, this equals the rule restricted to the upper
+    directions with their weights doubled and those on the equator kept.
+    """
+    pts = np.concatenate([surface.vertices, x_src])
+    if flds.floor is not None:
+        pts = np.concatenate([pts, flds.floor.mirror(pts)])
+    directions, weights = power_directions(flds.k, _extent(pts))
+    if flds.floor is not None:
+        weights = 0.5 * weights
     f = flds.far_field(directions, u)
     p = (f.conj().T * weights) @ f / (2.0 * medium.density * medium.speed_of_sound)
     return 0.5 * (p + p.conj().T)
 
 
-def _extent(surface, sources):
-    """Radius of a ball holding every body and source [m] (for the power rule)."""
-    pts = np.concatenate([surface.vertices, sources])
+def _extent(pts):
+    """Radius of a ball holding ``pts`` (N, 3), every body and source [m] (for the power rule)."""
     centre = 0.5 * (pts.min(axis=0) + pts.max(axis=0))
     return float(np.linalg.norm(pts - centre, axis=1).max())
 
 
-def _free_solution(frequency, medium, x_src, dirs, obs):
+def _free_solution(frequency, medium, x_src, dirs, obs, floor=None):
     k = float(freefield.wavenumber(frequency, medium))
     n = len(x_src)
     return BemSolution(
         frequency=float(frequency),
-        far_field=freefield.far_field_matrix(frequency, medium, x_src, dirs).reshape(len(dirs), n),
-        points=freefield.transfer_matrix(frequency, medium, x_src, obs).reshape(len(obs), n),
-        impedance=freefield.impedance_matrix(frequency, medium, x_src).reshape(n, n),
-        power_matrix=0.5 * freefield.resistance_matrix(frequency, medium, x_src).reshape(n, n).astype(complex),
+        far_field=halfspace.far_field_matrix(frequency, medium, x_src, dirs, floor).reshape(len(dirs), n),
+        points=halfspace.transfer_matrix(frequency, medium, x_src, obs, floor).reshape(len(obs), n),
+        impedance=halfspace.impedance_matrix(frequency, medium, x_src, floor).reshape(n, n),
+        power_matrix=0.5 * halfspace.resistance_matrix(frequency, medium, x_src, floor).reshape(n, n).astype(complex),
         surface_pressure=np.zeros((0, n), complex),
         normal_velocity=np.zeros((0, 0)),
         monopoles=x_src,
@@ -278,6 +301,7 @@ def _free_solution(frequency, medium, x_src, dirs, obs):
         elements_per_wavelength=np.inf if k > 0 else np.nan,
         device="none",
         seconds={"assembly": 0.0, "lu": 0.0, "solve": 0.0, "fields": 0.0},
+        floor=floor,
     )
 
 
@@ -316,5 +340,5 @@ def perturbed_impedance(solution, mesh, medium, moved):
     if x_new.shape != (m, 3):
         raise GeometryError(f"moved: expected ({m}, 3) positions, one per monopole; got {x_new.shape}")
     update = ImpedanceUpdate(solution.frequency, medium, mesh, solution.monopoles, solution.impedance,
-                             solution.surface_pressure, solution.normal_velocity)
+                             solution.surface_pressure, solution.normal_velocity, floor=solution.floor)
     return update.many(x_new[None])[0]

@@ -28,6 +28,7 @@ from scipy.sparse import coo_matrix
 from bemcheck.errors import BemcheckInputError
 from bemcheck.memory import available_memory, dense_bytes
 from bemcheck.solvers.bem.assembly import burton_miller_matrix, velocity_matrix
+from bemcheck.solvers.bem.image import add_image_part, image_velocity_matrix
 from bemcheck.solvers.bem.runtime import BACKEND, bempp, note_assembly
 
 
@@ -57,6 +58,10 @@ class System:
         matrix's diagonal block on them, which is that body's own
         Burton–Miller matrix (P1 unknowns of distinct bodies are distinct,
         and every entry integrates over the test and trial supports only).
+        With a floor, each is the body alone above the floor.
+    floor : Floor or None
+        The rigid plane whose image terms the matrix holds
+        (:mod:`bemcheck.solvers.bem.image`).
     """
 
     k: float
@@ -67,6 +72,7 @@ class System:
     device: str
     seconds: dict
     blocks: tuple = ()
+    floor: object = None
 
     def solve(self, rhs):
         """Solve for all right-hand sides at once: (nv, S) -> (nv, S) surface pressures."""
@@ -128,7 +134,7 @@ def check_memory(n_unknowns, available=None, block_unknowns=()):
         )
 
 
-def assemble(surface, k, coupling=None, blocks=()):
+def assemble(surface, k, coupling=None, blocks=(), floor=None):
     """Assemble and LU-factorise the Burton–Miller matrix of ``surface`` at wavenumber ``k``.
 
     Parameters
@@ -142,6 +148,8 @@ def assemble(surface, k, coupling=None, blocks=()):
         interior eigenfrequencies (for studies only).
     blocks : sequence of (n_b,) array_like of int
         Vertex indices of bodies to be solvable alone too (see ``System.blocks``).
+    floor : Floor, optional
+        A rigid plane below the surface: the half-space Green's function.
 
     Returns
     -------
@@ -152,6 +160,8 @@ def assemble(surface, k, coupling=None, blocks=()):
     t0 = time.perf_counter()
     grid = _grid(surface)
     a = burton_miller_matrix(surface, grid, k, eta)
+    if floor is not None:
+        add_image_part(a, surface, k, eta, floor)
     t1 = time.perf_counter()
     # the blocks are copied out before the whole matrix is factorised in place
     kept = tuple((np.asarray(b), lu_factor(a[np.ix_(b, b)].T, overwrite_a=True, check_finite=False))
@@ -159,7 +169,7 @@ def assemble(surface, k, coupling=None, blocks=()):
     lu = lu_factor(a.T, overwrite_a=True, check_finite=False)
     t2 = time.perf_counter()
     note_assembly()
-    return System(k, eta, lu, surface, grid, BACKEND, {"assembly": t1 - t0, "lu": t2 - t1}, kept)
+    return System(k, eta, lu, surface, grid, BACKEND, {"assembly": t1 - t0, "lu": t2 - t1}, kept, floor)
 
 
 def velocity_rhs(system, support, g):
@@ -180,6 +190,8 @@ def velocity_rhs(system, support, g):
     surface = system.surface
     support = np.asarray(support, dtype=int)
     op = velocity_matrix(surface, system.grid, support, system.k, system.coupling)
+    if system.floor is not None:
+        op += image_velocity_matrix(surface, support, system.k, system.coupling, system.floor)
     if system.coupling != 0:
         op += system.coupling * 0.5 * mixed_mass(surface, support).toarray()
     return -(op @ np.asarray(g))
