@@ -90,8 +90,8 @@ def _response(f, far, pm):
     return FieldResponse(float(f), far, np.zeros((0, s), dtype=complex), np.zeros((s, s), dtype=complex), pm)
 
 
-def _objective(case, solves, forms, directions):
-    """(F, Nc) control strengths of the case's objective optimised in ``forms``, controls in case order."""
+def objective_strengths(case, solves, forms, directions):
+    """(F, Nc) control strengths of the case's objective optimised in ``forms`` (a model's Forms), controls in case order."""
     cols = np.asarray(solves.case_columns)
     out = []
     for i, f in enumerate(solves.frequencies):
@@ -123,10 +123,10 @@ def case_tradeoff(case, solves, directions, alphas=ALPHAS):
     att, err = np.zeros((2, 2, n_f, n_a)), np.zeros((2, 2, n_f, n_a))
     marks = np.zeros((2, 2, n_f))
     designed = np.zeros((2, n_f))
-    q_free = _objective(case, solves, solves.free, directions)
+    q_free = objective_strengths(case, solves, solves.free, directions)
     for m, forms in enumerate((solves.free, solves.bem)):
         f = forms.take(cols)
-        q_model = _objective(case, solves, forms, directions)
+        q_model = objective_strengths(case, solves, forms, directions)
         for i in range(n_f):
             fr = front(f.power_matrix[i], f.far_field[i].T, w, n_p, solves.q_primary, alphas)
             att[:, m, i] = fr.power_db, fr.sector_db
