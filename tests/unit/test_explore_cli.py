@@ -106,3 +106,40 @@ grid = { plane = "yz", origin = [0.1, -0.2, -0.2], size = [0.4, 0.4], step = 0.1
     page = (tmp_path / "ex" / "explore.html").read_text()
     assert page.count("<img") == 1 + 1 + 2
     assert "25 of 25 candidates kept" in capsys.readouterr().out
+
+
+def test_sector_objective_case_gets_a_tradeoff_and_a_power_layout(tmp_path, capsys):
+    """The trade-off's variables carry units and long names (CF conventions 1.10, sec. 3); the case's sector
+    objective is its α = 1 end; the written layout states and uses the power objective explore chose it for."""
+    text = """
+[case]
+title = "sector"
+[frequencies]
+list = [150.0, 300.0]
+[[source]]
+name = "p"
+role = "primary"
+at = [0.0, 0.0, 0.0]
+strength = 1e-3
+[[source]]
+name = "c"
+role = "control"
+at = [0.2, 0.1, 0.0]
+[control]
+objective = "sector"
+sector = { from_deg = -30.0, to_deg = 30.0 }
+[explore]
+points = [[0.3, 0.0, 0.0], [-0.2, 0.2, 0.0]]
+"""
+    case = tmp_path / "sector.toml"
+    case.write_text(text)
+    assert main(["explore", str(case), "--out", str(tmp_path / "ex"), "--quiet"]) == 0
+    ds = read_dataset(tmp_path / "ex" / "explore.nc")
+    for name in ("tradeoff_power_attenuation_db", "tradeoff_sector_attenuation_db", "tradeoff_objective_sector_attenuation_db"):
+        assert ds[name].attrs["units"] == "dB" and ds[name].attrs["long_name"]
+    assert np.allclose(ds["tradeoff_objective_sector_attenuation_db"], ds["tradeoff_sector_attenuation_db"].isel(alpha=-1))
+    assert "centre_position" not in ds  # no source sits on a body
+    layout = (tmp_path / "ex" / "layout.toml").read_text()
+    assert 'objective = "power"' in layout and "sector =" not in layout and "minimum radiated power" in layout
+    page = (tmp_path / "ex" / "explore.html").read_text()
+    assert "Power against directivity" in page and "trade-off" in capsys.readouterr().out
