@@ -119,7 +119,7 @@ def parse_case(text, path=Path("<case>")):
     played = tuple(_measured_at(_note(r), first, by_name) for r in top.subs("note"))
     _unique([n.name for n in played], "note", file)
     build = _build(top.sub("build", None))
-    explore = read_explore(top.sub("explore", None), sources, file)
+    explore = read_explore(top.sub("explore", None), sources, file, bodies=tuple(by_name))
     top.done()
     case = Case(
         title=title,

@@ -47,8 +47,8 @@ def _candidates(case, meshes):
     """Screen the candidates; refuse an exploration left with too few."""
     file = case.path or "<case>"
     occupied = [s.position for s in base_sources(case)]
-    kept = screen(case.explore, [m for triple in meshes.values() for m in triple[:2]], occupied)
-    key = "explore.grid" if case.explore.grid is not None else "explore.points"
+    kept = screen(case.explore, [m for triple in meshes.values() for m in triple[:2]], occupied, file)
+    key = "explore.grid" if case.explore.grid is not None else ("explore.around" if case.explore.around else "explore.points")
     if len(kept.positions) == 0:
         raise CaseError(f"{file}: {key}: every candidate was dropped ({kept.dropped_line()}); "
                         "expected candidates in the air, clear of the bodies")
