@@ -146,7 +146,7 @@ def candidate_points(spec, meshes=(), file="<case>"):
         # Counted before the mesh is split: points a step apart on the offset surface take at least
         # √3/2·step² each (hexagonal packing), and the offset surface is no larger than the body's
         # grown by the offset (common practice, no source).
-        area = float(meshes[0].areas()[np.isin(meshes[0].domains, tags)].sum())
+        area = float(meshes[0].areas[np.isin(meshes[0].domains, tags)].sum())
         grown = (np.sqrt(area) + 2.0 * np.sqrt(np.pi) * a.offset) ** 2
         estimate = int(grown / (np.sqrt(3.0) / 2.0 * a.step**2))
         pts = around_points(meshes[0], tags, a.offset, a.step) if estimate <= 4 * MAX_CANDIDATES else None

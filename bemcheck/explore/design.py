@@ -11,13 +11,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from bemcheck.case.objectives import SectorPressure
 from bemcheck.compare.errors import richardson
+from bemcheck.explore.tradeoff import ALPHAS, attenuations, front, sector_form
 from bemcheck.observers import in_sector
 from bemcheck.solvers.control.strengths import control_strengths, source_indices
 from bemcheck.solvers.response import FieldResponse
-from bemcheck.explore.tradeoff import ALPHAS, attenuations, front, sector_form
-
-MODELS = ("free", "bem")
 
 
 @dataclass(frozen=True)
@@ -72,7 +71,7 @@ def tradeoff_sector(case):
     'all'
     """
     c = case.control
-    if c.objective == "sector" and c.sector is not None:
+    if isinstance(c, SectorPressure):
         return SectorChoice("control", c.sector.from_deg, c.sector.to_deg, "the sector of [control] objective")
     s = case.tolerance.sectors[0]
     return SectorChoice(s.name, s.from_deg, s.to_deg, "the first of [tolerance] sectors (the objective names none)")

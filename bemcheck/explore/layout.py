@@ -41,7 +41,7 @@ def layout_text(case, positions, names):
     >>> text = "\\n".join(['[case]', 'title = "t"', '[frequencies]', 'list = [100.0]', '[[source]]', 'name = "p"',
     ...                   'role = "primary"', 'at = [0.0, 0.0, 0.0]', 'strength = 1e-3', '[explore]', 'points = [[0.1, 0, 0]]'])
     >>> new = parse_case(layout_text(parse_case(text), [[0.1, 0.0, 0.0]], ["c1"]))
-    >>> [(s.name, s.role, s.position) for s in new.sources][1], new.explore, new.control.objective
+    >>> [(s.name, s.role, s.position) for s in new.sources][1], new.explore, new.control.KIND
     (('c1', 'control', (0.1, 0.0, 0.0)), None, 'power')
     """
     doc = tomllib.loads(case.text)
