@@ -49,6 +49,25 @@ class Grid:
 
 
 @dataclass(frozen=True)
+class Around:
+    """Candidates on a surface around a body: its surface moved out by ``offset``, about ``step`` apart.
+
+    Attributes
+    ----------
+    body : str
+        The body's name.
+    offset : float
+        Distance from the body's surface along its outward normal [m].
+    step : float
+        Least spacing of the candidates [m].
+    """
+
+    body: str
+    offset: float
+    step: float
+
+
+@dataclass(frozen=True)
 class ExploreSpec:
     """What ``bemcheck explore`` searches.
 
@@ -57,6 +76,8 @@ class ExploreSpec:
     points : tuple of (x, y, z)
         Candidate positions given one by one [m].
     grid : Grid or None
+    around : Around or None
+        Candidates on a surface at an offset around a body (placed on the band mesh, so counted when solved).
     controls : int
         How many controls to choose (K).
     fixed : tuple of str
@@ -68,10 +89,31 @@ class ExploreSpec:
     grid: Grid | None = None
     controls: int = 1
     fixed: tuple = ()
+    around: Around | None = None
+
+    def describe(self):
+        """Lines for ``bemcheck check``: the candidates, K and the fixed controls.
+
+        Examples
+        --------
+        >>> print("\\n".join(ExploreSpec(grid=Grid("xy", (0, 0, 0), (0.2, 0.1), 0.05), controls=2).describe()))
+        candidates: a grid in xy from [0, 0, 0] m, 0.2 x 0.1 m every 0.05 m (15 points)
+        choose 2 control(s); the case's controls are left out
+        """
+        out = [f"candidates: {len(self.points)} listed point(s)"] if self.points else []
+        if self.grid is not None:
+            g = self.grid
+            out.append(f"candidates: a grid in {g.plane} from [{', '.join(f'{v:g}' for v in g.origin)}] m, "
+                       f"{g.size[0]:g} x {g.size[1]:g} m every {g.step:g} m ({math.prod(g.counts())} points)")
+        if self.around is not None:
+            a = self.around
+            out.append(f"candidates: around body {a.body!r}, {a.offset:g} m off its surface, {a.step:g} m apart")
+        fixed = f"fixed: {', '.join(self.fixed)}" if self.fixed else "the case's controls are left out"
+        return out + [f"choose {self.controls} control(s); {fixed}"]
 
 
-def read_explore(r, sources, file):
-    """Read the ``[explore]`` table (a TableReader, or None when absent) against the case's sources.
+def read_explore(r, sources, file, bodies=()):
+    """Read the ``[explore]`` table (a TableReader, or None when absent) against the case's sources and body names.
 
     Raises
     ------
@@ -87,16 +129,18 @@ def read_explore(r, sources, file):
             r.fail("points", "a non-empty list of [x, y, z] positions in m", value)
         points = tuple(_point(r, i, v) for i, v in enumerate(value))
     grid = _grid(r.sub("grid")) if r.has("grid") else None
-    if not points and grid is None:
-        raise CaseError(f"{file}: explore: expected candidate positions as points = [[x, y, z], ...] or a grid table")
+    around = _around(r.sub("around"), bodies) if r.has("around") else None
+    if not points and grid is None and around is None:
+        raise CaseError(f"{file}: explore: expected candidate positions as points = [[x, y, z], ...], a grid table "
+                        "or an around table")
     controls = r.integer("controls", 1, low=1)
     fixed = _fixed(r, sources)
     r.done()
-    spec = ExploreSpec(points, grid, controls, fixed)
+    spec = ExploreSpec(points, grid, controls, fixed, around)
     total = len(points) + (math.prod(grid.counts()) if grid else 0)
     if total > MAX_CANDIDATES:
         r.fail("grid.step" if grid else "points", f"at most {MAX_CANDIDATES} candidates in all, got {total}")
-    if controls > total:
+    if controls > total and around is None:  # around a body: counted once placed, before any solve
         r.fail("controls", f"at most the number of candidates ({total})", controls)
     return spec
 
@@ -116,6 +160,16 @@ def _grid(g):
         g.fail("step", f"a step no larger than the smaller size ({min(size):g} m), so the grid has at least 2 x 2 points", step)
     g.done()
     return Grid(plane, origin, size, step)
+
+
+def _around(a, bodies):
+    body = a.string("body")
+    if body not in bodies:
+        a.fail("body", "the name of a body (" + (", ".join(bodies) or "the case has none") + ")", body)
+    offset = a.number("offset", positive=True)
+    step = a.number("step", positive=True)
+    a.done()
+    return Around(body, offset, step)
 
 
 def _fixed(r, sources):

@@ -120,7 +120,7 @@ def parse_case(text, path=Path("<case>")):
     played = tuple(_measured_at(_note(r), first, by_name) for r in top.subs("note"))
     _unique([n.name for n in played], "note", file)
     build = _build(top.sub("build", None))
-    explore = read_explore(top.sub("explore", None), sources, file)
+    explore = read_explore(top.sub("explore", None), sources, file, bodies=tuple(by_name))
     floor = read_floor(top.sub("floor", None))
     top.done()
     case = Case(

@@ -137,4 +137,5 @@ def case_lines(case, directions):
     if case.controls:
         lines.append(_row("", f"controlled system: attenuation at least min(predicted, {tol.attenuation_target_db:g} dB) "
                               f"less {tol.attenuation_db:g} dB"))
+    lines += [_row("explore", line) for line in case.explore.describe()] if case.explore else []
     return lines + _build_lines(case)

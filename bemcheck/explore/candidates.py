@@ -10,9 +10,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bemcheck.case.explore import PLANES
+from bemcheck.case.explore import MAX_CANDIDATES, PLANES
 from bemcheck.case.limits import COINCIDENT
+from bemcheck.errors import CaseError
 from bemcheck.mesh.distance import winding_number
+from bemcheck.mesh.surface import SurfaceMesh
+from bemcheck.run.tasks import subdivided
 from bemcheck.solvers.bem.integrals import moments
 from bemcheck.solvers.bem.solve import MIN_SOURCE_GAP
 from bemcheck.solvers.bem.surface import surface_from_mesh
@@ -56,13 +59,68 @@ class Candidates:
         return f"{len(self.positions)} of {self.total} candidates kept" + ("; dropped: " + ", ".join(why) if why else "")
 
 
-def candidate_points(spec):
+def around_points(mesh, tags, offset, step):
+    """Points ``offset`` off the surface of the triangles with domain ``tags``, at least ``step`` apart.
+
+    The body's triangles are split in four until their edges are no longer
+    than ``step``, each vertex is moved out along its area-weighted normal,
+    and the points are thinned greedily (in vertex order) to the spacing.
+
+    Parameters
+    ----------
+    mesh : SurfaceMesh
+    tags : sequence of int
+    offset, step : float
+        [m].
+
+    Returns
+    -------
+    (P, 3) ndarray
+        [m].
+
+    Examples
+    --------
+    >>> from bemcheck.mesh.surface import SurfaceMesh
+    >>> v = np.array([[1.0, 0, 0], [0, 1, 0], [0, 0, 1], [-1, 0, 0], [0, -1, 0], [0, 0, -1]])
+    >>> t = np.array([[0, 1, 2], [1, 3, 2], [3, 4, 2], [4, 0, 2], [1, 0, 5], [3, 1, 5], [4, 3, 5], [0, 4, 5]])
+    >>> p = around_points(SurfaceMesh(v, t, np.ones(8, int)), [1], 0.5, 2.0)
+    >>> len(p), np.linalg.norm(p, axis=1).round(6).tolist()[:2]
+    (6, [1.5, 1.5])
+    """
+    keep = np.isin(mesh.domains, tags)
+    body = SurfaceMesh(mesh.vertices, mesh.triangles[keep], mesh.domains[keep])
+    while body.n_triangles and body.edge_lengths().max() > step:
+        body = subdivided(body)
+    p = body.vertices[body.triangles]
+    face = np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0])  # outward, twice the area
+    normal = np.zeros_like(body.vertices)
+    for corner in range(3):
+        np.add.at(normal, body.triangles[:, corner], face)
+    used = np.unique(body.triangles)
+    n = normal[used] / np.linalg.norm(normal[used], axis=1)[:, None]
+    points = body.vertices[used] + offset * n
+    kept = []
+    for x in points:
+        if not kept or np.min(np.linalg.norm(np.asarray(kept) - x, axis=1)) >= step * (1.0 - 1e-9):
+            kept.append(x)
+    return np.asarray(kept).reshape(-1, 3)
+
+
+def candidate_points(spec, meshes=(), file="<case>"):
     """All candidate positions of an ExploreSpec, before screening.
+
+    Parameters
+    ----------
+    spec : ExploreSpec
+    meshes : sequence of SurfaceMesh
+        Band meshes; the first places candidates ``around`` a body.
+    file : str
+        The case file, for the message when ``around`` places too many.
 
     Returns
     -------
     ((M, 3) ndarray, (M, 2) ndarray of int)
-        Positions [m] and grid indices ((-1, -1) for listed points).
+        Positions [m] and grid indices ((-1, -1) for listed points and those around a body).
 
     Examples
     --------
@@ -83,11 +141,27 @@ def candidate_points(spec):
         pts[:, b] += jj.ravel() * g.step
         x.append(pts)
         ij.append(np.stack([ii.ravel(), jj.ravel()], axis=1))
+    if spec.around is not None and meshes:
+        a = spec.around
+        tags = meshes[0].tags_of_body(a.body)
+        # Counted before the mesh is split: points a step apart on the offset surface take at least
+        # √3/2·step² each (hexagonal packing), and the offset surface is no larger than the body's
+        # grown by the offset (common practice, no source).
+        area = float(meshes[0].areas[np.isin(meshes[0].domains, tags)].sum())
+        grown = (np.sqrt(area) + 2.0 * np.sqrt(np.pi) * a.offset) ** 2
+        estimate = int(grown / (np.sqrt(3.0) / 2.0 * a.step**2))
+        pts = around_points(meshes[0], tags, a.offset, a.step) if estimate <= 4 * MAX_CANDIDATES else None
+        if pts is None or sum(len(v) for v in x) + len(pts) > MAX_CANDIDATES:
+            count = f"about {estimate}" if pts is None else str(len(pts))
+            raise CaseError(f"{file}: explore.around.step: expected at most {MAX_CANDIDATES} candidates in all; "
+                            f"{count} around {a.body!r} at a step of {a.step:g} m")
+        x.append(pts)
+        ij.append(np.full((len(pts), 2), -1, dtype=int))
     # Rounded to a nanometre so grid points print as the multiples of the step they are.
     return np.round(np.concatenate(x), 9), np.concatenate(ij)
 
 
-def screen(spec, meshes, occupied, floor=None):
+def screen(spec, meshes, occupied, file="<case>", floor=None):
     """Keep the candidates every model can hold.
 
     Parameters
@@ -104,7 +178,7 @@ def screen(spec, meshes, occupied, floor=None):
     -------
     Candidates
     """
-    x, ij = candidate_points(spec)
+    x, ij = candidate_points(spec, meshes, file)
     below = np.zeros(len(x), dtype=bool) if floor is None else floor.height(x) <= 0.0
     x, ij = x[~below], ij[~below]
     inside = np.zeros(len(x), dtype=bool)

@@ -108,7 +108,7 @@ def single_control_map(solves, forms, check=None):
     -------
     SingleMap
     """
-    m = forms.power_matrix.shape[1] - solves.n_base
+    m = solves.n_candidates
     a = np.zeros((len(solves.frequencies), m))
     e = np.zeros_like(a)
     with warnings.catch_warnings():
@@ -141,7 +141,7 @@ def choose(solves, forms, k):
     (tuple of int, float)
         The chosen candidate indices (in the order chosen) and their band average [dB].
     """
-    m = forms.power_matrix.shape[1] - solves.n_base
+    m = solves.n_candidates
     score = {}
 
     def value(chosen):

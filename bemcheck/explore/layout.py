@@ -2,8 +2,10 @@
 
 The case's own text is parsed, its controls that the exploration did not fix
 are replaced by the chosen free-standing points, its ``[explore]`` table is
-left out, mesh-file paths are made absolute (the new file lives in the
-output folder), and the result is written back as TOML and read again with
+left out, its ``[control]`` table becomes ``objective = "power"`` (the
+objective the exploration chose the layout for, so ``bemcheck run`` verifies
+the same strengths; ``POWER_NOTE`` says so in the file), mesh-file paths
+are made absolute (the new file lives in the output folder), and the result is written back as TOML and read again with
 the case loader before it is returned, so a written layout always loads.
 """
 
@@ -12,6 +14,9 @@ import tomllib
 from pathlib import Path
 
 from bemcheck.case.load import parse_case
+
+POWER_NOTE = ("# [control] objective is \"power\": explore chose these controls for minimum radiated power, "
+              "whatever the case's objective.\n")
 
 
 def layout_text(case, positions, names):
@@ -36,11 +41,12 @@ def layout_text(case, positions, names):
     >>> text = "\\n".join(['[case]', 'title = "t"', '[frequencies]', 'list = [100.0]', '[[source]]', 'name = "p"',
     ...                   'role = "primary"', 'at = [0.0, 0.0, 0.0]', 'strength = 1e-3', '[explore]', 'points = [[0.1, 0, 0]]'])
     >>> new = parse_case(layout_text(parse_case(text), [[0.1, 0.0, 0.0]], ["c1"]))
-    >>> [(s.name, s.role, s.position) for s in new.sources][1], new.explore
-    (('c1', 'control', (0.1, 0.0, 0.0)), None)
+    >>> [(s.name, s.role, s.position) for s in new.sources][1], new.explore, new.control.KIND
+    (('c1', 'control', (0.1, 0.0, 0.0)), None, 'power')
     """
     doc = tomllib.loads(case.text)
     doc.pop("explore", None)
+    doc["control"] = {"objective": "power"}
     fixed = set(case.explore.fixed) if case.explore else set()
     doc["source"] = [s for s in doc["source"] if s.get("role") != "control" or s.get("name") in fixed]
     doc["source"] += [{"name": n, "role": "control", "at": [float(v) for v in x]} for n, x in zip(names, positions)]

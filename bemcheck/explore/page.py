@@ -12,6 +12,7 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 
 from bemcheck.case.explore import PLANES
+from bemcheck.explore.page_design import design_sections
 from bemcheck.explore.results import DESIGNS, MODELS
 from bemcheck.report.html import CSS
 from bemcheck.report.style import CYCLE, DPI, FREE, INK, SCATTERED, new_figure, styled
@@ -121,6 +122,7 @@ def render_page(ds, grid, outline, lines):
                      f"{float(band.sel(model='free')):.1f}", f"{float(band.sel(model='bem')):.1f}"))
     parts = ["<ul>" + "".join(f"<li>{escape(line)}</li>" for line in lines) + "</ul>", _table(rows),
              _img(curves_figure(ds), "Power attenuation of each chosen layout in both models (band: numerical error).")]
+    parts.append(design_sections(ds, _png, _img, _table))
     if grid is not None:
         band = {m: ds[f"single_control_attenuation_{m}_band_db"].values for m in MODELS}
         parts.append(_img(map_figure(ds, grid, band, "one control: band-averaged attenuation", outline),

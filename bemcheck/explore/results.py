@@ -6,6 +6,8 @@ import numpy as np
 import xarray as xr
 
 from bemcheck.explore.choice import band_average
+from bemcheck.explore.variables import CENTRE_DESIGNS
+from bemcheck.results.schema import EXPLORE
 
 EXPLORE_FILE = "explore.nc"
 MODELS = ("free", "bem")
@@ -84,4 +86,42 @@ def explore_dataset(solves, candidates, maps, choices, attrs):
     ds["layout_attenuation_error_db"] = (("design", "model", "frequency"), err)
     ds["layout_attenuation_band_db"] = (("design", "model"), att.mean(axis=-1))
     ds["unknowns"] = (("frequency",), solves.unknowns)
+    return ds
+
+
+def _put(ds, name, values):
+    ds[name] = (EXPLORE.lookup(name)[0].dims, np.asarray(values))
+
+
+def add_case_design(ds, tradeoff, centres):
+    """``ds`` with the case's trade-off front (a TradeOff or None) and acoustic centres (a CentreStudy or None).
+
+    Dimensions, units and long names come from :data:`bemcheck.results.schema.EXPLORE`.
+    """
+    ds = ds.copy()
+    if tradeoff is not None:
+        ds.coords["alpha"] = ("alpha", tradeoff.alpha)
+        _put(ds, "tradeoff_power_attenuation_db", tradeoff.power_db)
+        _put(ds, "tradeoff_sector_attenuation_db", tradeoff.sector_db)
+        _put(ds, "tradeoff_power_attenuation_error_db", tradeoff.error_power_db)
+        _put(ds, "tradeoff_sector_attenuation_error_db", tradeoff.error_sector_db)
+        _put(ds, "tradeoff_objective_power_attenuation_db", tradeoff.objective_power_db)
+        _put(ds, "tradeoff_objective_sector_attenuation_db", tradeoff.objective_sector_db)
+        _put(ds, "tradeoff_as_designed_power_attenuation_db", tradeoff.designed_power_db)
+        _put(ds, "tradeoff_as_designed_sector_attenuation_db", tradeoff.designed_sector_db)
+        s = tradeoff.sector
+        ds.attrs.update({"tradeoff_sector": f"{s.name}: azimuth {s.from_deg:g} to {s.to_deg:g} deg ({s.why})"})
+    if centres is not None:
+        ds.coords["centred_source"] = ("centred_source", list(centres.names))
+        _put(ds, "centre_position", centres.centre)
+        _put(ds, "centre_designed_position", centres.designed)
+        _put(ds, "centre_offset", np.linalg.norm(centres.centre - centres.designed[None], axis=-1))
+        _put(ds, "centre_fit_residual", centres.residual)
+        _put(ds, "centre_amplitude_db", centres.amplitude_db)
+        if centres.power_db:
+            ds.coords["centre_design"] = ("centre_design", list(CENTRE_DESIGNS))
+            _put(ds, "centre_design_attenuation_db", [centres.power_db[d] for d in CENTRE_DESIGNS])
+            _put(ds, "centre_design_attenuation_error_db", [centres.error_db[d] for d in CENTRE_DESIGNS])
+            _put(ds, "centre_recovered_db", centres.recovered_db())
+            _put(ds, "centre_loss_db", centres.loss_db())
     return ds

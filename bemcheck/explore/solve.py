@@ -7,6 +7,12 @@ solve, so the power forms between all of them (mutual and self resistances
 with scattering) come out together.  The same is done on the band's
 error-check mesh (:func:`bemcheck.run.tasks.check_mesh`), which gives each
 attenuation its numerical error as in ``bemcheck run``.
+
+The case's own controls that the table does not fix are solved too (after the
+candidates), for the power-directivity trade-off and the acoustic centres;
+on the band mesh each body carrying a source is also solved alone (from a
+block of the same matrix), and far fields are evaluated on a Lebedev sphere
+as well (``FIT_DEGREE``), where the acoustic centres are fitted.
 """
 
 import dataclasses
@@ -17,9 +23,14 @@ import numpy as np
 
 from bemcheck.case.model import Source
 from bemcheck.mesh import band_of, mesh_scene, plan_bands
+from bemcheck.observers import Directions, sphere
 from bemcheck.run.tasks import check_mesh, solve_case_frequency
 from bemcheck.solvers.control.strengths import primary_strengths
 from bemcheck.solvers.response import free_response
+
+# Lebedev degree of the directions the acoustic centres are fitted on (194
+# directions, about 15 degrees apart; common practice, no source).
+FIT_DEGREE = 23
 
 
 @dataclass(frozen=True)
@@ -32,15 +43,20 @@ class Forms:
         Far field per unit strength [Pa·m per m³/s].
     power_matrix : (F, S, S) ndarray of complex
         W = Re(qᴴ P q) [W per (m³/s)²].
+    fit_far_field : (F, S, L) ndarray of complex or None
+        Far field on the ``FIT_DEGREE`` sphere with each source's own body
+        alone (a source on no body: its free field) [Pa·m per m³/s].
     """
 
     far_field: np.ndarray
     power_matrix: np.ndarray
+    fit_far_field: np.ndarray | None = None
 
     def take(self, columns):
         """The forms of ``columns`` only (a list of column indices)."""
         c = np.asarray(columns, dtype=int)
-        return Forms(self.far_field[:, c], self.power_matrix[:, c][:, :, c])
+        fit = None if self.fit_far_field is None else self.fit_far_field[:, c]
+        return Forms(self.far_field[:, c], self.power_matrix[:, c][:, :, c], fit)
 
 
 @dataclass(frozen=True)
@@ -55,6 +71,11 @@ class ExploreSolves:
         Base columns 0..n_primary-1 are the primaries.
     n_base : int
         Columns n_primary..n_base-1 are the fixed controls; from n_base on the candidates.
+    n_candidates : int
+        Columns n_base..n_base+n_candidates-1 are the candidates; the case's
+        controls not fixed follow.
+    case_columns : tuple of int
+        The column of each of ``case.sources``, in case order.
     q_primary : (n_primary,) ndarray of complex
         Primary strengths [m³/s].
     free, bem, check : Forms
@@ -71,6 +92,8 @@ class ExploreSolves:
     frequencies: np.ndarray
     n_primary: int
     n_base: int
+    n_candidates: int
+    case_columns: tuple
     q_primary: np.ndarray
     free: Forms
     bem: Forms | None
@@ -87,10 +110,26 @@ def base_sources(case):
 
 
 def with_candidates(case, positions):
-    """``case`` with its base sources and one free-standing control per candidate position."""
+    """``case`` with its base sources, one free-standing control per candidate position, then its other controls."""
     extra = tuple(Source(name=f"candidate[{i}]", role="control", position=tuple(map(float, x)))
                   for i, x in enumerate(np.asarray(positions).reshape(-1, 3)))
-    return dataclasses.replace(case, sources=base_sources(case) + extra)
+    base = base_sources(case)
+    rest = tuple(s for s in case.sources if s not in base)
+    return dataclasses.replace(case, sources=base + extra + rest)
+
+
+def case_columns(case, n_candidates):
+    """Column in :func:`with_candidates`' sources of each of ``case.sources``, in case order."""
+    base = base_sources(case)
+    rest = [s for s in case.sources if s not in base]
+    return tuple(base.index(s) if s in base else len(base) + n_candidates + rest.index(s) for s in case.sources)
+
+
+def _with_fit(directions):
+    """The case's directions followed by the ``FIT_DEGREE`` sphere, as one set."""
+    fit = sphere(FIT_DEGREE)
+    return Directions(*(np.concatenate([getattr(directions, a), getattr(fit, a)])
+                        for a in ("unit", "azimuth_deg", "elevation_deg", "weights")))
 
 
 def band_meshes(case, cache_dir=None):
@@ -129,18 +168,21 @@ def solve_candidates(case, positions, meshes, directions, progress=None):
     full = with_candidates(case, positions)
     xyz = np.array([s.position for s in full.sources])
     bands = plan_bands(case) if meshes else ()
+    both = _with_fit(directions)
+    d = len(directions)
     free, bem, check, ratio, unknowns = [], [], [], [], []
     seconds = {"solve": 0.0, "check": 0.0}
     for i, f in enumerate(case.frequencies):
-        r = free_response(f, case.medium, xyz, directions.unit, np.zeros((0, 3)), case.floor)
-        free.append((r.far_field, r.power_matrix))
+        r = free_response(f, case.medium, xyz, both.unit, np.zeros((0, 3)), case.floor)
+        free.append((r.far_field[:d], r.power_matrix, r.far_field[d:]))
         if meshes:
             mesh, coarse, size_ratio = meshes[band_of(bands, f).index]
             for target, m, key in ((bem, mesh, "solve"), (check, coarse, "check")):
                 t0 = time.perf_counter()
-                arrays, _ = solve_case_frequency(full, m, f, directions)
+                arrays, _ = solve_case_frequency(full, m, f, both, alone=key == "solve")
                 seconds[key] += time.perf_counter() - t0
-                target.append((arrays["far_field"], arrays["power_matrix"]))
+                own = arrays.get("own_far_field", arrays["far_field"])
+                target.append((arrays["far_field"][:d], arrays["power_matrix"], own[d:]))
             ratio.append(size_ratio)
             unknowns.append(mesh.n_vertices)
         if progress is not None:
@@ -149,6 +191,8 @@ def solve_candidates(case, positions, meshes, directions, progress=None):
         frequencies=np.asarray(case.frequencies, dtype=float),
         n_primary=len(case.primaries),
         n_base=len(base_sources(case)),
+        n_candidates=len(np.asarray(positions).reshape(-1, 3)),
+        case_columns=case_columns(case, len(np.asarray(positions).reshape(-1, 3))),
         q_primary=primary_strengths(case),
         free=_stack(free),
         bem=_stack(bem) if bem else _stack(free),  # nothing scatters: the BEM answers the free field
@@ -159,6 +203,7 @@ def solve_candidates(case, positions, meshes, directions, progress=None):
     )
 
 
-def _stack(pairs):
-    """[(far (D, S), power (S, S)), ...] per frequency -> Forms with (F, S, D) and (F, S, S)."""
-    return Forms(np.array([np.asarray(far).T for far, _ in pairs]), np.array([pm for _, pm in pairs]))
+def _stack(triples):
+    """[(far (D, S), power (S, S), fit far (L, S)), ...] per frequency -> Forms with (F, S, D), (F, S, S), (F, S, L)."""
+    return Forms(np.array([np.asarray(far).T for far, _, _ in triples]), np.array([pm for _, pm, _ in triples]),
+                 np.array([np.asarray(fit).T for _, _, fit in triples]))

@@ -5,7 +5,10 @@ the layout explore writes)."""
 import numpy as np
 import pytest
 
+from bemcheck.case import load_case
 from bemcheck.cli import main
+from bemcheck.explore.candidates import screen
+from bemcheck.explore.solve import band_meshes
 from bemcheck.results.files import read_dataset
 
 HEAD = """
@@ -45,6 +48,9 @@ def _write(tmp_path, text):
     ("[explore]\npoints = [[0.0, 0.0, 0.0], [0.05, 0.0, 0.0]]\n", "explore.points", "every candidate was dropped (0 of 2 candidates kept; dropped: 2 inside a body)"),
     ('[explore]\npoints = [[0.3, 0.0, 0.0]]\nfixed = ["p"]\n', "explore.fixed[0]", "the name of a control source"),
     ("", "explore", "required table is missing"),
+    ('[explore]\naround = { body = "box", offset = 0.05, step = 0.05 }\n', "explore.around.body", "the name of a body (ball)"),
+    ('[explore]\naround = { body = "ball", offset = 0.0, step = 0.05 }\n', "explore.around.offset", "positive"),
+    ('[explore]\naround = { body = "ball", offset = 0.05, step = 0.0005 }\n', "explore.around.step", "at most 5000 candidates"),
 ])
 def test_bad_input_exits_2_naming_file_and_key_and_writes_nothing(tmp_path, capsys, table, key, expected):
     case = _write(tmp_path, table)
@@ -106,3 +112,56 @@ grid = { plane = "yz", origin = [0.1, -0.2, -0.2], size = [0.4, 0.4], step = 0.1
     page = (tmp_path / "ex" / "explore.html").read_text()
     assert page.count("<img") == 1 + 1 + 2
     assert "25 of 25 candidates kept" in capsys.readouterr().out
+
+
+def test_sector_objective_case_gets_a_tradeoff_and_a_power_layout(tmp_path, capsys):
+    """The trade-off's variables carry units and long names (CF conventions 1.10, sec. 3); the case's sector
+    objective is its α = 1 end; the written layout states and uses the power objective explore chose it for."""
+    text = """
+[case]
+title = "sector"
+[frequencies]
+list = [150.0, 300.0]
+[[source]]
+name = "p"
+role = "primary"
+at = [0.0, 0.0, 0.0]
+strength = 1e-3
+[[source]]
+name = "c"
+role = "control"
+at = [0.2, 0.1, 0.0]
+[control]
+objective = "sector"
+sector = { from_deg = -30.0, to_deg = 30.0 }
+[explore]
+points = [[0.3, 0.0, 0.0], [-0.2, 0.2, 0.0]]
+"""
+    case = tmp_path / "sector.toml"
+    case.write_text(text)
+    assert main(["explore", str(case), "--out", str(tmp_path / "ex"), "--quiet"]) == 0
+    ds = read_dataset(tmp_path / "ex" / "explore.nc")
+    for name in ("tradeoff_power_attenuation_db", "tradeoff_sector_attenuation_db", "tradeoff_objective_sector_attenuation_db"):
+        assert ds[name].attrs["units"] == "dB" and ds[name].attrs["long_name"]
+    assert np.allclose(ds["tradeoff_objective_sector_attenuation_db"], ds["tradeoff_sector_attenuation_db"].isel(alpha=-1))
+    assert "centre_position" not in ds  # no source sits on a body
+    layout = (tmp_path / "ex" / "layout.toml").read_text()
+    assert 'objective = "power"' in layout and "sector =" not in layout and "minimum radiated power" in layout
+    page = (tmp_path / "ex" / "explore.html").read_text()
+    assert "Power against directivity" in page and "trade-off" in capsys.readouterr().out
+
+
+def test_candidates_around_a_body_and_check_prints_the_table(tmp_path, capsys):
+    """Candidates around the sphere stand its radius plus the offset from its centre (within the mesh's
+    deviation: its vertices stand outside the sphere, and split facets' midpoints off it; 2 % here) and at
+    least a step apart; `bemcheck check` prints the [explore] table."""
+    case = _write(tmp_path, '[explore]\naround = { body = "ball", offset = 0.06, step = 0.07 }\n')
+    assert main(["check", str(case)]) == 0
+    assert "around body 'ball', 0.06 m off its surface, 0.07 m apart" in capsys.readouterr().out
+    c = load_case(case)
+    meshes = band_meshes(c, tmp_path / "cache")
+    kept = screen(c.explore, [m for t in meshes.values() for m in t[:2]], [s.position for s in c.sources], str(case))
+    r = np.linalg.norm(kept.positions, axis=1)
+    assert len(kept.positions) > 20 and np.allclose(r, 0.16, rtol=0.02)
+    gaps = np.linalg.norm(kept.positions[:, None] - kept.positions[None], axis=2) + np.eye(len(r))
+    assert gaps.min() >= 0.07 * (1 - 1e-9)
