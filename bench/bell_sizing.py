@@ -45,8 +45,8 @@ BELL = Bell(mouth_radius=0.108, throat_radius=0.012, length=0.55, flare=0.75, ri
 FREQUENCIES = (125.0, 250.0, 500.0, 1000.0, 2000.0)
 MEDIUM = Medium(343.0, 1.204)
 WITHIN_DB = 30.0
-BEFORE = "7c5bdcf"      # the last commit with the curvature rule (24 elements per turn)
-BEFORE_SIZE_FACTOR = 0.7   # what bodies.py then asked of gmsh
+BEFORE = "7c5bdcf"  # the last commit with the curvature rule (24 elements per turn)
+BEFORE_SIZE_FACTOR = 0.7  # what bodies.py then asked of gmsh
 AZIMUTH = np.radians(np.arange(0.0, 360.0, 5.0))
 # the bell's axis is +z; a meridian plane holds the whole pattern of a body of revolution
 DIRECTIONS = np.stack([np.sin(AZIMUTH), np.zeros_like(AZIMUTH), np.cos(AZIMUTH)], axis=1)
@@ -55,14 +55,19 @@ DIRECTIONS = np.stack([np.sin(AZIMUTH), np.zeros_like(AZIMUTH), np.cos(AZIMUTH)]
 def _case():
     body = Body("bell", BELL)
     piston = Source("mouth", "primary", (0.0, 0.0, 0.0), on="bell", radiator="piston")
-    return Case("trombone-size bell (invented dimensions)", FREQUENCIES, (piston,), medium=MEDIUM,
-                mesh=MeshSettings(elements_per_wavelength=6.0, band_octaves=1.0), bodies=(body,))
+    return Case(
+        "trombone-size bell (invented dimensions)",
+        FREQUENCIES,
+        (piston,),
+        medium=MEDIUM,
+        mesh=MeshSettings(elements_per_wavelength=6.0, band_octaves=1.0),
+        bodies=(body,),
+    )
 
 
 def _solve(mesh, frequency):
     t = time.perf_counter()
-    sol = solve_frequency(mesh, frequency, MEDIUM, np.zeros((0, 3)), DIRECTIONS, pistons=("bell.mouth",),
-                          power=False)
+    sol = solve_frequency(mesh, frequency, MEDIUM, np.zeros((0, 3)), DIRECTIONS, pistons=("bell.mouth",), power=False)
     return sol.far_field[:, 0], time.perf_counter() - t
 
 
@@ -74,8 +79,9 @@ def _mesh(case, size, cache, refine=1.0):
 
 def _mesh_before(size):
     """The bell meshed by the curvature rule of commit BEFORE, as a scene (groups "bell", "bell.mouth")."""
-    text = subprocess.run(["git", "show", f"{BEFORE}:geometry/bell.py"], cwd=HERE, capture_output=True,
-                          text=True, check=True).stdout
+    text = subprocess.run(
+        ["git", "show", f"{BEFORE}:geometry/bell.py"], cwd=HERE, capture_output=True, text=True, check=True
+    ).stdout
     with tempfile.TemporaryDirectory() as folder:
         (Path(folder) / "bell_before.py").write_text(text)
         sys.path.insert(0, folder)
@@ -106,7 +112,7 @@ def measure():
     with tempfile.TemporaryDirectory() as cache:
         fine, fine_mesh_s = _mesh(case, bands[-1].element_size, cache, refine=1.5)
         before = _mesh_before(bands[0].element_size)
-        _solve(fine, FREQUENCIES[0])          # compiles the kernels once, outside the timings
+        _solve(fine, FREQUENCIES[0])  # compiles the kernels once, outside the timings
         for band in bands:
             f = band.f_high
             row = {"frequency_hz": f, "element_size_m": band.element_size}
@@ -120,20 +126,38 @@ def measure():
                 far, solve_s = _solve(mesh, f)
                 level, phase = _error(far, ref)
                 level_old, phase_old = _error(far, old)
-                row[name] = {"triangles": mesh.n_triangles, "mesh_s": mesh_s, "solve_s": solve_s,
-                             "volume_m3": mesh.enclosed_volume(), "error_db": level, "error_deg": phase,
-                             "vs_before_db": level_old, "vs_before_deg": phase_old}
-                print(f"{f:6.0f} Hz {name:10s} {mesh.n_triangles:6d} triangles  mesh {mesh_s:5.1f} s  "
-                      f"solve {solve_s:5.1f} s  {level:.3f} dB {phase:.2f} deg", file=sys.stderr, flush=True)
+                row[name] = {
+                    "triangles": mesh.n_triangles,
+                    "mesh_s": mesh_s,
+                    "solve_s": solve_s,
+                    "volume_m3": mesh.enclosed_volume(),
+                    "error_db": level,
+                    "error_deg": phase,
+                    "vs_before_db": level_old,
+                    "vs_before_deg": phase_old,
+                }
+                print(
+                    f"{f:6.0f} Hz {name:10s} {mesh.n_triangles:6d} triangles  mesh {mesh_s:5.1f} s  "
+                    f"solve {solve_s:5.1f} s  {level:.3f} dB {phase:.2f} deg",
+                    file=sys.stderr,
+                    flush=True,
+                )
             rows.append(row)
-    return {"fine_triangles": fine.n_triangles, "fine_mesh_s": fine_mesh_s, "rows": rows,
-            "load_before": load_before, "cpus": os.cpu_count(),
-            "date": time.strftime("%Y-%m-%d %H:%M UTC", time.gmtime()), "commit": _commit()}
+    return {
+        "fine_triangles": fine.n_triangles,
+        "fine_mesh_s": fine_mesh_s,
+        "rows": rows,
+        "load_before": load_before,
+        "cpus": os.cpu_count(),
+        "date": time.strftime("%Y-%m-%d %H:%M UTC", time.gmtime()),
+        "commit": _commit(),
+    }
 
 
 def _commit():
-    done = subprocess.run(["git", "rev-parse", "--short", "HEAD"], cwd=HERE, capture_output=True, text=True,
-                          check=False)
+    done = subprocess.run(
+        ["git", "rev-parse", "--short", "HEAD"], cwd=HERE, capture_output=True, text=True, check=False
+    )
     return done.stdout.strip() or "unknown"
 
 
@@ -149,7 +173,7 @@ def render(data):
         "`mesh_scene(case, 1.5 h)`.  Far field every 5 degrees in a meridian plane; each figure is the worst "
         "level and phase departure over the directions within 30 dB of the loudest, against a fine mesh "
         f"({data['fine_triangles']:,} triangles: the 2 kHz band's mesh refined 1.5x everywhere) and against the "
-        f"mesh of the curvature rule used before (\"before\": commit {BEFORE}, one mesh for every band).  "
+        f'mesh of the curvature rule used before ("before": commit {BEFORE}, one mesh for every band).  '
         "Times are wall seconds for one frequency (assembly, LU, piston and far field), kernels compiled "
         "beforehand; mesh times include gmsh and the area and volume check (empty mesh cache).",
         "",
@@ -159,17 +183,25 @@ def render(data):
     ]
     for r in data["rows"]:
         b, c, o = r["band"], r["coarse_1.5"], r["before"]
-        lines.append(f"| {r['frequency_hz']:,.0f} Hz | {1e3 * r['element_size_m']:.0f} mm | {b['triangles']:,} | "
-                     f"{b['mesh_s']:.1f} s | {b['solve_s']:.1f} s | {b['error_db']:.3f} dB, {b['error_deg']:.2f}° | "
-                     f"{b['vs_before_db']:.3f} dB, {b['vs_before_deg']:.2f}° | {o['solve_s']:.1f} s, "
-                     f"{o['error_db']:.3f} dB, {o['error_deg']:.2f}° | "
-                     f"{c['triangles']:,} | {c['solve_s']:.1f} s | {c['error_db']:.3f} dB, {c['error_deg']:.2f}° |")
+        lines.append(
+            f"| {r['frequency_hz']:,.0f} Hz | {1e3 * r['element_size_m']:.0f} mm | {b['triangles']:,} | "
+            f"{b['mesh_s']:.1f} s | {b['solve_s']:.1f} s | {b['error_db']:.3f} dB, {b['error_deg']:.2f}° | "
+            f"{b['vs_before_db']:.3f} dB, {b['vs_before_deg']:.2f}° | {o['solve_s']:.1f} s, "
+            f"{o['error_db']:.3f} dB, {o['error_deg']:.2f}° | "
+            f"{c['triangles']:,} | {c['solve_s']:.1f} s | {c['error_db']:.3f} dB, {c['error_deg']:.2f}° |"
+        )
     before = data["rows"][0]["before"]["triangles"]
-    lines += ["", f"Before: {before:,} triangles in every band.  Fine mesh solved in "
-              + ", ".join(f"{r['fine']['solve_s']:.1f}" for r in data["rows"]) + " s.  Load average "
-              + " / ".join(f"{x:.1f}" for x in data["load_before"]) + " (1/5/15 min) at the start, "
-              + " / ".join(f"{x:.1f}" for x in data["load_after"]) + f" at the end, on {data['cpus']} cores "
-              "shared with other jobs: wall times are longer than on an idle machine."]
+    lines += [
+        "",
+        f"Before: {before:,} triangles in every band.  Fine mesh solved in "
+        + ", ".join(f"{r['fine']['solve_s']:.1f}" for r in data["rows"])
+        + " s.  Load average "
+        + " / ".join(f"{x:.1f}" for x in data["load_before"])
+        + " (1/5/15 min) at the start, "
+        + " / ".join(f"{x:.1f}" for x in data["load_after"])
+        + f" at the end, on {data['cpus']} cores "
+        "shared with other jobs: wall times are longer than on an idle machine.",
+    ]
     return "\n".join(lines)
 
 

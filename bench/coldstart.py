@@ -54,12 +54,18 @@ def first_frequency(bemcheck, case, mesh_cache, numba_cache, timeout=1800.0):
             for line in proc.stderr:
                 match = _FIRST.match(line.strip())
                 if match:
-                    return {"seconds": time.perf_counter() - start, "task_seconds": float(match.group(2)),
-                            "tasks": int(match.group(1)), "load": os.getloadavg()[0]}
+                    return {
+                        "seconds": time.perf_counter() - start,
+                        "task_seconds": float(match.group(2)),
+                        "tasks": int(match.group(1)),
+                        "load": os.getloadavg()[0],
+                    }
                 seen.append(line)
                 if time.perf_counter() - start > timeout:
                     break
-            raise RuntimeError(f"{case}: `bemcheck run` gave no solve line; its stderr ended with:\n{''.join(seen[-20:])}")
+            raise RuntimeError(
+                f"{case}: `bemcheck run` gave no solve line; its stderr ended with:\n{''.join(seen[-20:])}"
+            )
         finally:
             proc.kill()
             proc.wait()

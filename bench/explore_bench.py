@@ -71,12 +71,20 @@ def main():
     ratio = explore["seconds"] / run["seconds"]
     out = {
         "when": datetime.now(UTC).isoformat(timespec="seconds"),
-        "frequencies": n_f, "candidates": int(kept.group(2)), "candidates_kept": int(kept.group(1)),
+        "frequencies": n_f,
+        "candidates": int(kept.group(2)),
+        "candidates_kept": int(kept.group(1)),
         "unknowns": int(n_max.group(1)),
-        "run_seconds": run["seconds"], "explore_seconds": explore["seconds"], "ratio": ratio,
-        "explore_solves_seconds": float(parts.group(1)), "explore_check_seconds": float(parts.group(2)),
+        "run_seconds": run["seconds"],
+        "explore_seconds": explore["seconds"],
+        "ratio": ratio,
+        "explore_solves_seconds": float(parts.group(1)),
+        "explore_check_seconds": float(parts.group(2)),
         "explore_choice_seconds": float(parts.group(3)),
-        "load": {"run": [run["load_before"], run["load_after"]], "explore": [explore["load_before"], explore["load_after"]]},
+        "load": {
+            "run": [run["load_before"], run["load_after"]],
+            "explore": [explore["load_before"], explore["load_after"]],
+        },
         "target_met": ratio <= TARGET,
     }
     (HERE / "explore.json").write_text(json.dumps(out, indent=2) + "\n")

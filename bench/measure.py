@@ -220,8 +220,9 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
     case = load_case(case_path)
     plan = plan_tasks(case, plan_bands(case), harmonics=[f for _, _, f in harmonic_plan(case)])
     chosen = case.frequencies if frequencies is None else frequencies
-    tasks = [t for t in plan if not t.harmonic and (self_check or t.kind == SOLVE)
-             and np.isclose(t.frequency, chosen).any()]
+    tasks = [
+        t for t in plan if not t.harmonic and (self_check or t.kind == SOLVE) and np.isclose(t.frequency, chosen).any()
+    ]
 
     def mesh_of(t):
         if t.kind == CHECK:
@@ -233,15 +234,27 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
     warm = _warm_up(reference=True)
     directions = for_observers(case.observers.far_field).unit
     x_src, groups, back = _case_columns(case)
-    out = {"warm_up_s": warm, "meshing_s": meshing.wall, "planned": len(plan),
-           "harmonics": sum(t.harmonic for t in plan), "case_frequencies": len(case.frequencies),
-           "sources": [f"{s.name} ({s.radiator})" for s in case.sources], "rows": []}
+    out = {
+        "warm_up_s": warm,
+        "meshing_s": meshing.wall,
+        "planned": len(plan),
+        "harmonics": sum(t.harmonic for t in plan),
+        "case_frequencies": len(case.frequencies),
+        "sources": [f"{s.name} ({s.radiator})" for s in case.sources],
+        "rows": [],
+    }
     for t in tasks:
         with Clock() as c:
             arrays, meta = bem_task(case, t, cache_dir=cache_dir)
-        row = {"frequency": t.frequency, "kind": t.kind, "unknowns": meta["unknowns"], "elements": meta["elements"],
-               "device": meta["device"], "bemcheck": {"wall": c.wall, "cpu": c.cpu, "parts": meta["timings"]},
-               "peak_rss": peak_rss()}
+        row = {
+            "frequency": t.frequency,
+            "kind": t.kind,
+            "unknowns": meta["unknowns"],
+            "elements": meta["elements"],
+            "device": meta["device"],
+            "bemcheck": {"wall": c.wall, "cpu": c.cpu, "parts": meta["timings"]},
+            "peak_rss": peak_rss(),
+        }
         if t.kind == SOLVE and np.isclose(t.frequency, reference_frequencies).any():
             with Clock() as r:
                 ref = reference_solve(meshes[t.key], t.frequency, case.medium, x_src, directions, pistons=groups)
@@ -252,8 +265,12 @@ def sweep(case_path, reference_frequencies, frequencies=None, self_check=True, c
         row["load"] = os.getloadavg()
         out["rows"].append(row)
         what = "" if t.kind == SOLVE else f" {t.kind}"
-        print(f"sweep {t.frequency:.1f} Hz{what} N={meta['unknowns']}: {c.wall:.1f} s"
-              + (f", reference {row['reference']['wall']:.1f} s" if "reference" in row else ""), file=sys.stderr, flush=True)
+        print(
+            f"sweep {t.frequency:.1f} Hz{what} N={meta['unknowns']}: {c.wall:.1f} s"
+            + (f", reference {row['reference']['wall']:.1f} s" if "reference" in row else ""),
+            file=sys.stderr,
+            flush=True,
+        )
     out["peak_rss"] = peak_rss()
     return out
 

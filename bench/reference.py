@@ -146,7 +146,9 @@ def reference_solve(mesh, frequency, medium, monopoles, directions, pistons=(), 
         tag = mesh.groups[name]
         dp0 = api.function_space(grid, "DP", 0, segments=[tag])
         g = api.GridFunction(dp0, fun=_piston_data(api, iwr / _group_area(mesh, tag)))
-        op = helm.single_layer(dp0, p1, p1, k) + eta * (0.5 * identity(dp0, p1, p1) + helm.adjoint_double_layer(dp0, p1, p1, k))
+        op = helm.single_layer(dp0, p1, p1, k) + eta * (
+            0.5 * identity(dp0, p1, p1) + helm.adjoint_double_layer(dp0, p1, p1, k)
+        )
         rhs.append(-(op * g))
         densities.append(g)
     for f in rhs:

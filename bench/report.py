@@ -24,7 +24,8 @@ def _machine(m):
         f"- Python {m['python']}; bempp-cl {m['bempp-cl']}, numba {m['numba']}, numpy {m['numpy']}, scipy {m['scipy']}",
         f"- bemcheck's device: **{m['device']}**; the reference's bempp-cl found an OpenCL CPU runtime: {m['opencl']} "
         "(with one, the reference would assemble on it)",
-        f"- bemcheck at commit {m['commit']}" + (f", with uncommitted changes in {', '.join(m['dirty'])}" if m["dirty"] else ""),
+        f"- bemcheck at commit {m['commit']}"
+        + (f", with uncommitted changes in {', '.join(m['dirty'])}" if m["dirty"] else ""),
         f"- 1-minute load average: {load['start']:.1f} at the start, {load['min']:.1f}-{load['max']:.1f} during the "
         f"solves, {load['end']:.1f} at the end.  The machine was shared with other jobs whenever the load is above "
         "about 2: wall times are then longer than on an idle machine, and the CPU seconds are given beside them.",
@@ -44,13 +45,21 @@ def _sweep(sweep, summary):
         bp = b["parts"]
         ref = r.get("reference")
         what = f"{r['frequency']:.1f}" + ("" if r["kind"] == "solve" else f" ({r['kind']})")
-        cells = [what, f"{r['unknowns']:,}", f"{_s(b['wall'])} ({_s(bp['assembly'])} / {_s(bp['lu'])} / {_s(bp['solve'])} / {_s(bp['fields'])})",
-                 _s(b["cpu"])]
+        cells = [
+            what,
+            f"{r['unknowns']:,}",
+            f"{_s(b['wall'])} ({_s(bp['assembly'])} / {_s(bp['lu'])} / {_s(bp['solve'])} / {_s(bp['fields'])})",
+            _s(b["cpu"]),
+        ]
         if ref:
             rp = ref["parts"]
-            cells += [f"{_s(ref['wall'])} ({_s(rp['assembly'])} / {_s(rp['sources'])} / {_s(rp['solve'])} / {_s(rp['far_field'])})",
-                      _s(ref["cpu"]), f"{ref['wall'] / b['wall']:.2f}", f"{r['max_level_difference_db']:.1e}",
-                      ", ".join(str(i) for i in ref["iterations"])]
+            cells += [
+                f"{_s(ref['wall'])} ({_s(rp['assembly'])} / {_s(rp['sources'])} / {_s(rp['solve'])} / {_s(rp['far_field'])})",
+                _s(ref["cpu"]),
+                f"{ref['wall'] / b['wall']:.2f}",
+                f"{r['max_level_difference_db']:.1e}",
+                ", ".join(str(i) for i in ref["iterations"]),
+            ]
         else:
             cells += ["not run", "", "", "", ""]
         rows.append(cells)
@@ -66,7 +75,10 @@ def _sweep(sweep, summary):
         "(assembly / sources: callables compiled, piston operators / GMRES / far field).",
         "",
     ]
-    out += _table(["f [Hz]", "N", "bemcheck wall", "CPU", "reference wall", "CPU", "ratio", "far-field diff [dB]", "GMRES its"], rows)
+    out += _table(
+        ["f [Hz]", "N", "bemcheck wall", "CPU", "reference wall", "CPU", "ratio", "far-field diff [dB]", "GMRES its"],
+        rows,
+    )
     out += [
         "",
         f"demo sweep speed-up: {s['speedup']:.1f}×",
@@ -100,12 +112,25 @@ def _scaling(scaling, summary):
     for r in scaling["rows"]:
         p = r["parts"]
         total = analysis.row_total(r)
-        rows.append([f"{r['unknowns']:,}", f"{r['triangles']:,}", f"{r['frequency']:.0f}", _s(p["assembly"]), _s(p["lu"]),
-                     _s(p["solve"]), _s(p["fields"]), _s(total), _s(r["cpu"]), f"{r['lu_floor']:.2f}",
-                     f"{total / r['lu_floor']:.0f}", f"{r['peak_rss'] / MIB:,.0f}",
-                     f"{analysis.dense_bytes(r['unknowns'], analysis.DENSE_HELD) / MIB:,.0f}",
-                     f"{r['peak_rss'] / analysis.dense_bytes(r['unknowns'], analysis.DENSE_HELD):.2f}",
-                     f"{r['series_error_db']:.3f}"])
+        rows.append(
+            [
+                f"{r['unknowns']:,}",
+                f"{r['triangles']:,}",
+                f"{r['frequency']:.0f}",
+                _s(p["assembly"]),
+                _s(p["lu"]),
+                _s(p["solve"]),
+                _s(p["fields"]),
+                _s(total),
+                _s(r["cpu"]),
+                f"{r['lu_floor']:.2f}",
+                f"{total / r['lu_floor']:.0f}",
+                f"{r['peak_rss'] / MIB:,.0f}",
+                f"{analysis.dense_bytes(r['unknowns'], analysis.DENSE_HELD) / MIB:,.0f}",
+                f"{r['peak_rss'] / analysis.dense_bytes(r['unknowns'], analysis.DENSE_HELD):.2f}",
+                f"{r['series_error_db']:.3f}",
+            ]
+        )
     s = summary
     out = [
         "## Per-frequency cost against the number of unknowns",
@@ -120,12 +145,36 @@ def _scaling(scaling, summary):
         "(Morse & Ingard 1968, sec. 7.2; Duda & Martens 1998, JASA 104(5), eq. 2; `tests/support/sphere_series.py`).",
         "",
     ]
-    out += _table(["N", "triangles", "f [Hz]", "assembly", "LU", "solve", "fields", "total", "CPU", "LU floor",
-                   "total / floor", "peak RSS [MiB]", "dense [MiB]", "RSS / dense", "error [dB]"], rows)
-    out += ["", f"Baseline RSS after imports and compilation: {scaling['baseline_rss'] / MIB:,.0f} MiB; compile warm-up "
-            f"{scaling['warm_up_s']:.0f} s."]
+    out += _table(
+        [
+            "N",
+            "triangles",
+            "f [Hz]",
+            "assembly",
+            "LU",
+            "solve",
+            "fields",
+            "total",
+            "CPU",
+            "LU floor",
+            "total / floor",
+            "peak RSS [MiB]",
+            "dense [MiB]",
+            "RSS / dense",
+            "error [dB]",
+        ],
+        rows,
+    )
+    out += [
+        "",
+        f"Baseline RSS after imports and compilation: {scaling['baseline_rss'] / MIB:,.0f} MiB; compile warm-up "
+        f"{scaling['warm_up_s']:.0f} s.",
+    ]
     for skip in scaling["skipped"]:
-        out += ["", f"N = {skip['unknowns']:,} not run: predicted {skip['predicted_s'] / 60:.0f} min, past the run's time budget."]
+        out += [
+            "",
+            f"N = {skip['unknowns']:,} not run: predicted {skip['predicted_s'] / 60:.0f} min, past the run's time budget.",
+        ]
     if len(scaling["rows"]) > 1:
         mem = s["memory"]
         big = scaling["rows"][-1]
@@ -140,9 +189,12 @@ def _scaling(scaling, summary):
             f"At N = {s['largest']:,} assembly is {100 * big['parts']['assembly'] / analysis.row_total(big):.0f} % of "
             f"the time and the LU {100 * big['parts']['lu'] / analysis.row_total(big):.0f} %.  Assembly evaluates every "
             "pair of triangles (N² work); "
-            + ("its cost grew more slowly than N² over these sizes because the O(N) touching pairs and fixed "
-               "per-call costs weigh more on small meshes.  "
-               if s["exponent_assembly"] < 2.0 else f"its cost grew as N^{s['exponent_assembly']:.2f} here.  ")
+            + (
+                "its cost grew more slowly than N² over these sizes because the O(N) touching pairs and fixed "
+                "per-call costs weigh more on small meshes.  "
+                if s["exponent_assembly"] < 2.0
+                else f"its cost grew as N^{s['exponent_assembly']:.2f} here.  "
+            )
             + f"Scaling the largest size's assembly as N² and its LU as N³, the LU overtakes the assembly near "
             f"N ~ {float(f'{crossing:.2g}'):,.0f}.  The LU floor's fitted exponent is below 3 because BLAS runs "
             "below its peak speed on small matrices and the small-N times are noisy.",
@@ -161,12 +213,24 @@ def _scaling(scaling, summary):
 def _cold(cold, sweep):
     first = next(r for r in sweep["rows"] if r["kind"] == "solve")
     rows = [
-        ["cold: empty mesh cache, empty NUMBA_CACHE_DIR", f"{cold['cold']['seconds']:.1f}", f"{cold['cold']['task_seconds']:.1f}",
-         f"{cold['cold']['load']:.1f}"],
-        ["warm: both caches filled by the cold run", f"{cold['warm']['seconds']:.1f}", f"{cold['warm']['task_seconds']:.1f}",
-         f"{cold['warm']['load']:.1f}"],
-        ["long-lived worker (kernels compiled in memory)", f"{first['bemcheck']['wall']:.1f}", f"{first['bemcheck']['wall']:.1f}",
-         f"{first['load'][0]:.1f}"],
+        [
+            "cold: empty mesh cache, empty NUMBA_CACHE_DIR",
+            f"{cold['cold']['seconds']:.1f}",
+            f"{cold['cold']['task_seconds']:.1f}",
+            f"{cold['cold']['load']:.1f}",
+        ],
+        [
+            "warm: both caches filled by the cold run",
+            f"{cold['warm']['seconds']:.1f}",
+            f"{cold['warm']['task_seconds']:.1f}",
+            f"{cold['warm']['load']:.1f}",
+        ],
+        [
+            "long-lived worker (kernels compiled in memory)",
+            f"{first['bemcheck']['wall']:.1f}",
+            f"{first['bemcheck']['wall']:.1f}",
+            f"{first['load'][0]:.1f}",
+        ],
     ]
     out = [
         "## Cold start",
@@ -179,7 +243,7 @@ def _cold(cold, sweep):
     out += _table(["start", "to first frequency [s]", "task [s]", "load"], rows)
     out += [
         "",
-        f"What \"warm\" can mean here: the mesh cache spares gmsh; numba's on-disk cache ({cold['numba_cache_files']} files "
+        f'What "warm" can mean here: the mesh cache spares gmsh; numba\'s on-disk cache ({cold["numba_cache_files"]} files '
         "after the cold run) holds only small helpers, because bemcheck compiles its assembly kernels in every "
         "process (code loaded from numba's cache differed in the last bit from freshly compiled code, and a resumed "
         "sweep must equal an uninterrupted one bit for bit; see bemcheck/solvers/bem/kernel.py).  A process that "
@@ -221,7 +285,7 @@ def kept_section(path):
     """The bell-sizing section of an existing RESULTS.md, or "" (kept when the page is rewritten)."""
     text = path.read_text() if path.exists() else ""
     start, end = text.find(SECTION_START), text.find(SECTION_END)
-    return text[start:end + len(SECTION_END)] if 0 <= start < end else ""
+    return text[start : end + len(SECTION_END)] if 0 <= start < end else ""
 
 
 def put_section(path, body):

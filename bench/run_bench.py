@@ -69,7 +69,9 @@ def _opencl_found():
 
 def _machine(raw_name, sweep, loads):
     solver_paths = ["bemcheck/solvers", "bemcheck/run", "bemcheck/mesh", "cases/demo.toml"]
-    status = subprocess.run(["git", "status", "--porcelain", "--", *solver_paths], cwd=ROOT, capture_output=True, text=True, check=False)
+    status = subprocess.run(
+        ["git", "status", "--porcelain", "--", *solver_paths], cwd=ROOT, capture_output=True, text=True, check=False
+    )
     dirty = sorted(line[3:] for line in status.stdout.splitlines() if line.strip())
     return {
         "date": datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
@@ -90,30 +92,56 @@ def _machine(raw_name, sweep, loads):
 def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="small sizes and one frequency: a smoke run of every step")
-    parser.add_argument("--out", type=Path, help="RESULTS.md to write (default bench/RESULTS.md; a temporary folder with --quick)")
-    parser.add_argument("--case", type=Path, default=ROOT / "cases" / "demo.toml", help="case for the sweep and the cold start")
-    parser.add_argument("--render", type=Path, metavar="RESULTS_JSON", help="measure nothing: rewrite RESULTS.md from the raw figures of an earlier run")
+    parser.add_argument(
+        "--out", type=Path, help="RESULTS.md to write (default bench/RESULTS.md; a temporary folder with --quick)"
+    )
+    parser.add_argument(
+        "--case", type=Path, default=ROOT / "cases" / "demo.toml", help="case for the sweep and the cold start"
+    )
+    parser.add_argument(
+        "--render",
+        type=Path,
+        metavar="RESULTS_JSON",
+        help="measure nothing: rewrite RESULTS.md from the raw figures of an earlier run",
+    )
     args = parser.parse_args(argv)
     if args.render:
         raw = json.loads(args.render.read_text())
         out = args.out or args.render.with_name("RESULTS.md")
-        raw["derived"] = report.write(out, raw["machine"], raw["sweep"], raw["scaling"], raw["cold_start"], raw["seconds"], raw["quick"])
+        raw["derived"] = report.write(
+            out, raw["machine"], raw["sweep"], raw["scaling"], raw["cold_start"], raw["seconds"], raw["quick"]
+        )
         args.render.write_text(json.dumps(raw, indent=1) + "\n")
         print(f"wrote {out} from {args.render}", file=sys.stderr)
         return 0
-    out = args.out or (Path(tempfile.mkdtemp(prefix="bemcheck-bench-quick-")) / "RESULTS.md" if args.quick else HERE / "RESULTS.md")
+    out = args.out or (
+        Path(tempfile.mkdtemp(prefix="bemcheck-bench-quick-")) / "RESULTS.md" if args.quick else HERE / "RESULTS.md"
+    )
     start = time.perf_counter()
     loads = [os.getloadavg()[0]]
     with tempfile.TemporaryDirectory(prefix="bemcheck-bench-") as work:
         print("cold start: `bemcheck run` twice (cold, then warm caches) ...", file=sys.stderr, flush=True)
         cold = coldstart.cold_and_warm(Path(sys.executable).parent / "bemcheck", args.case, work)
-        print(f"cold start: {cold['cold']['seconds']:.1f} s cold, {cold['warm']['seconds']:.1f} s warm", file=sys.stderr, flush=True)
+        print(
+            f"cold start: {cold['cold']['seconds']:.1f} s cold, {cold['warm']['seconds']:.1f} s warm",
+            file=sys.stderr,
+            flush=True,
+        )
 
         case_frequencies = None if not args.quick else [_first_frequency(args.case)]
-        sweep = _child("sweep", case_path=str(args.case), reference_frequencies=case_frequencies or _all_frequencies(args.case),
-                       frequencies=case_frequencies, self_check=not args.quick, cache_dir=str(Path(work) / "mesh-cache"))
-        scaling = _child("scaling", sizes=list(QUICK_SIZES if args.quick else FULL_SIZES),
-                         budget_s=float("inf") if args.quick else FULL_SCALING_BUDGET_S)
+        sweep = _child(
+            "sweep",
+            case_path=str(args.case),
+            reference_frequencies=case_frequencies or _all_frequencies(args.case),
+            frequencies=case_frequencies,
+            self_check=not args.quick,
+            cache_dir=str(Path(work) / "mesh-cache"),
+        )
+        scaling = _child(
+            "scaling",
+            sizes=list(QUICK_SIZES if args.quick else FULL_SIZES),
+            budget_s=float("inf") if args.quick else FULL_SCALING_BUDGET_S,
+        )
     loads += [r["load"][0] for r in sweep["rows"] + scaling["rows"]] + [os.getloadavg()[0]]
     seconds = time.perf_counter() - start
 
@@ -121,8 +149,15 @@ def main(argv=None):
     machine = _machine(raw_path.name, sweep, loads)
     out.parent.mkdir(parents=True, exist_ok=True)
     derived = report.write(out, machine, sweep, scaling, cold, seconds, args.quick)
-    raw = {"machine": machine, "seconds": seconds, "quick": args.quick, "cold_start": cold, "sweep": sweep,
-           "scaling": scaling, "derived": derived}
+    raw = {
+        "machine": machine,
+        "seconds": seconds,
+        "quick": args.quick,
+        "cold_start": cold,
+        "sweep": sweep,
+        "scaling": scaling,
+        "derived": derived,
+    }
     raw_path.write_text(json.dumps(raw, indent=1) + "\n")
     print(f"wrote {out} and {raw_path} after {seconds / 60:.1f} min", file=sys.stderr)
     return 0

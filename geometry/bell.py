@@ -84,7 +84,8 @@ def fit_horn(mouth_radius, throat_radius, length, flare):
     if not (mouth_radius > throat_radius > 0.0):
         raise ValueError(
             f"mouth_radius {mouth_radius} m and throat_radius {throat_radius} m: "
-            "expected mouth_radius > throat_radius > 0")
+            "expected mouth_radius > throat_radius > 0"
+        )
     if not length > 0.0:
         raise ValueError(f"length {length} m: expected > 0")
     if not flare > 0.0:
@@ -107,9 +108,9 @@ class Section:
     horn: Horn
     rim_radius: float
     cap_depth: float
-    x_rim: float          # where the rim meets the outer wall
+    x_rim: float  # where the rim meets the outer wall
     rim_centre: tuple
-    x_floor: float        # where the cap meets the cavity wall (= x_rim when flat)
+    x_floor: float  # where the cap meets the cavity wall (= x_rim when flat)
     cap_radius: float
 
     @property
@@ -151,8 +152,7 @@ def section(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.
     nr, nz = _unit_inward(horn, x_rim)
     centre = (float(horn.radius(x_rim) + a * nr), -a)
     if centre[0] <= 0.0:
-        raise ValueError(
-            f"rim_radius {a} m is too large for mouth_radius {mouth_radius} m")
+        raise ValueError(f"rim_radius {a} m is too large for mouth_radius {mouth_radius} m")
     sec = Section(horn, a, cap_depth, x_rim, centre, x_rim, centre[0])
     if not sec.recessed:
         return sec
@@ -161,11 +161,13 @@ def section(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.
     if cap_depth <= -lip_z:
         raise ValueError(
             f"cap_depth {cap_depth} m: expected more than {-lip_z:.4g} m, "
-            "the depth at which the rim's lip meets the cavity wall")
+            "the depth at which the rim's lip meets the cavity wall"
+        )
     if length - cap_depth < sec.wall:
         raise ValueError(
             f"cap_depth {cap_depth} m leaves less than the wall thickness {sec.wall} m "
-            f"(2 rim_radius) between the cap and the throat at z = -{length} m")
+            f"(2 rim_radius) between the cap and the throat at z = -{length} m"
+        )
     r_inner = lambda x: float(sec.inner(x)[0])  # noqa: E731
     z_inner = lambda x: float(sec.inner(x)[1])  # noqa: E731
     # the cavity wall exists until it reaches the axis (or the throat end)
@@ -173,13 +175,15 @@ def section(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.
     if z_inner(x_end) > -cap_depth:
         raise ValueError(
             f"cap_depth {cap_depth} m: inside a wall of {sec.wall} m (2 rim_radius) "
-            f"the cavity closes at depth {-z_inner(x_end):.4g} m")
+            f"the cavity closes at depth {-z_inner(x_end):.4g} m"
+        )
     x_floor = brentq(lambda x: z_inner(x) + cap_depth, x_rim, x_end, xtol=1e-14)
     cap_radius = float(sec.inner(x_floor)[0])
     if cap_radius <= a:
         raise ValueError(
             f"cap_depth {cap_depth} m: the recessed cap would be only "
-            f"{cap_radius:.3g} m in radius inside a wall of {sec.wall} m")
+            f"{cap_radius:.3g} m in radius inside a wall of {sec.wall} m"
+        )
     return Section(horn, a, cap_depth, x_rim, centre, x_floor, cap_radius)
 
 
@@ -217,8 +221,7 @@ def profile_samples(sec, n=400):
         r_in, z_in = sec.inner(x_in)
         rp_in = horn.slope(x_in)
         km_in = horn.second(x_in) / np.sqrt(1 + rp_in**2) ** 3
-        k_in = np.maximum(km_in / (1.0 + sec.wall * km_in),
-                          1.0 / (np.sqrt(1 + rp_in**2) * r_in))
+        k_in = np.maximum(km_in / (1.0 + sec.wall * km_in), 1.0 / (np.sqrt(1 + rp_in**2) * r_in))
         parts.append((r_in, z_in, k_in, "cavity"))
     t_out = _rim_angle(sec)
     # the lip runs from the inner tangent point (opposite the outer one) over the top
@@ -227,8 +230,8 @@ def profile_samples(sec, n=400):
     parts.append((rr, zz, np.full_like(rr, 1.0 / a), "rim"))
     x_out = sec.x_rim + (horn.length - sec.x_rim) * np.linspace(0.0, 1.0, n) ** 2
     w = np.sqrt(1.0 + horn.slope(x_out) ** 2)
-    k_merid = horn.second(x_out) / w**3           # curvature of the profile
-    k_circ = 1.0 / (horn.radius(x_out) * w)       # of the circles of revolution
+    k_merid = horn.second(x_out) / w**3  # curvature of the profile
+    k_circ = 1.0 / (horn.radius(x_out) * w)  # of the circles of revolution
     parts.append((horn.radius(x_out), -x_out, np.maximum(k_merid, k_circ), "outer"))
     s = np.linspace(float(horn.radius(horn.length)), 0.0, n // 4)
     parts.append((s, np.full_like(s, -horn.length), np.zeros_like(s), "throat"))
@@ -286,8 +289,7 @@ def _measures(sec):
     return area, volume
 
 
-def build(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.0, size=0.02,
-          scale=1.0):
+def build(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.0, size=0.02, scale=1.0):
     """Add the bell to the current gmsh model, with physical groups and mesh sizes.
 
     Parameters are those of the module docstring, in metres; ``size`` is the
@@ -310,7 +312,6 @@ def build(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.0,
 
     def point(r, z):
         return occ.addPoint(float(r), 0.0, float(z))
-
 
     z_cap = -sec.cap_depth
     axis_top, cap_edge = point(0.0, z_cap), point(sec.cap_radius, z_cap)
@@ -342,8 +343,7 @@ def build(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.0,
     occ.remove([(0, centre)])
     occ.synchronize()
 
-    mouth = [t for _, t in gmsh.model.getEntities(2)
-             if _is_disc_at(gmsh.model.getBoundingBox(2, t), z_cap)]
+    mouth = [t for _, t in gmsh.model.getEntities(2) if _is_disc_at(gmsh.model.getBoundingBox(2, t), z_cap)]
     wall = [t for _, t in gmsh.model.getEntities(2) if t not in mouth]
     gmsh.model.addPhysicalGroup(2, wall, name="wall")
     gmsh.model.addPhysicalGroup(2, mouth, name="mouth")
@@ -355,7 +355,8 @@ def build(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.0,
         gmsh.option.setNumber("Mesh." + name, 0)
     gmsh.option.setNumber("Mesh.Algorithm", 6)
     gmsh.model.mesh.setSizeCallback(
-        lambda dim, tag, x, y, zz, lc: min(lc, float(h[tree.query((math.hypot(x, y), zz))[1]])))
+        lambda dim, tag, x, y, zz, lc: min(lc, float(h[tree.query((math.hypot(x, y), zz))[1]]))
+    )
     return sec
 
 
@@ -376,8 +377,12 @@ def main(argv=None):
     p.add_argument("--size", type=float, default=0.02, help="largest element size [m]")
     p.add_argument("-o", "--output", default="bell.msh", help="output .msh file")
     args = p.parse_args(argv)
-    write_msh("bell", build, (args.mouth_radius, args.throat_radius, args.length, args.flare,
-              args.rim_radius, args.cap_depth, args.size), args.output)
+    write_msh(
+        "bell",
+        build,
+        (args.mouth_radius, args.throat_radius, args.length, args.flare, args.rim_radius, args.cap_depth, args.size),
+        args.output,
+    )
 
 
 if __name__ == "__main__":

@@ -80,7 +80,8 @@ def build(depth, width, height, edge_radius=0.0, size=0.05, scale=1.0):
             f"edge_radius {edge_radius} m: expected 0 (sharp edges) or between "
             f"{MIN_ROUND * smallest:.3g} m ({MIN_ROUND:g} of the smallest side; a finer "
             f"rounding costs many elements for no audible effect) and {0.5 * smallest:.3g} m "
-            "(half the smallest side)")
+            "(half the smallest side)"
+        )
     occ = gmsh.model.occ
     box = occ.addBox(-0.5 * width, -0.5 * height, -0.5 * depth, width, height, depth)
     if edge_radius > 0.0:
@@ -103,8 +104,7 @@ def build(depth, width, height, edge_radius=0.0, size=0.05, scale=1.0):
     if edge_radius > 0.0:
         body = mean_radius(*solid_measures(depth, width, height, edge_radius))
         deviation = allowed_deviation(size, 1.0 / edge_radius, 0.5 * smallest, body, scale)
-        h_round = min(h, max(float(sagitta_size(deviation, 1.0 / edge_radius)),
-                             scale * ROUND_FRACTION * edge_radius))
+        h_round = min(h, max(float(sagitta_size(deviation, 1.0 / edge_radius)), scale * ROUND_FRACTION * edge_radius))
     if rounds and h_round < h:
         fields = gmsh.model.mesh.field
         dist = fields.add("Distance")

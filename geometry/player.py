@@ -34,20 +34,33 @@ def solid_measures(head_radius, neck_radius, neck_length, torso_radius, torso_he
     """
     a, r, length, big, height = head_radius, neck_radius, neck_length, torso_radius, torso_height
     cap = a - math.sqrt(a * a - r * r)
-    area = (2.0 * math.pi * big * height + 2.0 * math.pi * big**2 - math.pi * r**2
-            + 2.0 * math.pi * r * length + 4.0 * math.pi * a**2 - 2.0 * math.pi * a * cap)
+    area = (
+        2.0 * math.pi * big * height
+        + 2.0 * math.pi * big**2
+        - math.pi * r**2
+        + 2.0 * math.pi * r * length
+        + 4.0 * math.pi * a**2
+        - 2.0 * math.pi * a * cap
+    )
     volume = math.pi * big**2 * height + math.pi * r**2 * length + 4.0 / 3.0 * math.pi * a**3
     return area, volume
 
 
 def _check(head_radius, neck_radius, neck_length, torso_radius, torso_height):
-    for key, value in (("head_radius", head_radius), ("neck_radius", neck_radius), ("neck_length", neck_length),
-                       ("torso_radius", torso_radius), ("torso_height", torso_height)):
+    for key, value in (
+        ("head_radius", head_radius),
+        ("neck_radius", neck_radius),
+        ("neck_length", neck_length),
+        ("torso_radius", torso_radius),
+        ("torso_height", torso_height),
+    ):
         if not value > 0.0:
             raise ValueError(f"{key} {value} m: expected > 0")
     if not neck_radius < min(head_radius, torso_radius):
-        raise ValueError(f"neck_radius {neck_radius} m: expected less than head_radius ({head_radius} m) "
-                         f"and torso_radius ({torso_radius} m)")
+        raise ValueError(
+            f"neck_radius {neck_radius} m: expected less than head_radius ({head_radius} m) "
+            f"and torso_radius ({torso_radius} m)"
+        )
 
 
 def build(head_radius, neck_radius, neck_length, torso_radius, torso_height, size=0.05, scale=1.0):
@@ -124,8 +137,12 @@ def main(argv=None):
     p.add_argument("--size", type=float, default=0.05, help="largest element size [m]")
     p.add_argument("-o", "--output", default="player.msh", help="output .msh file")
     args = p.parse_args(argv)
-    write_msh("player", build, (args.head_radius, args.neck_radius, args.neck_length, args.torso_radius,
-                                args.torso_height, args.size), args.output)
+    write_msh(
+        "player",
+        build,
+        (args.head_radius, args.neck_radius, args.neck_length, args.torso_radius, args.torso_height, args.size),
+        args.output,
+    )
 
 
 if __name__ == "__main__":

@@ -14,7 +14,10 @@ def pytest_terminal_summary(terminalreporter):
     if binary is None:
         terminalreporter.write_line(
             f"browser tests of the report SKIPPED: Chromium is not installed ({CHROMIUM}); "
-            "install it with `apt-get install chromium` (.ci/run does this)", yellow=True, bold=True)
+            "install it with `apt-get install chromium` (.ci/run does this)",
+            yellow=True,
+            bold=True,
+        )
     else:
         terminalreporter.write_line(f"browser tests of the report ran with {binary}")
 

@@ -52,8 +52,16 @@ class Driver:
 
 
 _UNITS = {
-    "re": "Ω", "bl": "T·m", "mms": "kg", "cms": "m/N", "rms": "kg/s", "sd": "m²",
-    "xmax": "m", "vb": "m³", "rated_power": "W", "le": "H",
+    "re": "Ω",
+    "bl": "T·m",
+    "mms": "kg",
+    "cms": "m/N",
+    "rms": "kg/s",
+    "sd": "m²",
+    "xmax": "m",
+    "vb": "m³",
+    "rated_power": "W",
+    "le": "H",
 }
 
 

@@ -103,8 +103,10 @@ class ExploreSpec:
         out = [f"candidates: {len(self.points)} listed point(s)"] if self.points else []
         if self.grid is not None:
             g = self.grid
-            out.append(f"candidates: a grid in {g.plane} from [{', '.join(f'{v:g}' for v in g.origin)}] m, "
-                       f"{g.size[0]:g} x {g.size[1]:g} m every {g.step:g} m ({math.prod(g.counts())} points)")
+            out.append(
+                f"candidates: a grid in {g.plane} from [{', '.join(f'{v:g}' for v in g.origin)}] m, "
+                f"{g.size[0]:g} x {g.size[1]:g} m every {g.step:g} m ({math.prod(g.counts())} points)"
+            )
         if self.around is not None:
             a = self.around
             out.append(f"candidates: around body {a.body!r}, {a.offset:g} m off its surface, {a.step:g} m apart")
@@ -131,8 +133,10 @@ def read_explore(r, sources, file, bodies=()):
     grid = _grid(r.sub("grid")) if r.has("grid") else None
     around = _around(r.sub("around"), bodies) if r.has("around") else None
     if not points and grid is None and around is None:
-        raise CaseError(f"{file}: explore: expected candidate positions as points = [[x, y, z], ...], a grid table "
-                        "or an around table")
+        raise CaseError(
+            f"{file}: explore: expected candidate positions as points = [[x, y, z], ...], a grid table "
+            "or an around table"
+        )
     controls = r.integer("controls", 1, low=1)
     fixed = _fixed(r, sources)
     r.done()
@@ -157,7 +161,11 @@ def _grid(g):
     size = g.numbers("size", length=2, positive=True)
     step = g.number("step", positive=True)
     if step > min(size):
-        g.fail("step", f"a step no larger than the smaller size ({min(size):g} m), so the grid has at least 2 x 2 points", step)
+        g.fail(
+            "step",
+            f"a step no larger than the smaller size ({min(size):g} m), so the grid has at least 2 x 2 points",
+            step,
+        )
     g.done()
     return Grid(plane, origin, size, step)
 
@@ -179,7 +187,11 @@ def _fixed(r, sources):
         r.fail("fixed", "a list of control source names", value)
     for i, name in enumerate(value):
         if name not in controls:
-            r.fail(f"fixed[{i}]", "the name of a control source (" + (", ".join(controls) or "the case has none") + ")", name)
+            r.fail(
+                f"fixed[{i}]",
+                "the name of a control source (" + (", ".join(controls) or "the case has none") + ")",
+                name,
+            )
     if len(set(value)) != len(value):
         r.fail("fixed", "each control named once", value)
     return tuple(value)

@@ -116,20 +116,27 @@ def check_case(case):
         for s in case.sources:
             gap = math.dist(p.at, s.position)
             if gap < COINCIDENT:
-                raise CaseError(f"{file}: observers.points[{i}].at: observer point '{p.name}' coincides with "
-                                f"source '{s.name}' ({gap:g} m apart); expected a point at least "
-                                f"{COINCIDENT:g} m from every source (the field at a source is infinite)")
+                raise CaseError(
+                    f"{file}: observers.points[{i}].at: observer point '{p.name}' coincides with "
+                    f"source '{s.name}' ({gap:g} m apart); expected a point at least "
+                    f"{COINCIDENT:g} m from every source (the field at a source is infinite)"
+                )
     far = case.observers.far_field
     directions = for_observers(far)
-    spacing = (f"observers.far_field.degree = {far.degree}: {len(directions)} directions" if far.sphere
-               else f"observers.far_field.step_deg = {far.step_deg:g}: a direction every {360.0 / len(directions):g}°")
+    spacing = (
+        f"observers.far_field.degree = {far.degree}: {len(directions)} directions"
+        if far.sphere
+        else f"observers.far_field.step_deg = {far.step_deg:g}: a direction every {360.0 / len(directions):g}°"
+    )
     sectors = [(f"tolerance.sectors[{i}]", s) for i, s in enumerate(case.tolerance.sectors)]
     sectors.extend(case.control.sectors())
     for key, s in sectors:
         if not in_sector(directions.azimuth_deg, s.from_deg, s.to_deg).any():
-            raise CaseError(f"{file}: {key}: sector '{s.name}' ({s.from_deg:g}° to {s.to_deg:g}°) holds no "
-                            f"far-field direction ({spacing}); expected a sector holding at least one direction: "
-                            "widen it or make the directions finer")
+            raise CaseError(
+                f"{file}: {key}: sector '{s.name}' ({s.from_deg:g}° to {s.to_deg:g}°) holds no "
+                f"far-field direction ({spacing}); expected a sector holding at least one direction: "
+                "widen it or make the directions finer"
+            )
     _check_result_size(case, len(directions), file)
 
 

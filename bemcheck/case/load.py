@@ -1,6 +1,5 @@
 """Read a case file (TOML) into a validated :class:`~bemcheck.case.model.Case`."""
 
-import math
 import tomllib
 from dataclasses import replace
 from pathlib import Path
@@ -23,13 +22,13 @@ from bemcheck.case.model import (
     ObserverPoint,
     Observers,
     Source,
-    Spectrum,
     Tolerance,
 )
 from bemcheck.case.objectives import OBJECTIVES, MinimumPower
 from bemcheck.case.reader import TableReader
 from bemcheck.case.sector import read_sector
 from bemcheck.case.shapes import SHAPES
+from bemcheck.case.spectra import measured_at, read_note, read_spectrum
 from bemcheck.errors import CaseError
 from bemcheck.frames import place
 from bemcheck.observers import PLANES, lebedev_degrees
@@ -78,8 +77,10 @@ def load_case(path):
         for file in body.shape.files():
             if not file.is_file():
                 found = "a folder" if file.is_dir() else "nothing"
-                raise CaseError(f"{path}: body[{i}].path: expected an existing mesh file "
-                                f"(relative to the case file's folder), found {found} at {file}")
+                raise CaseError(
+                    f"{path}: body[{i}].path: expected an existing mesh file "
+                    f"(relative to the case file's folder), found {found} at {file}"
+                )
     return case
 
 
@@ -117,7 +118,7 @@ def parse_case(text, path=Path("<case>")):
     _check_driver_refs(sources, drivers, file)
     amplifiers = read_amplifiers(top.subs("amplifier"), sources, file)
     first = next(s for s in sources if s.role == "primary")
-    played = tuple(_measured_at(_note(r), first, by_name) for r in top.subs("note"))
+    played = tuple(measured_at(read_note(r), first, by_name) for r in top.subs("note"))
     _unique([n.name for n in played], "note", file)
     build = _build(top.sub("build", None))
     explore = read_explore(top.sub("explore", None), sources, file, bodies=tuple(by_name))
@@ -179,8 +180,12 @@ def _frequencies(r):
         r.fail("stop", f"a frequency ≥ start ({start:g} Hz)", stop)
     n = limits.frequency_count(start, stop, per_octave)
     if n > limits.MAX_FREQUENCIES:  # before the series is built: a billion floats do not fit
-        r.fail("per_octave", f"at most {limits.MAX_FREQUENCIES:,} frequencies; {start:g} to {stop:g} Hz "
-               f"at {per_octave:g} per octave gives {n:,}", per_octave)
+        r.fail(
+            "per_octave",
+            f"at most {limits.MAX_FREQUENCIES:,} frequencies; {start:g} to {stop:g} Hz "
+            f"at {per_octave:g} per octave gives {n:,}",
+            per_octave,
+        )
     return tuple(float(start * 2.0 ** (i / per_octave)) for i in range(n))
 
 
@@ -188,8 +193,12 @@ def _mesh(r):
     if r is None:
         return MeshSettings()
     m = MeshSettings(
-        elements_per_wavelength=r.number("elements_per_wavelength", MeshSettings.elements_per_wavelength, low=4.0,
-                                         high=limits.MAX_ELEMENTS_PER_WAVELENGTH),
+        elements_per_wavelength=r.number(
+            "elements_per_wavelength",
+            MeshSettings.elements_per_wavelength,
+            low=4.0,
+            high=limits.MAX_ELEMENTS_PER_WAVELENGTH,
+        ),
         band_octaves=r.number("band_octaves", MeshSettings.band_octaves, positive=True),
     )
     r.done()
@@ -214,7 +223,9 @@ def _source(r, bodies):
     on = r.string("on", None)
     radiator = r.string("radiator", "point", choices=("point", "piston"))
     if on is not None and on not in bodies:
-        r.fail("on", "the name of a body (" + ", ".join(bodies) + ")" if bodies else "a body, but the case has none", on)
+        r.fail(
+            "on", "the name of a body (" + ", ".join(bodies) + ")" if bodies else "a body, but the case has none", on
+        )
     at = r.vector("at", None, within=COORDINATE)
     if at is None and on is None:
         r.fail("at", "a position [x, y, z] in m (or `on` naming a body)")
@@ -223,8 +234,12 @@ def _source(r, bodies):
         faces = ", ".join(f"a {k}'s {s.PISTON_FACE} face" for k, s in SHAPES.items() if s.PISTON_FACE is not None)
         r.fail("on", f"the name of a {kinds} (a piston is {faces})", on)
     if radiator == "piston" and at is not None:
-        r.fail("at", f"no position for a piston (it is the face of body '{on}', and the free-field model puts "
-               "its monopole at the face's centre)", list(at))
+        r.fail(
+            "at",
+            f"no position for a piston (it is the face of body '{on}', and the free-field model puts "
+            "its monopole at the face's centre)",
+            list(at),
+        )
     if at is None and bodies[on].shape.anchor(radiator) is None:
         r.fail("at", f"a position [x, y, z] in m (a {bodies[on].kind} body has no known face to put a source `on`)")
     position = at if at is not None else _position_on(bodies[on], radiator)
@@ -234,7 +249,7 @@ def _source(r, bodies):
         r.fail("strength", "no strength for a control source (control strengths are computed)")
     spectrum = None
     if spectrum_r is not None:
-        spectrum = _spectrum(spectrum_r, name)
+        spectrum = read_spectrum(spectrum_r, name)
     if strength is not None:
         strength = r.check_number("strength", strength, positive=True, within=limits.STRENGTH)
     if role == "primary" and strength is None and spectrum is None:
@@ -253,7 +268,7 @@ def _source(r, bodies):
         driver=driver,
         position_tolerance=tolerance,
     )
-    return source if spectrum is None else replace(source, spectrum=_measured_at(spectrum, source, bodies))
+    return source if spectrum is None else replace(source, spectrum=measured_at(spectrum, source, bodies))
 
 
 def _position_on(body, radiator):
@@ -271,7 +286,7 @@ def _check_sources(sources, file):
                     f"source '{sources[i].name}'; expected distinct positions"
                 )
     if not any(s.role == "primary" for s in sources):
-        raise CaseError(f"{file}: source: expected at least one source with role = \"primary\"")
+        raise CaseError(f'{file}: source: expected at least one source with role = "primary"')
 
 
 def _observers(r, bodies):
@@ -291,9 +306,12 @@ def _observers(r, bodies):
         else:
             far = FarField(plane=plane, step_deg=ff.number("step_deg", 5.0, positive=True, high=90.0))
             if round(360.0 / far.step_deg) > limits.MAX_DIRECTIONS:
-                ff.fail("step_deg", f"at most {limits.MAX_DIRECTIONS:,} directions (a step ≥ "
-                        f"{360.0 / limits.MAX_DIRECTIONS:g}°); this step gives {round(360.0 / far.step_deg):,}",
-                        far.step_deg)
+                ff.fail(
+                    "step_deg",
+                    f"at most {limits.MAX_DIRECTIONS:,} directions (a step ≥ "
+                    f"{360.0 / limits.MAX_DIRECTIONS:g}°); this step gives {round(360.0 / far.step_deg):,}",
+                    far.step_deg,
+                )
         ff.done()
         if far.sphere:
             _check_lebedev(ff, far.degree)
@@ -316,8 +334,13 @@ def _observer_at(p, bodies):
     players = [n for n, b in bodies.items() if hasattr(b.shape, "ears")]
     body, _, side = ear.partition(".")
     if body not in players or side not in ("left", "right"):
-        p.fail("ear", "'<player>.left' or '<player>.right' naming a body of kind player ("
-               + (", ".join(players) or "the case has none") + ")", ear)
+        p.fail(
+            "ear",
+            "'<player>.left' or '<player>.right' naming a body of kind player ("
+            + (", ".join(players) or "the case has none")
+            + ")",
+            ear,
+        )
     b = bodies[body]
     local = b.shape.ears()[0 if side == "left" else 1]
     return tuple(float(v) for v in place([local], b.at, b.axis)[0])
@@ -335,7 +358,9 @@ def _control(r, sources, file):
     objective = OBJECTIVES[r.string("objective", "power", choices=tuple(OBJECTIVES))].read(r)
     r.done()
     if not any(s.role == "control" for s in sources):
-        raise CaseError(f"{file}: control.objective: a control objective needs at least one source with role = \"control\"")
+        raise CaseError(
+            f'{file}: control.objective: a control objective needs at least one source with role = "control"'
+        )
     return objective
 
 
@@ -349,8 +374,9 @@ def _tolerance(r):
     sectors = tuple(read_sector(s) for s in r.subs("sectors")) or Tolerance().sectors
     _unique([s.name for s in sectors], "tolerance.sectors", r.file)
     r.done()
-    return Tolerance(level_db=level, phase_deg=phase, sectors=sectors, attenuation_target_db=target,
-                     attenuation_db=shortfall)
+    return Tolerance(
+        level_db=level, phase_deg=phase, sectors=sectors, attenuation_target_db=target, attenuation_db=shortfall
+    )
 
 
 def _unique(names, what, file):
@@ -359,48 +385,6 @@ def _unique(names, what, file):
         if n in seen:
             raise CaseError(f"{file}: {what}[{i}].name: '{n}' is used twice; expected unique names")
         seen.add(n)
-
-
-def _spectrum(r, name):
-    fundamental = r.number("fundamental", positive=True, within=FREQUENCY)
-    levels = r.numbers("spl_at_1m", min_length=1)
-    for i, level in enumerate(levels):
-        if not -20.0 <= level <= 200.0:
-            r.fail(f"spl_at_1m[{i}]", "an SPL in dB re 20 µPa between -20 and 200", level)
-    direction = r.raw("direction", None)
-    if direction is not None:
-        direction = _direction(r, direction)
-    distance = r.number("distance", 1.0, positive=True)
-    r.done()
-    return Spectrum(fundamental, levels, name, direction=direction, distance=distance)
-
-
-def _direction(r, value):
-    """Unit vector [x, y, z] from ``[azimuth_deg, elevation_deg]`` in the scene frame:
-    azimuth from +x toward +y, elevation toward +z."""
-    expected = "an angle pair [azimuth_deg, elevation_deg] (azimuth from +x toward +y, elevation toward +z)"
-    if not isinstance(value, list) or len(value) != 2:
-        r.fail("direction", expected, value)
-    az = r.check_number("direction[0]", value[0], low=-360.0, high=360.0)
-    el = r.check_number("direction[1]", value[1], low=-90.0, high=90.0)
-    a, e = math.radians(az), math.radians(el)
-    return (math.cos(e) * math.cos(a), math.cos(e) * math.sin(a), math.sin(e))
-
-
-def _note(r):
-    return _spectrum(r, r.string("name"))
-
-
-def _measured_at(spectrum, source, bodies):
-    """The spectrum with its measurement point resolved from ``source``, the primary it is
-    measured from: along ``direction``, by default the axis of the body the primary is on
-    (+x for a primary on no body)."""
-    d = spectrum.direction
-    if d is None:
-        d = tuple(float(v) for v in np.asarray(bodies[source.on].axis) / np.linalg.norm(bodies[source.on].axis)) \
-            if source.on is not None else (1.0, 0.0, 0.0)
-    at = tuple(float(v) for v in np.asarray(source.position) + spectrum.distance * np.asarray(d))
-    return replace(spectrum, direction=d, at=at)
 
 
 _DRIVER_KEYS = ("re", "bl", "mms", "cms", "rms", "sd", "xmax", "vb", "rated_power")
@@ -419,7 +403,9 @@ def _check_driver_refs(sources, drivers, file):
     for i, s in enumerate(sources):
         if s.driver is not None and s.driver not in names:
             known = ", ".join(sorted(names)) or "none defined"
-            raise CaseError(f"{file}: source[{i}].driver: expected the name of a [[driver]] ({known}), got {s.driver!r}")
+            raise CaseError(
+                f"{file}: source[{i}].driver: expected the name of a [[driver]] ({known}), got {s.driver!r}"
+            )
 
 
 def _build(r):

@@ -245,12 +245,17 @@ class Player(Shape):
 
     @classmethod
     def read(cls, r, case_dir):
-        values = {key: r.number(key, getattr(cls, key), positive=True, within=SIZE)
-                  for key in ("head_radius", "neck_radius", "neck_length", "torso_radius", "torso_height")}
+        values = {
+            key: r.number(key, getattr(cls, key), positive=True, within=SIZE)
+            for key in ("head_radius", "neck_radius", "neck_length", "torso_radius", "torso_height")
+        }
         shape = cls(**values)
         if shape.neck_radius >= min(shape.head_radius, shape.torso_radius):
-            r.fail("neck_radius", f"less than head_radius ({shape.head_radius:g} m) and torso_radius "
-                   f"({shape.torso_radius:g} m)", shape.neck_radius)
+            r.fail(
+                "neck_radius",
+                f"less than head_radius ({shape.head_radius:g} m) and torso_radius ({shape.torso_radius:g} m)",
+                shape.neck_radius,
+            )
         return shape
 
     def script_args(self):
@@ -277,7 +282,9 @@ class Player(Shape):
 
     def area_lower_bound(self):
         """The torso's cylinder alone (the head and neck only add to it)."""
-        return 2.0 * math.pi * self.torso_radius * (self.torso_height + self.torso_radius) - math.pi * self.neck_radius**2
+        return (
+            2.0 * math.pi * self.torso_radius * (self.torso_height + self.torso_radius) - math.pi * self.neck_radius**2
+        )
 
 
 @register

@@ -91,12 +91,18 @@ def main(argv=None):
         print(f"bemcheck: this machine lacks something: {exc}", file=sys.stderr)
         return EXIT_FAILURE
     except KeyboardInterrupt:
-        print("bemcheck: interrupted; finished frequencies are kept: run the same command again to resume", file=sys.stderr)
+        print(
+            "bemcheck: interrupted; finished frequencies are kept: run the same command again to resume",
+            file=sys.stderr,
+        )
         return EXIT_INTERRUPTED
     except OSError as exc:
         if exc.errno in _STORAGE_ERRORS:
             where = exc.filename or "the output folder"
-            print(f"bemcheck: error: {where}: {exc.strerror}; nothing half-written was kept: free space or fix the folder, then run the same command to resume", file=sys.stderr)
+            print(
+                f"bemcheck: error: {where}: {exc.strerror}; nothing half-written was kept: free space or fix the folder, then run the same command to resume",
+                file=sys.stderr,
+            )
             return EXIT_BAD_INPUT
         return _internal_failure()
     except Exception:
@@ -148,8 +154,11 @@ def _internal_failure():
         where = getattr(exc, "filename", None) or log or "the temporary folder"
         why = getattr(exc, "strerror", None) or exc
         print(f"bemcheck: internal failure: {last}", file=sys.stderr)
-        print(f"bemcheck: the traceback could not be written to a log ({where}: {why}); "
-              "set TMPDIR to a writable folder with free space and run again to keep it", file=sys.stderr)
+        print(
+            f"bemcheck: the traceback could not be written to a log ({where}: {why}); "
+            "set TMPDIR to a writable folder with free space and run again to keep it",
+            file=sys.stderr,
+        )
         return EXIT_FAILURE
     print(f"bemcheck: internal failure; the traceback is in {log}", file=sys.stderr)
     return EXIT_FAILURE

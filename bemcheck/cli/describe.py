@@ -6,8 +6,18 @@ import tomllib
 from bemcheck.mesh import plan_bands
 from bemcheck.prebuild.catalogue import catalogue_drivers
 
-_DRIVER_UNITS = (("re", "Ω"), ("bl", "T·m"), ("mms", "kg"), ("cms", "m/N"), ("rms", "kg/s"), ("sd", "m²"),
-                 ("xmax", "m"), ("vb", "m³"), ("rated_power", "W"), ("le", "H"))
+_DRIVER_UNITS = (
+    ("re", "Ω"),
+    ("bl", "T·m"),
+    ("mms", "kg"),
+    ("cms", "m/N"),
+    ("rms", "kg/s"),
+    ("sd", "m²"),
+    ("xmax", "m"),
+    ("vb", "m³"),
+    ("rated_power", "W"),
+    ("le", "H"),
+)
 
 
 def _num(v):
@@ -24,14 +34,21 @@ def _row(name, text):
 
 def _frequency_lines(case):
     f = case.frequencies
-    lines = [_row("frequencies", f"{len(f)} from {_num(f[0])} to {_num(f[-1])} Hz: " + ", ".join(f"{v:.4g}" for v in f))]
+    lines = [
+        _row("frequencies", f"{len(f)} from {_num(f[0])} to {_num(f[-1])} Hz: " + ", ".join(f"{v:.4g}" for v in f))
+    ]
     try:
         stop = tomllib.loads(case.text).get("frequencies", {}).get("stop")
     except tomllib.TOMLDecodeError:
         stop = None
     if isinstance(stop, (int, float)) and stop > f[-1] * (1.0 + 1e-9):
-        lines.append(_row("", f"note: stop = {stop:g} Hz is not on the series; the top frequency is {_num(f[-1])} Hz "
-                              "(the next step would pass stop)"))
+        lines.append(
+            _row(
+                "",
+                f"note: stop = {stop:g} Hz is not on the series; the top frequency is {_num(f[-1])} Hz "
+                "(the next step would pass stop)",
+            )
+        )
     return lines
 
 
@@ -42,12 +59,22 @@ def _shape_text(body):
 
 def _mesh_lines(case):
 
-    lines = [_row("mesh", f"{case.mesh.elements_per_wavelength:g} elements per wavelength, bands of "
-                          f"{case.mesh.band_octaves:g} octave(s)")]
+    lines = [
+        _row(
+            "mesh",
+            f"{case.mesh.elements_per_wavelength:g} elements per wavelength, bands of "
+            f"{case.mesh.band_octaves:g} octave(s)",
+        )
+    ]
     for b in plan_bands(case):
         n = len(b.frequencies)
-        lines.append(_row("band", f"{b.index}: {_num(b.f_low)}-{_num(b.f_high)} Hz, {n} frequenc{'ies' if n != 1 else 'y'}, "
-                                  f"largest edge {1e3 * b.element_size:.1f} mm"))
+        lines.append(
+            _row(
+                "band",
+                f"{b.index}: {_num(b.f_low)}-{_num(b.f_high)} Hz, {n} frequenc{'ies' if n != 1 else 'y'}, "
+                f"largest edge {1e3 * b.element_size:.1f} mm",
+            )
+        )
     for b in case.bodies:
         lines.append(_row("body", f"{b.name} ({b.kind}) at {_vec(b.at)}, axis {_vec(b.axis)}: {_shape_text(b)}"))
     return lines
@@ -75,20 +102,39 @@ def _build_lines(case):
         params = ", ".join(f"{k} {getattr(d, k):g} {u}" for k, u in _DRIVER_UNITS)
         lines.append(_row("driver", f"{d.name}: {params}"))
     for a in case.amplifiers:
-        lines.append(_row("amplifier", f"{a.name}: {a.rated_voltage_rms:g} V, {a.rated_current_rms:g} A RMS per "
-                                       f"channel; feeds {', '.join(a.controls)}"))
+        lines.append(
+            _row(
+                "amplifier",
+                f"{a.name}: {a.rated_voltage_rms:g} V, {a.rated_current_rms:g} A RMS per "
+                f"channel; feeds {', '.join(a.controls)}",
+            )
+        )
     spare = catalogue_drivers(case)
     if spare:
-        lines.append(_row("catalogue", f"{', '.join(d.name for d in spare)}: named by no control; a run with notes "
-                                       "ranks them at every control position"))
+        lines.append(
+            _row(
+                "catalogue",
+                f"{', '.join(d.name for d in spare)}: named by no control; a run with notes "
+                "ranks them at every control position",
+            )
+        )
     for n in case.all_notes:
         harmonics = ", ".join(f"{f:.4g} Hz at {spl:g} dB" for f, spl in zip(n.harmonics, n.spl_at_1m))
-        lines.append(_row("note", f"{n.name or '(unnamed)'}: fundamental {n.fundamental:g} Hz; SPL at 1 m per "
-                                  f"harmonic: {harmonics}"))
+        lines.append(
+            _row(
+                "note",
+                f"{n.name or '(unnamed)'}: fundamental {n.fundamental:g} Hz; SPL at 1 m per harmonic: {harmonics}",
+            )
+        )
     if case.all_notes:
         b = case.build
-        lines.append(_row("build", f"ear limit {b.ear_limit_dba:g} dB(A), largest loss of attenuation "
-                                   f"{b.max_loss_db:g} dB, {b.trials} random builds"))
+        lines.append(
+            _row(
+                "build",
+                f"ear limit {b.ear_limit_dba:g} dB(A), largest loss of attenuation "
+                f"{b.max_loss_db:g} dB, {b.trials} random builds",
+            )
+        )
     return lines
 
 
@@ -123,8 +169,13 @@ def case_lines(case, directions):
     else:
         lines.append(_row("bodies", "none: the BEM answers the free field (nothing is meshed)"))
     if case.floor is not None:
-        lines.append(_row("floor", f"rigid plane z = {case.floor.z:g} m: both models hold it by image sources "
-                                   "(power over the upper half space)"))
+        lines.append(
+            _row(
+                "floor",
+                f"rigid plane z = {case.floor.z:g} m: both models hold it by image sources "
+                "(power over the upper half space)",
+            )
+        )
     lines += [_source_line(s) for s in case.sources]
     kind = f"sphere, Lebedev degree {ff.degree}" if ff.sphere else f"circle in {ff.plane}, every {ff.step_deg:g} deg"
     lines.append(_row("far field", f"{len(directions)} directions ({kind})"))
@@ -135,7 +186,12 @@ def case_lines(case, directions):
     sectors = "; ".join(f"{s.name} {s.from_deg:g} to {s.to_deg:g} deg" for s in tol.sectors)
     lines.append(_row("tolerance", f"each source {tol.level_db:g} dB, {tol.phase_deg:g} deg; sectors: {sectors}"))
     if case.controls:
-        lines.append(_row("", f"controlled system: attenuation at least min(predicted, {tol.attenuation_target_db:g} dB) "
-                              f"less {tol.attenuation_db:g} dB"))
+        lines.append(
+            _row(
+                "",
+                f"controlled system: attenuation at least min(predicted, {tol.attenuation_target_db:g} dB) "
+                f"less {tol.attenuation_db:g} dB",
+            )
+        )
     lines += [_row("explore", line) for line in case.explore.describe()] if case.explore else []
     return lines + _build_lines(case)

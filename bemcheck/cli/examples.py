@@ -18,9 +18,15 @@ def execute(args, out):
         case = load_case(example_path(name))
         bodies = f"{len(case.bodies)} bodies" if case.bodies else "no bodies"
         f = case.frequencies
-        print(f"{name:10s} {case.title}: {bodies}, {len(case.sources)} sources, {len(f)} frequencies "
-              f"{f[0]:.4g}-{f[-1]:.4g} Hz", file=out)
+        print(
+            f"{name:10s} {case.title}: {bodies}, {len(case.sources)} sources, {len(f)} frequencies "
+            f"{f[0]:.4g}-{f[-1]:.4g} Hz",
+            file=out,
+        )
     if names:
-        print(f"files in {example_path(names[0]).parent}; copy one and edit it, or run it: bemcheck run "
-              f"{example_path(names[0])}", file=out)
+        print(
+            f"files in {example_path(names[0]).parent}; copy one and edit it, or run it: bemcheck run "
+            f"{example_path(names[0])}",
+            file=out,
+        )
     return EXIT_OK

@@ -33,6 +33,9 @@ def execute(args, out):
     for line in outcome.lines:
         print(line, file=out)
     print(f"results: {outcome.results}", file=out)
-    print(f"layout:  {outcome.layouts['chosen_bem']} (verify with: bemcheck run {outcome.layouts['chosen_bem']} --out DIR)", file=out)
+    print(
+        f"layout:  {outcome.layouts['chosen_bem']} (verify with: bemcheck run {outcome.layouts['chosen_bem']} --out DIR)",
+        file=out,
+    )
     print(f"page:    {outcome.page}", file=out)
     return EXIT_OK

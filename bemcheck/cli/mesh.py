@@ -14,7 +14,11 @@ HELP = "mesh a case's bodies for each frequency band and print the mesh statisti
 def add_arguments(m):
     """The command's arguments on its own sub-parser."""
     m.add_argument("case", type=Path, help=CASE_HELP)
-    m.add_argument("--out", type=Path, help="folder for the band meshes (.msh and .vtu; default out/<case file name without .toml>/meshes)")
+    m.add_argument(
+        "--out",
+        type=Path,
+        help="folder for the band meshes (.msh and .vtu; default out/<case file name without .toml>/meshes)",
+    )
     m.add_argument("--mesh-cache", type=Path, metavar="DIR", help=MESH_CACHE_HELP)
 
 

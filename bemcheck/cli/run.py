@@ -21,17 +21,44 @@ FREQUENCY_MATCH = 1e-3
 def add_arguments(r):
     """The command's arguments on its own sub-parser."""
     r.add_argument("case", type=Path, help=CASE_HELP)
-    r.add_argument("--out", type=Path, help="run folder for results.nc, summary.json and the report (default out/<case file name without .toml>); rerunning into it resumes")
-    r.add_argument("--model", choices=("free", "both"), default="both", help="free: the free-field model alone, in seconds; both (default): also the BEM with the bodies scattering, and the comparison")
-    r.add_argument("--frequencies", metavar="LIST|LO:HI", help=f"run a subset of the case's frequencies: '200,400' (each within {100 * FREQUENCY_MATCH:g} %% of a case frequency) or '200:800' [Hz]")
-    r.add_argument("--workers", type=int, default=1, metavar="N", help="local worker processes for the BEM sweep (default 1)")
-    r.add_argument("--scheduler", metavar="ADDRESS", help="run the BEM sweep on a Dask distributed scheduler, e.g. tcp://10.0.0.5:8786")
+    r.add_argument(
+        "--out",
+        type=Path,
+        help="run folder for results.nc, summary.json and the report (default out/<case file name without .toml>); rerunning into it resumes",
+    )
+    r.add_argument(
+        "--model",
+        choices=("free", "both"),
+        default="both",
+        help="free: the free-field model alone, in seconds; both (default): also the BEM with the bodies scattering, and the comparison",
+    )
+    r.add_argument(
+        "--frequencies",
+        metavar="LIST|LO:HI",
+        help=f"run a subset of the case's frequencies: '200,400' (each within {100 * FREQUENCY_MATCH:g} %% of a case frequency) or '200:800' [Hz]",
+    )
+    r.add_argument(
+        "--workers", type=int, default=1, metavar="N", help="local worker processes for the BEM sweep (default 1)"
+    )
+    r.add_argument(
+        "--scheduler",
+        metavar="ADDRESS",
+        help="run the BEM sweep on a Dask distributed scheduler, e.g. tcp://10.0.0.5:8786",
+    )
     r.add_argument("--mesh-cache", type=Path, metavar="DIR", help=MESH_CACHE_HELP)
     r.add_argument("--no-report", action="store_true", help="skip the HTML report")
-    r.add_argument("--surface-fields", action="store_true", help="also write the surface pressure level and phase of each source and of the controlled system per frequency (.vtu and a .pvd collection for ParaView)")
+    r.add_argument(
+        "--surface-fields",
+        action="store_true",
+        help="also write the surface pressure level and phase of each source and of the controlled system per frequency (.vtu and a .pvd collection for ParaView)",
+    )
     talk = r.add_mutually_exclusive_group()
     talk.add_argument("--quiet", action="store_true", help="no progress lines")
-    talk.add_argument("--verbose", action="store_true", help="also print each task's mesh, timings and stored file, the mesh cache's hits and the numerical error per band")
+    talk.add_argument(
+        "--verbose",
+        action="store_true",
+        help="also print each task's mesh, timings and stored file, the mesh cache's hits and the numerical error per band",
+    )
 
 
 def execute(args, out):
@@ -40,8 +67,10 @@ def execute(args, out):
     subset = None
     if args.frequencies is not None:
         subset = _subset(case, args.frequencies, args.case)
-        print(f"--frequencies: {len(subset)} of {len(case.frequencies)}: {', '.join(f'{v:.4g}' for v in subset)} Hz",
-              file=out)
+        print(
+            f"--frequencies: {len(subset)} of {len(case.frequencies)}: {', '.join(f'{v:.4g}' for v in subset)} Hz",
+            file=out,
+        )
     if args.workers < 1:
         raise BemcheckInputError(f"--workers: expected a whole number ≥ 1, got {args.workers}")
     if args.surface_fields and args.model == "free":
@@ -51,8 +80,15 @@ def execute(args, out):
     if args.model != "free":
         options.update(workers=args.workers, scheduler=args.scheduler, cache_dir=args.mesh_cache)
     bands = _verbose_before(case, args) if args.verbose else None
-    outcome = run_case(case, folder, model=args.model, report=not args.no_report, frequencies=subset,
-                       surface_fields=args.surface_fields, **options)
+    outcome = run_case(
+        case,
+        folder,
+        model=args.model,
+        report=not args.no_report,
+        frequencies=subset,
+        surface_fields=args.surface_fields,
+        **options,
+    )
     if bands:
         _verbose_after(bands, outcome)
     if args.model == "free":
@@ -75,8 +111,10 @@ def _subset(case, spec, file):
     """
     f = case.frequencies
     if not spec.strip():
-        raise CaseError("--frequencies: expected '200,400' or '200:800' in Hz, got an empty value "
-                        "(leave the option out to run every frequency)")
+        raise CaseError(
+            "--frequencies: expected '200,400' or '200:800' in Hz, got an empty value "
+            "(leave the option out to run every frequency)"
+        )
     try:
         if ":" in spec:
             lo, hi = (float(v) for v in spec.split(":"))
@@ -87,8 +125,10 @@ def _subset(case, spec, file):
             for w in wanted:
                 nearest = min(f, key=lambda v: abs(v - w))
                 if abs(nearest - w) > FREQUENCY_MATCH * abs(w):
-                    raise CaseError(f"--frequencies: {w:g} Hz is not within {100 * FREQUENCY_MATCH:g} % of a frequency "
-                                    f"of {file} (it has {', '.join(f'{v:.6g}' for v in f)})")
+                    raise CaseError(
+                        f"--frequencies: {w:g} Hz is not within {100 * FREQUENCY_MATCH:g} % of a frequency "
+                        f"of {file} (it has {', '.join(f'{v:.6g}' for v in f)})"
+                    )
                 picked.add(nearest)
             keep = tuple(v for v in f if v in picked)
     except ValueError:
@@ -107,8 +147,10 @@ def _free_lines(summary):
     if any(a != 0.0 for a in att):
         best = max(range(len(att)), key=att.__getitem__)
         worst = min(range(len(att)), key=att.__getitem__)
-        lines.append(f"  power attenuation by the controls: {free['attenuation_db']['mean']:.1f} dB on average, "
-                     f"{att[best]:.1f} dB at best ({f[best]:.4g} Hz), {att[worst]:.1f} dB at worst ({f[worst]:.4g} Hz)")
+        lines.append(
+            f"  power attenuation by the controls: {free['attenuation_db']['mean']:.1f} dB on average, "
+            f"{att[best]:.1f} dB at best ({f[best]:.4g} Hz), {att[worst]:.1f} dB at worst ({f[worst]:.4g} Hz)"
+        )
     w = free["power_primary_w"]
     lines.append(f"  power of the primaries alone: {min(w):.3g} to {max(w):.3g} W")
     return lines

@@ -121,8 +121,9 @@ def attenuation(far, power_matrix, q_uncontrolled, q_controlled, check=None):
     w_u, w_c = _power(power_matrix, q_uncontrolled), _power(power_matrix, q_controlled)
     if check is None:
         zero_d, zero_w, zero_e = np.zeros(f_u.shape), np.zeros(w_u.shape), np.zeros((len(w_u), 1))
-        return Attenuation(directional_db(f_u, f_c), zero_d, zero_d, power_db(w_u, w_c), zero_w, zero_w,
-                           f_u, f_c, zero_e, zero_e)
+        return Attenuation(
+            directional_db(f_u, f_c), zero_d, zero_d, power_db(w_u, w_c), zero_w, zero_w, f_u, f_c, zero_e, zero_e
+        )
     far_h, pm_h, q_h, ratio = check
     r = np.asarray(ratio, dtype=float)
     e_u = amplitude_error(f_u, _fields(far_h, q_uncontrolled), r[:, None])
@@ -138,7 +139,10 @@ def attenuation(far, power_matrix, q_uncontrolled, q_controlled, check=None):
         power_db(w_u, w_c),
         ratio_error_db(*powers, factor=10.0),
         ratio_error_db(*powers, factor=10.0, side="below"),
-        f_u, f_c, e_u, e_c,
+        f_u,
+        f_c,
+        e_u,
+        e_c,
     )
 
 

@@ -173,21 +173,28 @@ def compare(case, directions, models):
     e_far = np.concatenate([far_error, np.zeros(far_error.shape[:1] + (1, 1))], axis=1)
     mask = significant(sig_free, sig_bem)
     # The controlled system counts where the uncontrolled field is no deep null.
-    mask[:, -1, :] = significant(np.einsum("fsd,fs->fd", free_far, q_uncontrolled),
-                                 np.einsum("fsd,fs->fd", bem_far, q_uncontrolled))
+    mask[:, -1, :] = significant(
+        np.einsum("fsd,fs->fd", free_far, q_uncontrolled), np.einsum("fsd,fs->fd", bem_far, q_uncontrolled)
+    )
 
-    out = xr.Dataset(coords={
-        "frequency": np.asarray(case.frequencies, dtype=float),
-        "signal": ("signal", [s.name for s in case.sources] + [CONTROLLED]),
-        "source": ("source", [s.name for s in case.sources]),
-        "at_source": ("at_source", [s.name for s in case.sources]),
-        "direction": np.arange(len(directions)),
-        "azimuth_deg": ("direction", directions.azimuth_deg),
-        "elevation_deg": ("direction", directions.elevation_deg),
-        "point": [p.name for p in case.observers.points],
-        "sector": [s.name for s in case.tolerance.sectors],
-    })
-    fgd, fd, fsd = ("frequency", "signal", "direction"), ("frequency", "direction"), ("frequency", "source", "direction")
+    out = xr.Dataset(
+        coords={
+            "frequency": np.asarray(case.frequencies, dtype=float),
+            "signal": ("signal", [s.name for s in case.sources] + [CONTROLLED]),
+            "source": ("source", [s.name for s in case.sources]),
+            "at_source": ("at_source", [s.name for s in case.sources]),
+            "direction": np.arange(len(directions)),
+            "azimuth_deg": ("direction", directions.azimuth_deg),
+            "elevation_deg": ("direction", directions.elevation_deg),
+            "point": [p.name for p in case.observers.points],
+            "sector": [s.name for s in case.tolerance.sectors],
+        }
+    )
+    fgd, fd, fsd = (
+        ("frequency", "signal", "direction"),
+        ("frequency", "direction"),
+        ("frequency", "source", "direction"),
+    )
     out["significant"] = (fgd, mask)
     out["level_departure_db"] = (fgd, level_departure_db(sig_bem, sig_free))
     out["phase_departure_deg"] = (fgd, phase_departure_deg(sig_bem, sig_free))
@@ -232,7 +239,9 @@ def _sector_attenuations(out, case, directions, worlds):
         w = np.where(in_sector(directions.azimuth_deg, sector.from_deg, sector.to_deg), directions.weights, 0.0)
         for i, world in enumerate(names):
             a = worlds[world]
-            att[:, s, i], error = mean_square_db(a.uncontrolled, a.controlled, w, a.uncontrolled_error, a.controlled_error)
+            att[:, s, i], error = mean_square_db(
+                a.uncontrolled, a.controlled, w, a.uncontrolled_error, a.controlled_error
+            )
             if world in ("as_designed", "reoptimised"):
                 name = f"sector_attenuation_{world}_error_db"
                 if name not in out:

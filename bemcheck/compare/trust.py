@@ -147,11 +147,15 @@ def judged(cmp, tolerance):
     phase_term = (np.abs(phase) - e_deg) / tolerance.phase_deg
     metric = np.maximum(level_term, phase_term)
     by_phase = phase_term > level_term
-    short = shortfall_db(cmp["directional_attenuation_predicted_db"].values,
-                         cmp["directional_attenuation_as_designed_db"].values, tolerance.attenuation_target_db)
+    short = shortfall_db(
+        cmp["directional_attenuation_predicted_db"].values,
+        cmp["directional_attenuation_as_designed_db"].values,
+        tolerance.attenuation_target_db,
+    )
     e_att = cmp["directional_attenuation_as_designed_error_db"].values
-    status[:, -1] = judge_shortfall(short, e_att, tolerance.attenuation_db,
-                                    cmp["directional_attenuation_as_designed_below_db"].values)
+    status[:, -1] = judge_shortfall(
+        short, e_att, tolerance.attenuation_db, cmp["directional_attenuation_as_designed_below_db"].values
+    )
     metric[:, -1] = shortfall_exceedance(short, e_att, tolerance.attenuation_db)
     by_phase[:, -1] = False
     mask = cmp["significant"].values
@@ -160,11 +164,16 @@ def judged(cmp, tolerance):
 
 def power_judgement(cmp, tolerance, design):
     """Status per frequency (F,) of the power attenuation ``design`` ("as_designed" or "reoptimised"), and its exceedance."""
-    short = shortfall_db(cmp["attenuation_as_designed_db"].values + cmp["attenuation_loss_db"].values,
-                         cmp[f"attenuation_{design}_db"].values, tolerance.attenuation_target_db)
+    short = shortfall_db(
+        cmp["attenuation_as_designed_db"].values + cmp["attenuation_loss_db"].values,
+        cmp[f"attenuation_{design}_db"].values,
+        tolerance.attenuation_target_db,
+    )
     error = cmp[f"attenuation_{design}_error_db"].values
-    return (judge_shortfall(short, error, tolerance.attenuation_db, cmp[f"attenuation_{design}_below_db"].values),
-            shortfall_exceedance(short, error, tolerance.attenuation_db))
+    return (
+        judge_shortfall(short, error, tolerance.attenuation_db, cmp[f"attenuation_{design}_below_db"].values),
+        shortfall_exceedance(short, error, tolerance.attenuation_db),
+    )
 
 
 def trust_tables(cmp, tolerance):
@@ -208,7 +217,11 @@ def trust_tables(cmp, tolerance):
             limit[s, g], found[s, g] = crossing_frequency(freqs, per_dir.max(axis=1))
             if found[s, g]:
                 i = int(np.argmax(per_dir.max(axis=1) > 1.0))
-                set_by[s, g] = ("phase" if by_phase[i, g, int(np.argmax(per_dir[i]))] else "level") if g < n_g - 1 else "attenuation"
+                set_by[s, g] = (
+                    ("phase" if by_phase[i, g, int(np.argmax(per_dir[i]))] else "level")
+                    if g < n_g - 1
+                    else "attenuation"
+                )
             a = np.where(m, np.abs(level[:, g, :]), 0.0)
             wm = np.where(m, w, 0.0)
             rms[:, s, g] = np.sqrt((wm * a**2).sum(axis=1) / np.maximum(wm.sum(axis=1), 1e-300))

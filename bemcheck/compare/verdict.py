@@ -64,15 +64,27 @@ def rules_of_thumb(case):
     for body in case.bodies:
         a = body.shape.bounding_radius()
         if a:
-            add("ka = 0.5", body.name, a, "a = bounding radius", 0.5 * c / (2.0 * np.pi * a),
-                "common practice, no source")
+            add(
+                "ka = 0.5",
+                body.name,
+                a,
+                "a = bounding radius",
+                0.5 * c / (2.0 * np.pi * a),
+                "common practice, no source",
+            )
     primaries = np.array([s.position for s in case.primaries])
     for s in case.controls:
         d = float(np.min(np.linalg.norm(primaries - np.array(s.position), axis=1)))
         n = 1
         while n == 1 or n * c / (2.0 * d) <= hi:
-            add("kd = π" if n == 1 else f"kd = {n}π", s.name, d, "d = distance to the nearest primary",
-                n * c / (2.0 * d), "Nelson et al. 1987, J. Sound Vib. 116(3) 397-414")
+            add(
+                "kd = π" if n == 1 else f"kd = {n}π",
+                s.name,
+                d,
+                "d = distance to the nearest primary",
+                n * c / (2.0 * d),
+                "Nelson et al. 1987, J. Sound Vib. 116(3) 397-414",
+            )
             n += 1
     return tuple(rows)
 
@@ -103,12 +115,21 @@ def _sector(ds, s, sector, freqs):
     status = ds["status"].values[:, :, inside]
     limits, found = ds["trust_limit_hz"].values[s], ds["trust_limit_found"].values[s]
     set_by = ds["trust_limit_set_by"].values[s]
-    fields = tuple(FieldTrust(g, float(limits[i]) if found[i] else None, str(set_by[i]) or None,
-                              float(ds["diffraction_max_db"].values[:, s, i].max()))
-                   for i, g in enumerate(signals[:-1]))
+    fields = tuple(
+        FieldTrust(
+            g,
+            float(limits[i]) if found[i] else None,
+            str(set_by[i]) or None,
+            float(ds["diffraction_max_db"].values[:, s, i].max()),
+        )
+        for i, g in enumerate(signals[:-1])
+    )
     ctl = status[:, -1, :]
     return SectorJudgement(
-        sector.name, sector.from_deg, sector.to_deg, fields,
+        sector.name,
+        sector.from_deg,
+        sector.to_deg,
+        fields,
         attenuation_limit_hz=float(limits[-1]) if found[-1] else None,
         attenuation_departs_from_hz=_first(freqs, ctl.max(axis=1)),
         attenuation_not_resolved_at_hz=_floats(freqs[(ctl == NOT_RESOLVED).any(axis=1)]),
@@ -125,8 +146,14 @@ def _sector_attenuation(ds, s):
     att = ds["sector_attenuation_db"].values[:, s, :]
     worlds = {str(w): _floats(att[:, i]) for i, w in enumerate(ds["world"].values)}
     errors = {w: _floats(ds[f"sector_attenuation_{w}_error_db"].values[:, s]) for w in ("as_designed", "reoptimised")}
-    return SectorAttenuation(worlds["predicted"], worlds.get("own_body"), worlds["as_designed"], worlds["reoptimised"],
-                             errors["as_designed"], errors["reoptimised"])
+    return SectorAttenuation(
+        worlds["predicted"],
+        worlds.get("own_body"),
+        worlds["as_designed"],
+        worlds["reoptimised"],
+        errors["as_designed"],
+        errors["reoptimised"],
+    )
 
 
 def _decomposition(ds, tolerance, freqs):
@@ -143,8 +170,15 @@ def _decomposition(ds, tolerance, freqs):
             per_f = np.maximum(level.max(axis=1) / tolerance.level_db, phase.max(axis=1) / tolerance.phase_deg)
             limit, found = crossing_frequency(freqs, per_f)
             fi, di = np.unravel_index(int(np.argmax(level)), level.shape)
-            terms.append(TermSplit(float(level.max()), float(phase.max()), float(freqs[fi]),
-                                   float(ds["azimuth_deg"].values[di]), float(limit) if found else None))
+            terms.append(
+                TermSplit(
+                    float(level.max()),
+                    float(phase.max()),
+                    float(freqs[fi]),
+                    float(ds["azimuth_deg"].values[di]),
+                    float(limit) if found else None,
+                )
+            )
         out.append(SourceSplit(name, *terms))
     return tuple(out)
 
@@ -177,16 +211,21 @@ def verdict(case, ds):
     attenuation = _power(ds, freqs) if controls else None
     if controls:
         judged_by = "attenuation"
-        candidates = [(s.attenuation_departs_from_hz, f"attenuation as designed in sector {s.sector}")
-                      for s in sectors]
+        candidates = [(s.attenuation_departs_from_hz, f"attenuation as designed in sector {s.sector}") for s in sectors]
         candidates.append((attenuation.as_designed.departs_from_hz, "power attenuation as designed"))
-        unresolved = (any(s.attenuation_not_resolved_at_hz for s in sectors)
-                      or attenuation.as_designed.not_resolved_at_hz)
+        unresolved = (
+            any(s.attenuation_not_resolved_at_hz for s in sectors) or attenuation.as_designed.not_resolved_at_hz
+        )
     else:
         judged_by = "field"
         az = ds["azimuth_deg"].values
-        candidates = [(_first(freqs, ds["status"].values[:, :-1, in_sector(az, t.from_deg, t.to_deg)].max(axis=(1, 2))),
-                       f"a source's field in sector {s.sector}") for s, t in zip(sectors, tol.sectors, strict=True)]
+        candidates = [
+            (
+                _first(freqs, ds["status"].values[:, :-1, in_sector(az, t.from_deg, t.to_deg)].max(axis=(1, 2))),
+                f"a source's field in sector {s.sector}",
+            )
+            for s, t in zip(sectors, tol.sectors, strict=True)
+        ]
         unresolved = any(s.field_not_resolved_at_hz for s in sectors)
     fails = sorted((f, why) for f, why in candidates if f is not None)
     outcome = FAIL if fails else UNRESOLVED if unresolved else PASS
@@ -213,17 +252,20 @@ def _power(ds, freqs):
         errors = ds[f"attenuation_{design}_error_db"].values
         status = ds[f"attenuation_{design}_status"].values
         found = bool(ds[f"attenuation_{design}_limit_found"].values)
-        designs.append(DesignJudgement(
-            band_db=_band(values, errors),
-            by_frequency_db=_floats(values),
-            error_by_frequency_db=_floats(errors),
-            departs_from_hz=_first(freqs, status),
-            limit_hz=float(ds[f"attenuation_{design}_limit_hz"].values) if found else None,
-            not_resolved_at_hz=_floats(freqs[status == NOT_RESOLVED]),
-        ))
+        designs.append(
+            DesignJudgement(
+                band_db=_band(values, errors),
+                by_frequency_db=_floats(values),
+                error_by_frequency_db=_floats(errors),
+                departs_from_hz=_first(freqs, status),
+                limit_hz=float(ds[f"attenuation_{design}_limit_hz"].values) if found else None,
+                not_resolved_at_hz=_floats(freqs[status == NOT_RESOLVED]),
+            )
+        )
     loss = ds["attenuation_loss_db"].values
-    return AttenuationJudgement(_band(predicted), _floats(predicted), *designs, float(loss.max()),
-                                float(freqs[int(np.argmax(loss))]))
+    return AttenuationJudgement(
+        _band(predicted), _floats(predicted), *designs, float(loss.max()), float(freqs[int(np.argmax(loss))])
+    )
 
 
 def _hz(f):
@@ -251,8 +293,10 @@ def verdict_lines(v):
     """
     t = v.tolerance
     if v.judged_by == "attenuation":
-        crit = (f"judged on attenuation: target {t.attenuation_target_db:g} dB or the prediction if lower, "
-                f"shortfall tolerated {t.attenuation_db:g} dB")
+        crit = (
+            f"judged on attenuation: target {t.attenuation_target_db:g} dB or the prediction if lower, "
+            f"shortfall tolerated {t.attenuation_db:g} dB"
+        )
     else:
         crit = f"judged on the field: tolerance {t.level_db:g} dB, {t.phase_deg:g} deg"
     head = f"Verdict: {v.outcome} ({crit})"
@@ -281,11 +325,14 @@ def verdict_lines(v):
             f"  {row.source}: source model up to {sm.max_level_db:.1f} dB, {sm.max_phase_deg:.0f} deg"
             f" (within tolerance {_up_to(sm.within_tolerance_up_to_hz)}); "
             f"other bodies up to {ob.max_level_db:.1f} dB, {ob.max_phase_deg:.0f} deg"
-            f" (within tolerance {_up_to(ob.within_tolerance_up_to_hz)})")
+            f" (within tolerance {_up_to(ob.within_tolerance_up_to_hz)})"
+        )
     lines.extend(_loss_split_lines(v))
     for r in v.rules_of_thumb:
-        lines.append(f"  rule of thumb {r.rule} for {r.what} ({r.length} {r.length_m:.3g} m): "
-                     f"{r.frequency_hz:.0f} Hz, {r.in_band} ({r.source})")
+        lines.append(
+            f"  rule of thumb {r.rule} for {r.what} ({r.length} {r.length_m:.3g} m): "
+            f"{r.frequency_hz:.0f} Hz, {r.in_band} ({r.source})"
+        )
     return lines
 
 
@@ -320,5 +367,7 @@ def _loss_split_lines(v):
     if ms.own_body is None:
         return []
     pred, own, full = ms.predicted[0], ms.own_body[0], ms.as_designed[0]
-    return [f"  loss of mean-square attenuation at {_hz(v.frequencies_hz[0])} in sector {s.sector}: "
-            f"{pred - full:.1f} dB, of which {pred - own:.1f} dB source model and {own - full:.1f} dB other bodies"]
+    return [
+        f"  loss of mean-square attenuation at {_hz(v.frequencies_hz[0])} in sector {s.sector}: "
+        f"{pred - full:.1f} dB, of which {pred - own:.1f} dB source model and {own - full:.1f} dB other bodies"
+    ]

@@ -56,7 +56,9 @@ class Candidates:
         3 of 6 candidates kept; dropped: 2 inside a body, 1 at a source's position
         """
         why = [f"{n} {reason}" for reason, n in self.dropped.items() if n]
-        return f"{len(self.positions)} of {self.total} candidates kept" + ("; dropped: " + ", ".join(why) if why else "")
+        return f"{len(self.positions)} of {self.total} candidates kept" + (
+            "; dropped: " + ", ".join(why) if why else ""
+        )
 
 
 def around_points(mesh, tags, offset, step):
@@ -153,8 +155,10 @@ def candidate_points(spec, meshes=(), file="<case>"):
         pts = around_points(meshes[0], tags, a.offset, a.step) if estimate <= 4 * MAX_CANDIDATES else None
         if pts is None or sum(len(v) for v in x) + len(pts) > MAX_CANDIDATES:
             count = f"about {estimate}" if pts is None else str(len(pts))
-            raise CaseError(f"{file}: explore.around.step: expected at most {MAX_CANDIDATES} candidates in all; "
-                            f"{count} around {a.body!r} at a step of {a.step:g} m")
+            raise CaseError(
+                f"{file}: explore.around.step: expected at most {MAX_CANDIDATES} candidates in all; "
+                f"{count} around {a.body!r} at a step of {a.step:g} m"
+            )
         x.append(pts)
         ij.append(np.full((len(pts), 2), -1, dtype=int))
     # Rounded to a nanometre so grid points print as the multiples of the step they are.
@@ -197,6 +201,10 @@ def screen(spec, meshes, occupied, file="<case>", floor=None):
     near = np.linalg.norm(x[:, None, :] - occ[None, :, :], axis=2).min(axis=1, initial=np.inf) < COINCIDENT
     near &= ~(inside | close)
     keep = ~(inside | close | near)
-    dropped = {INSIDE: int(inside.sum()), TOO_CLOSE: int(close.sum()), COINCIDES: int(near.sum()),
-               BELOW: int(below.sum())}
+    dropped = {
+        INSIDE: int(inside.sum()),
+        TOO_CLOSE: int(close.sum()),
+        COINCIDES: int(near.sum()),
+        BELOW: int(below.sum()),
+    }
     return Candidates(x[keep], ij[keep], dropped, len(x) + int(below.sum()))

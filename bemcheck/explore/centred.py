@@ -92,7 +92,9 @@ def _in_bem(solves, q_c, primary, controls, q_h=None):
     q_check = q.copy()
     if q_h is not None:
         q_check[:, controls] = q_h
-    return attenuation(f.far_field, f.power_matrix, q_u, q, check=(h.far_field, h.power_matrix, q_check, solves.check_ratio))
+    return attenuation(
+        f.far_field, f.power_matrix, q_u, q, check=(h.far_field, h.power_matrix, q_check, solves.check_ratio)
+    )
 
 
 def case_centres(case, solves, directions):
@@ -119,8 +121,9 @@ def case_centres(case, solves, directions):
     omega_rho = 2.0 * np.pi * solves.frequencies * case.medium.density
     centre, amp, resid = [], [], []
     for i in fitted:
-        c, a, r = fit_centres(solves.bem.fit_far_field[:, solves.case_columns[i]], fit.unit, fit.weights, k,
-                              case.sources[i].position)
+        c, a, r = fit_centres(
+            solves.bem.fit_far_field[:, solves.case_columns[i]], fit.unit, fit.weights, k, case.sources[i].position
+        )
         centre.append(c)
         amp.append(20.0 * np.log10(np.maximum(np.abs(a) / (omega_rho / (4.0 * np.pi)), np.finfo(float).tiny)))
         resid.append(r)
@@ -138,9 +141,19 @@ def case_centres(case, solves, directions):
         q_p[:, controls] = q_free
         power["predicted"] = attenuation(free.far_field, free.power_matrix, q_u, q_p).power_db
         error["predicted"] = np.zeros(len(k))
-        for name, q, q_h in (("as_designed", q_free, None), ("centred", q_centred, None), ("reoptimised", q_bem, q_check)):
+        for name, q, q_h in (
+            ("as_designed", q_free, None),
+            ("centred", q_centred, None),
+            ("reoptimised", q_bem, q_check),
+        ):
             a = _in_bem(solves, q, primary, controls, q_h)
             power[name], error[name] = a.power_db, a.power_error_db
-    return CentreStudy(tuple(case.sources[i].name for i in fitted), np.array([case.sources[i].position for i in fitted]),
-                       np.stack(centre, axis=1), np.stack(amp, axis=1), np.stack(resid, axis=1), power, error)
-
+    return CentreStudy(
+        tuple(case.sources[i].name for i in fitted),
+        np.array([case.sources[i].position for i in fitted]),
+        np.stack(centre, axis=1),
+        np.stack(amp, axis=1),
+        np.stack(resid, axis=1),
+        power,
+        error,
+    )

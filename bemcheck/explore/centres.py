@@ -95,7 +95,7 @@ def fit_centre(far_field, unit, weights, k, start):
         e = base * np.exp(1j * (proj @ y))
         s = e.sum()
         grad = 2.0 * np.real(np.conj(s) * (1j * e) @ proj)
-        return -abs(s) ** 2 / energy, -grad / energy
+        return -(abs(s) ** 2) / energy, -grad / energy
 
     best = minimize(cost, np.zeros(basis.shape[1]), jac=True, method="BFGS", options={"gtol": 1e-12, "maxiter": 500})
     x = x0 + basis @ best.x / k
@@ -121,5 +121,8 @@ def fit_centres(far_fields, unit, weights, wavenumbers, start):
         Centres [m], amplitudes and relative residuals.
     """
     fits = [fit_centre(ff, unit, weights, k, start) for ff, k in zip(far_fields, wavenumbers)]
-    return (np.array([c.position for c in fits]), np.array([c.amplitude for c in fits]),
-            np.array([c.residual for c in fits]))
+    return (
+        np.array([c.position for c in fits]),
+        np.array([c.amplitude for c in fits]),
+        np.array([c.residual for c in fits]),
+    )

@@ -70,7 +70,9 @@ def set_attenuation(solves, forms, chosen, check=None):
         return attenuation(f.far_field, f.power_matrix, q_u, q_c)
     h = check.take(cols)
     q_h = _strengths(h.power_matrix, solves.n_primary, solves.q_primary, cols)
-    return attenuation(f.far_field, f.power_matrix, q_u, q_c, check=(h.far_field, h.power_matrix, q_h, solves.check_ratio))
+    return attenuation(
+        f.far_field, f.power_matrix, q_u, q_c, check=(h.far_field, h.power_matrix, q_h, solves.check_ratio)
+    )
 
 
 def power_attenuation_db(solves, forms, chosen):
@@ -162,7 +164,7 @@ def choose(solves, forms, k):
                 for c in range(m):
                     if c in chosen:
                         continue
-                    trial = chosen[:j] + [c] + chosen[j + 1:]
+                    trial = chosen[:j] + [c] + chosen[j + 1 :]
                     if value(trial) > best + 1e-9:
                         best, swap = value(trial), trial
             if swap is None:

@@ -51,13 +51,21 @@ def _candidates(case, meshes):
     file = case.path or "<case>"
     occupied = [s.position for s in base_sources(case)]
     kept = screen(case.explore, [m for triple in meshes.values() for m in triple[:2]], occupied, file, case.floor)
-    key = "explore.grid" if case.explore.grid is not None else ("explore.around" if case.explore.around else "explore.points")
+    key = (
+        "explore.grid"
+        if case.explore.grid is not None
+        else ("explore.around" if case.explore.around else "explore.points")
+    )
     if len(kept.positions) == 0:
-        raise CaseError(f"{file}: {key}: every candidate was dropped ({kept.dropped_line()}); "
-                        "expected candidates in the air, clear of the bodies")
+        raise CaseError(
+            f"{file}: {key}: every candidate was dropped ({kept.dropped_line()}); "
+            "expected candidates in the air, clear of the bodies"
+        )
     if case.explore.controls > len(kept.positions):
-        raise CaseError(f"{file}: explore.controls: expected at most the number of candidates kept "
-                        f"({kept.dropped_line()}), got {case.explore.controls}")
+        raise CaseError(
+            f"{file}: explore.controls: expected at most the number of candidates kept "
+            f"({kept.dropped_line()}), got {case.explore.controls}"
+        )
     return kept
 
 
@@ -88,11 +96,15 @@ def _lines(case, kept, solves, choices, seconds):
         pos = "; ".join(str(np.round(kept.positions[i], 3).tolist()) for i in c.candidates)
         band = {m: float(np.mean(c.attenuation_db[m])) for m in MODELS}
         err = float(np.mean(c.error_db["bem"]))
-        out.append(f"{CHOSEN[c.design]}: {pos} m; band-averaged attenuation "
-                   f"{band['free']:.1f} dB free field, {band['bem']:.1f} ± {err:.1f} dB with scattering")
-    out.append(f"solves {seconds['solve']:.1f} s, error-check solves {seconds['check']:.1f} s, "
-               f"choice {seconds['choice']:.1f} s, trade-off and centres {seconds['design']:.1f} s, "
-               f"N up to {int(solves.unknowns.max())}")
+        out.append(
+            f"{CHOSEN[c.design]}: {pos} m; band-averaged attenuation "
+            f"{band['free']:.1f} dB free field, {band['bem']:.1f} ± {err:.1f} dB with scattering"
+        )
+    out.append(
+        f"solves {seconds['solve']:.1f} s, error-check solves {seconds['check']:.1f} s, "
+        f"choice {seconds['choice']:.1f} s, trade-off and centres {seconds['design']:.1f} s, "
+        f"N up to {int(solves.unknowns.max())}"
+    )
     return tuple(out)
 
 
@@ -101,19 +113,25 @@ def _design_lines(tradeoff, centres, frequencies):
     out = []
     if tradeoff is not None:
         p, s = tradeoff.power_db[1], tradeoff.sector_db[1]
-        out.append(f"trade-off ({tradeoff.sector.name} sector), with scattering: minimum power gives "
-                   f"{np.mean(p[:, 0]):.1f} dB power / {np.mean(s[:, 0]):.1f} dB sector, minimum sector pressure "
-                   f"{np.mean(p[:, -1]):.1f} / {np.mean(s[:, -1]):.1f} dB (means over frequency)")
+        out.append(
+            f"trade-off ({tradeoff.sector.name} sector), with scattering: minimum power gives "
+            f"{np.mean(p[:, 0]):.1f} dB power / {np.mean(s[:, 0]):.1f} dB sector, minimum sector pressure "
+            f"{np.mean(p[:, -1]):.1f} / {np.mean(s[:, -1]):.1f} dB (means over frequency)"
+        )
     if centres is not None:
         off = np.linalg.norm(centres.centre - centres.designed[None], axis=-1)
         for j, name in enumerate(centres.names):
-            out.append(f"acoustic centre of {name}: {1e3 * off[:, j].min():.0f}-{1e3 * off[:, j].max():.0f} mm from its "
-                       f"designed position, fit residual up to {centres.residual[:, j].max():.2f}")
+            out.append(
+                f"acoustic centre of {name}: {1e3 * off[:, j].min():.0f}-{1e3 * off[:, j].max():.0f} mm from its "
+                f"designed position, fit residual up to {centres.residual[:, j].max():.2f}"
+            )
         if centres.power_db:
             loss, rec = centres.loss_db(), centres.recovered_db()
             i = int(np.argmax(loss))
-            out.append(f"largest as-designed loss {loss[i]:.1f} dB at {frequencies[i]:.0f} Hz; the design with the acoustic "
-                       f"centres regains {rec[i]:.1f} ± {centres.error_db['centred'][i]:.1f} dB of it")
+            out.append(
+                f"largest as-designed loss {loss[i]:.1f} dB at {frequencies[i]:.0f} Hz; the design with the acoustic "
+                f"centres regains {rec[i]:.1f} ± {centres.error_db['centred'][i]:.1f} dB of it"
+            )
     return tuple(out)
 
 
@@ -126,8 +144,10 @@ def explore_case(case, out_dir, cache_dir=None, progress=None):
     """
 
     if case.explore is None:
-        raise CaseError(f"{case.path or '<case>'}: explore: required table is missing; expected an [explore] table "
-                        "with points = [[x, y, z], ...] or a grid")
+        raise CaseError(
+            f"{case.path or '<case>'}: explore: required table is missing; expected an [explore] table "
+            "with points = [[x, y, z], ...] or a grid"
+        )
     meshes = band_meshes(case, cache_dir)
     kept = _candidates(case, meshes)
     folder = prepare_folder(out_dir)
@@ -135,22 +155,33 @@ def explore_case(case, out_dir, cache_dir=None, progress=None):
         directions = for_observers(case.observers.far_field)
         solves = solve_candidates(case, kept.positions, meshes, directions, progress)
         t0 = time.perf_counter()
-        maps = {"free": single_control_map(solves, solves.free),
-                "bem": single_control_map(solves, solves.bem, solves.check)}
-        choices = [_choice(solves, d, choose(solves, solves.free if d == "chosen_free" else solves.bem,
-                                             case.explore.controls)[0]) for d in DESIGNS]
+        maps = {
+            "free": single_control_map(solves, solves.free),
+            "bem": single_control_map(solves, solves.bem, solves.check),
+        }
+        choices = [
+            _choice(
+                solves, d, choose(solves, solves.free if d == "chosen_free" else solves.bem, case.explore.controls)[0]
+            )
+            for d in DESIGNS
+        ]
         seconds = {**solves.seconds, "choice": time.perf_counter() - t0}
         t0 = time.perf_counter()
         tradeoff = case_tradeoff(case, solves, directions) if case.controls else None
         centres = case_centres(case, solves, directions)
         seconds["design"] = time.perf_counter() - t0
         lines = _lines(case, kept, solves, choices, seconds) + _design_lines(tradeoff, centres, solves.frequencies)
-        attrs = {**global_attributes(f"{case.title}: exploration", "explore"),
-                 "case_title": case.title, "candidates_given": kept.total, "candidates_kept": len(kept.positions),
-                 **{"dropped_" + re.sub(r"\W+", "_", reason): n for reason, n in kept.dropped.items()},
-                 "controls_chosen": case.explore.controls, "fixed_controls": ", ".join(case.explore.fixed) or "none",
-                 "band_average": "mean over the case's frequencies of the attenuation in dB",
-                 "objective": "minimum total radiated power, strengths optimal in each model"}
+        attrs = {
+            **global_attributes(f"{case.title}: exploration", "explore"),
+            "case_title": case.title,
+            "candidates_given": kept.total,
+            "candidates_kept": len(kept.positions),
+            **{"dropped_" + re.sub(r"\W+", "_", reason): n for reason, n in kept.dropped.items()},
+            "controls_chosen": case.explore.controls,
+            "fixed_controls": ", ".join(case.explore.fixed) or "none",
+            "band_average": "mean over the case's frequencies of the attenuation in dB",
+            "objective": "minimum total radiated power, strengths optimal in each model",
+        }
         ds = add_case_design(explore_dataset(solves, kept, maps, choices, attrs), tradeoff, centres)
         results = folder / EXPLORE_FILE
         write_dataset(ds, results, EXPLORE)
@@ -159,8 +190,10 @@ def explore_case(case, out_dir, cache_dir=None, progress=None):
         layouts = {}
         for c in choices:
             text = layout_text(case, kept.positions[list(c.candidates)], names[: len(c.candidates)])
-            header = (f"# Layout {CHOSEN[c.design]} by bemcheck explore from "
-                      f"{Path(case.path).name if case.path else 'a case'}; verify it with bemcheck run.\n" + POWER_NOTE)
+            header = (
+                f"# Layout {CHOSEN[c.design]} by bemcheck explore from "
+                f"{Path(case.path).name if case.path else 'a case'}; verify it with bemcheck run.\n" + POWER_NOTE
+            )
             layouts[c.design] = folder / LAYOUT_FILES[c.design]
             atomic_write_bytes(layouts[c.design], (header + text).encode())
         page = write_page(folder / PAGE_FILE, ds, case.explore.grid, _outline(case, meshes), lines)

@@ -132,12 +132,24 @@ def case_tradeoff(case, solves, directions, alphas=ALPHAS):
             if m == 1 and solves.check is not None:
                 h = solves.check.take(cols)
                 fh = front(h.power_matrix[i], h.far_field[i].T, w, n_p, solves.q_primary, alphas)
-                err[:, m, i] = richardson(att[0, m, i], fh.power_db, solves.check_ratio[i]), \
-                    richardson(att[1, m, i], fh.sector_db, solves.check_ratio[i])
+                err[:, m, i] = (
+                    richardson(att[0, m, i], fh.power_db, solves.check_ratio[i]),
+                    richardson(att[1, m, i], fh.sector_db, solves.check_ratio[i]),
+                )
             g = sector_form(f.far_field[i].T, w)
             q_u = np.concatenate([solves.q_primary, np.zeros(len(controls), dtype=complex)])
             marks[:, m, i] = attenuations(f.power_matrix[i], g, q_u, np.concatenate([solves.q_primary, q_model[i]]))
             if m == 1:
                 designed[:, i] = attenuations(f.power_matrix[i], g, q_u, np.concatenate([solves.q_primary, q_free[i]]))
-    return TradeOff(sector, np.asarray(alphas, dtype=float), att[0], att[1], err[0], err[1],
-                    marks[0], marks[1], designed[0], designed[1])
+    return TradeOff(
+        sector,
+        np.asarray(alphas, dtype=float),
+        att[0],
+        att[1],
+        err[0],
+        err[1],
+        marks[0],
+        marks[1],
+        designed[0],
+        designed[1],
+    )

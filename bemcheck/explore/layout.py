@@ -15,8 +15,10 @@ from pathlib import Path
 
 from bemcheck.case.load import parse_case
 
-POWER_NOTE = ("# [control] objective is \"power\": explore chose these controls for minimum radiated power, "
-              "whatever the case's objective.\n")
+POWER_NOTE = (
+    '# [control] objective is "power": explore chose these controls for minimum radiated power, '
+    "whatever the case's objective.\n"
+)
 
 
 def layout_text(case, positions, names):

@@ -43,8 +43,12 @@ def map_figure(ds, grid, values, title, outline):
     """Two maps side by side (free field, with scattering) of (model -> (M,) values) in dB, chosen layouts marked."""
     a, b = PLANES[grid.plane]
     shape = grid.counts()
-    extent = [grid.origin[a] - grid.step / 2, grid.origin[a] + (shape[0] - 0.5) * grid.step,
-              grid.origin[b] - grid.step / 2, grid.origin[b] + (shape[1] - 0.5) * grid.step]
+    extent = [
+        grid.origin[a] - grid.step / 2,
+        grid.origin[a] + (shape[0] - 0.5) * grid.step,
+        grid.origin[b] - grid.step / 2,
+        grid.origin[b] + (shape[1] - 0.5) * grid.step,
+    ]
     lo = min(np.nanmin(v) for v in values.values())
     hi = max(np.nanmax(v) for v in values.values())
     with styled():
@@ -58,8 +62,17 @@ def map_figure(ds, grid, values, title, outline):
             for design in DESIGNS:
                 marker, colour = _MARK[design]
                 pos = ds["chosen_position"].sel(design=design).values
-                ax.plot(pos[:, a], pos[:, b], marker, color="white", mec=colour, mew=1.8, ms=8, ls="none",
-                        label=f"chosen {_NAME[design.split('_')[1]]}")
+                ax.plot(
+                    pos[:, a],
+                    pos[:, b],
+                    marker,
+                    color="white",
+                    mec=colour,
+                    mew=1.8,
+                    ms=8,
+                    ls="none",
+                    label=f"chosen {_NAME[design.split('_')[1]]}",
+                )
             ax.set_title("free field" if model == "free" else "with scattering")
             ax.set_xlabel(f"{_AXES[a]} [m]")
             ax.grid(False)
@@ -81,7 +94,9 @@ def curves_figure(ds):
                 a = ds["layout_attenuation_db"].sel(design=design, model=model).values
                 e = ds["layout_attenuation_error_db"].sel(design=design, model=model).values
                 colour = CYCLE[i]
-                ax.semilogx(f, a, ls, color=colour, label=f"chosen {_NAME[design.split('_')[1]]}, evaluated {_NAME[model]}")
+                ax.semilogx(
+                    f, a, ls, color=colour, label=f"chosen {_NAME[design.split('_')[1]]}, evaluated {_NAME[model]}"
+                )
                 if np.any(e > 0):
                     ax.fill_between(f, a - e, a + e, color=colour, alpha=0.15, lw=0)
         ax.set_xlabel("frequency [Hz]")
@@ -118,24 +133,43 @@ def render_page(ds, grid, outline, lines):
     for design in DESIGNS:
         pos = ds["chosen_position"].sel(design=design).values.round(3).tolist()
         band = ds["layout_attenuation_band_db"].sel(design=design)
-        rows.append((f"chosen {_NAME[design.split('_')[1]]}", "; ".join(map(str, pos)),
-                     f"{float(band.sel(model='free')):.1f}", f"{float(band.sel(model='bem')):.1f}"))
-    parts = ["<ul>" + "".join(f"<li>{escape(line)}</li>" for line in lines) + "</ul>", _table(rows),
-             _img(curves_figure(ds), "Power attenuation of each chosen layout in both models (band: numerical error).")]
+        rows.append(
+            (
+                f"chosen {_NAME[design.split('_')[1]]}",
+                "; ".join(map(str, pos)),
+                f"{float(band.sel(model='free')):.1f}",
+                f"{float(band.sel(model='bem')):.1f}",
+            )
+        )
+    parts = [
+        "<ul>" + "".join(f"<li>{escape(line)}</li>" for line in lines) + "</ul>",
+        _table(rows),
+        _img(curves_figure(ds), "Power attenuation of each chosen layout in both models (band: numerical error)."),
+    ]
     parts.append(design_sections(ds, _png, _img, _table))
     if grid is not None:
         band = {m: ds[f"single_control_attenuation_{m}_band_db"].values for m in MODELS}
-        parts.append(_img(map_figure(ds, grid, band, "one control: band-averaged attenuation", outline),
-                          "Minimum power attenuation with one control at each grid point, averaged over the frequencies "
-                          "(blank: dropped candidates; dots: the bodies' mesh vertices near the plane)."))
+        parts.append(
+            _img(
+                map_figure(ds, grid, band, "one control: band-averaged attenuation", outline),
+                "Minimum power attenuation with one control at each grid point, averaged over the frequencies "
+                "(blank: dropped candidates; dots: the bodies' mesh vertices near the plane).",
+            )
+        )
         for f in ds["frequency"].values:
             one = {m: ds[f"single_control_attenuation_{m}_db"].sel(frequency=f).values for m in MODELS}
-            parts.append(_img(map_figure(ds, grid, one, f"one control at {f:.0f} Hz", outline),
-                              f"Minimum power attenuation with one control at each grid point, {f:.1f} Hz."))
+            parts.append(
+                _img(
+                    map_figure(ds, grid, one, f"one control at {f:.0f} Hz", outline),
+                    f"Minimum power attenuation with one control at each grid point, {f:.1f} Hz.",
+                )
+            )
     title = escape(str(ds.attrs.get("case_title", "exploration")))
-    return (f"<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>bemcheck explore: {title}</title>"
-            f"<style>{CSS}</style></head><body><header><h1>Where to put the controls</h1><p>{title}</p></header>"
-            f"<main><section><h2>Summary</h2>{''.join(parts)}</section></main></body></html>\n")
+    return (
+        f'<!DOCTYPE html><html lang="en"><head><meta charset="utf-8"><title>bemcheck explore: {title}</title>'
+        f"<style>{CSS}</style></head><body><header><h1>Where to put the controls</h1><p>{title}</p></header>"
+        f"<main><section><h2>Summary</h2>{''.join(parts)}</section></main></body></html>\n"
+    )
 
 
 def write_page(path, ds, grid, outline, lines):

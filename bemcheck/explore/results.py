@@ -79,7 +79,10 @@ def explore_dataset(solves, candidates, maps, choices, attrs):
         ds[f"{name[:-3]}_error_db"] = (("frequency", "candidate"), e)
         ds[f"{name[:-3]}_band_db"] = (("candidate",), band_average(a))
     ds["chosen_candidate"] = (("design", "choice"), np.array([c.candidates for c in choices]))
-    ds["chosen_position"] = (("design", "choice", "xyz"), candidates.positions[np.array([c.candidates for c in choices])])
+    ds["chosen_position"] = (
+        ("design", "choice", "xyz"),
+        candidates.positions[np.array([c.candidates for c in choices])],
+    )
     att = np.array([[c.attenuation_db[mo] for mo in MODELS] for c in choices])
     err = np.array([[c.error_db[mo] for mo in MODELS] for c in choices])
     ds["layout_attenuation_db"] = (("design", "model", "frequency"), att)

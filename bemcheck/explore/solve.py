@@ -111,8 +111,10 @@ def base_sources(case):
 
 def with_candidates(case, positions):
     """``case`` with its base sources, one free-standing control per candidate position, then its other controls."""
-    extra = tuple(Source(name=f"candidate[{i}]", role="control", position=tuple(map(float, x)))
-                  for i, x in enumerate(np.asarray(positions).reshape(-1, 3)))
+    extra = tuple(
+        Source(name=f"candidate[{i}]", role="control", position=tuple(map(float, x)))
+        for i, x in enumerate(np.asarray(positions).reshape(-1, 3))
+    )
     base = base_sources(case)
     rest = tuple(s for s in case.sources if s not in base)
     return dataclasses.replace(case, sources=base + extra + rest)
@@ -128,8 +130,12 @@ def case_columns(case, n_candidates):
 def _with_fit(directions):
     """The case's directions followed by the ``FIT_DEGREE`` sphere, as one set."""
     fit = sphere(FIT_DEGREE)
-    return Directions(*(np.concatenate([getattr(directions, a), getattr(fit, a)])
-                        for a in ("unit", "azimuth_deg", "elevation_deg", "weights")))
+    return Directions(
+        *(
+            np.concatenate([getattr(directions, a), getattr(fit, a)])
+            for a in ("unit", "azimuth_deg", "elevation_deg", "weights")
+        )
+    )
 
 
 def band_meshes(case, cache_dir=None):
@@ -205,5 +211,8 @@ def solve_candidates(case, positions, meshes, directions, progress=None):
 
 def _stack(triples):
     """[(far (D, S), power (S, S), fit far (L, S)), ...] per frequency -> Forms with (F, S, D), (F, S, S), (F, S, L)."""
-    return Forms(np.array([np.asarray(far).T for far, _, _ in triples]), np.array([pm for _, pm, _ in triples]),
-                 np.array([np.asarray(fit).T for _, _, fit in triples]))
+    return Forms(
+        np.array([np.asarray(far).T for far, _, _ in triples]),
+        np.array([pm for _, pm, _ in triples]),
+        np.array([np.asarray(fit).T for _, _, fit in triples]),
+    )

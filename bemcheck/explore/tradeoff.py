@@ -105,10 +105,14 @@ def sector_form(far_field, weights):
 
 def attenuations(power_matrix, g, q_uncontrolled, q):
     """(power, sector) attenuation [dB] of strengths ``q`` (S,) against ``q_uncontrolled`` (S,)."""
+
     def form(m, x):
         return float(np.real(x.conj() @ m @ x))
-    return (float(power_db(form(power_matrix, q_uncontrolled), form(power_matrix, q))),
-            float(power_db(form(g, q_uncontrolled), form(g, q))))
+
+    return (
+        float(power_db(form(power_matrix, q_uncontrolled), form(power_matrix, q))),
+        float(power_db(form(g, q_uncontrolled), form(g, q))),
+    )
 
 
 def front(power_matrix, far_field, weights, n_primary, q_primary, alphas=ALPHAS):

@@ -15,7 +15,19 @@ from bemcheck.mesh.scene import check_clearances, mesh_scene
 from bemcheck.mesh.surface import SurfaceMesh
 
 __all__ = [
-    "Band", "BandStats", "BodyMesh", "BodyStats", "MeshNotice", "SurfaceMesh", "band_of",
-    "check_clearances", "check_surface", "format_band_table", "mesh_body", "mesh_scene",
-    "plan_bands", "read_mesh_file", "write_band_meshes",
+    "Band",
+    "BandStats",
+    "BodyMesh",
+    "BodyStats",
+    "MeshNotice",
+    "SurfaceMesh",
+    "band_of",
+    "check_clearances",
+    "check_surface",
+    "format_band_table",
+    "mesh_body",
+    "mesh_scene",
+    "plan_bands",
+    "read_mesh_file",
+    "write_band_meshes",
 ]

@@ -7,8 +7,8 @@ from dataclasses import dataclass
 from bemcheck.errors import CaseError
 from bemcheck.mesh.checks import MeshNotice
 
-REFUSED_BELOW = 4.0   # elements per wavelength
-WARNED_BELOW = 6.0    # common practice for low-order BEM, no source for the exact figure
+REFUSED_BELOW = 4.0  # elements per wavelength
+WARNED_BELOW = 6.0  # common practice for low-order BEM, no source for the exact figure
 
 
 @dataclass(frozen=True)
@@ -65,17 +65,21 @@ def plan_bands(case):
     if not case.frequencies:
         raise CaseError(f"{where}frequencies: expected at least one frequency")
     if min(case.frequencies) <= 0:
-        raise CaseError(f"{where}frequencies: expected positive values [Hz], "
-                        f"found {min(case.frequencies)}")
+        raise CaseError(f"{where}frequencies: expected positive values [Hz], found {min(case.frequencies)}")
     if not octaves > 0:
         raise CaseError(f"{where}mesh.band_octaves: expected > 0, found {octaves}")
     if not epw >= REFUSED_BELOW:
-        raise CaseError(f"{where}mesh.elements_per_wavelength: {epw} is too coarse for the "
-                        f"BEM solve; expected at least {REFUSED_BELOW:g} (6 or more advised)")
+        raise CaseError(
+            f"{where}mesh.elements_per_wavelength: {epw} is too coarse for the "
+            f"BEM solve; expected at least {REFUSED_BELOW:g} (6 or more advised)"
+        )
     if epw < WARNED_BELOW:
-        warnings.warn(f"{where}mesh.elements_per_wavelength = {epw:g}: below "
-                      f"{WARNED_BELOW:g}, expect errors of several dB near the top of each band",
-                      MeshNotice, stacklevel=2)
+        warnings.warn(
+            f"{where}mesh.elements_per_wavelength = {epw:g}: below "
+            f"{WARNED_BELOW:g}, expect errors of several dB near the top of each band",
+            MeshNotice,
+            stacklevel=2,
+        )
     freqs = sorted(set(float(f) for f in case.frequencies))
     f0 = freqs[0]
     groups = {}
@@ -84,8 +88,9 @@ def plan_bands(case):
         k = math.floor(math.log2(f / f0) / octaves + 1e-9)
         groups.setdefault(k, []).append(f)
     c = case.medium.speed_of_sound
-    return tuple(Band(i, fs[0], fs[-1], c / fs[-1] / epw, tuple(fs))
-                 for i, (_, fs) in enumerate(sorted(groups.items())))
+    return tuple(
+        Band(i, fs[0], fs[-1], c / fs[-1] / epw, tuple(fs)) for i, (_, fs) in enumerate(sorted(groups.items()))
+    )
 
 
 def band_of(bands, frequency):

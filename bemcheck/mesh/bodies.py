@@ -124,8 +124,9 @@ def straddle(vertices, triangles, parts):
     for k in range(3):
         np.add.at(normal, triangles[:, k], face)
     normal /= np.linalg.norm(normal, axis=1, keepdims=True)
-    edges = np.unique(np.sort(np.concatenate([triangles[:, [0, 1]], triangles[:, [1, 2]],
-                                              triangles[:, [2, 0]]]), axis=1), axis=0)
+    edges = np.unique(
+        np.sort(np.concatenate([triangles[:, [0, 1]], triangles[:, [1, 2]], triangles[:, [2, 0]]]), axis=1), axis=0
+    )
     total, count = np.zeros_like(vertices), np.zeros(len(vertices))
     for a, b in ((0, 1), (1, 0)):
         np.add.at(total, edges[:, a], vertices[edges[:, b]])
@@ -162,8 +163,7 @@ def _generate(body, element_size, refine=1.0):
     # two meshes would agree where the geometry sets the sizes.
     within = _sizing.CHECKED_WITHIN / refine**2
     for _ in range(RETRIES + GEOMETRY_RETRIES + 1):
-        vertices, triangles, group, names = _run_script(
-            script, params, body, element_size * factor, scale, refine)
+        vertices, triangles, group, names = _run_script(script, params, body, element_size * factor, scale, refine)
         vertices = straddle(vertices, triangles, group)
         got = _measure(vertices, triangles, exact)
         long_edge = got.longest > target
@@ -175,13 +175,21 @@ def _generate(body, element_size, refine=1.0):
         if off_shape:
             scale *= GEOMETRY_MARGIN * within / got.geometry_error
     if got.longest > target:
-        warnings.warn(f"{label}: its longest edge is {got.longest:.3g} m, above the target "
-                      f"{target:.3g} m after {RETRIES} finer attempts", MeshNotice, stacklevel=3)
+        warnings.warn(
+            f"{label}: its longest edge is {got.longest:.3g} m, above the target "
+            f"{target:.3g} m after {RETRIES} finer attempts",
+            MeshNotice,
+            stacklevel=3,
+        )
     if got.geometry_error > _sizing.TOLERANCE / refine**2:
-        warnings.warn(f"{label}: its mesh misses the solid's area by {100 * got.area_error:+.2f} % "
-                      f"and its volume by {100 * got.volume_error:+.2f} % after "
-                      f"{GEOMETRY_RETRIES} finer attempts (aimed within "
-                      f"{100 * _sizing.TOLERANCE / refine**2:g} %)", MeshNotice, stacklevel=3)
+        warnings.warn(
+            f"{label}: its mesh misses the solid's area by {100 * got.area_error:+.2f} % "
+            f"and its volume by {100 * got.volume_error:+.2f} % after "
+            f"{GEOMETRY_RETRIES} finer attempts (aimed within "
+            f"{100 * _sizing.TOLERANCE / refine**2:g} %)",
+            MeshNotice,
+            stacklevel=3,
+        )
     triangles = check_surface(vertices, triangles, label)
     part_names = tuple("" if n == "wall" else n for n in names)
     return vertices, triangles, group, part_names
@@ -202,8 +210,7 @@ def _run_script(script, params, body, gmsh_size, scale, refine=1.0):
         try:
             gmsh.model.mesh.generate(2)
         except Exception as exc:  # gmsh raises bare Exception with its log line
-            raise GeometryError(f"{label}: gmsh could not mesh it at element size "
-                                f"{gmsh_size:.4g} m ({exc})") from exc
+            raise GeometryError(f"{label}: gmsh could not mesh it at element size {gmsh_size:.4g} m ({exc})") from exc
         return triangles_by_group(gmsh)
 
 
@@ -221,14 +228,17 @@ def mesh_key(body, element_size, base_dir=None, refine=1.0):
         try:
             blob = path.read_bytes()
         except OSError as exc:
-            raise GeometryError(f"body '{body.name}' (mesh file {path}): cannot read it "
-                                f"({exc.strerror})") from exc
+            raise GeometryError(f"body '{body.name}' (mesh file {path}): cannot read it ({exc.strerror})") from exc
         return cache.digest("file", body.shape, None, [blob])
     sources = [inspect.getsource(_script(body.shape.SCRIPT)).encode(), inspect.getsource(_sizing).encode()]
-    extra = {"gmsh_size_factor": GMSH_SIZE_FACTOR, "retries": RETRIES,
-             "sizing_rule": _sizing.SIZING_RULE, "geometry_retries": GEOMETRY_RETRIES,
-             "geometry_margin": GEOMETRY_MARGIN,
-             "crease_deg": CREASE_DEG}
+    extra = {
+        "gmsh_size_factor": GMSH_SIZE_FACTOR,
+        "retries": RETRIES,
+        "sizing_rule": _sizing.SIZING_RULE,
+        "geometry_retries": GEOMETRY_RETRIES,
+        "geometry_margin": GEOMETRY_MARGIN,
+        "crease_deg": CREASE_DEG,
+    }
     if refine != 1.0:
         extra["refine"] = float(refine)
     return cache.digest(body.kind, body.shape, element_size, sources, extra)
@@ -258,9 +268,13 @@ def mesh_body(body, element_size, cache_dir=None, base_dir=None, refine=1.0):
     key = mesh_key(body, element_size, base_dir, refine)
     stored = cache.load(cache_dir, key)
     if stored is not None:
-        mesh = BodyMesh(stored["vertices"], stored["triangles"], stored["parts"],
-                        tuple(str(n) for n in stored["part_names"]),
-                        tuple(str(n) for n in stored["notices"]))
+        mesh = BodyMesh(
+            stored["vertices"],
+            stored["triangles"],
+            stored["parts"],
+            tuple(str(n) for n in stored["part_names"]),
+            tuple(str(n) for n in stored["notices"]),
+        )
         for text in mesh.notices:
             warnings.warn(text, MeshNotice, stacklevel=2)
         return mesh
@@ -278,7 +292,15 @@ def mesh_body(body, element_size, cache_dir=None, base_dir=None, refine=1.0):
             notices.append(str(w.message))
         warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
     mesh = BodyMesh(vertices, triangles, parts, part_names, tuple(notices))
-    cache.store(cache_dir, key, {"vertices": vertices, "triangles": triangles, "parts": parts,
-                                 "part_names": np.array(part_names, dtype=str),
-                                 "notices": np.array(notices, dtype=str)})
+    cache.store(
+        cache_dir,
+        key,
+        {
+            "vertices": vertices,
+            "triangles": triangles,
+            "parts": parts,
+            "part_names": np.array(part_names, dtype=str),
+            "notices": np.array(notices, dtype=str),
+        },
+    )
     return mesh

@@ -55,11 +55,18 @@ def digest(kind, shape, element_size, sources=(), extra=None):
         Other settings that change the mesh.
     """
     h = hashlib.sha256()
-    h.update(json.dumps({"format": FORMAT, "kind": kind,
-                         "shape": {k: _jsonable(v) for k, v in asdict(shape).items()},
-                         "size": None if element_size is None else repr(float(element_size)),
-                         "extra": {k: _jsonable(v) for k, v in (extra or {}).items()}},
-                        sort_keys=True).encode())
+    h.update(
+        json.dumps(
+            {
+                "format": FORMAT,
+                "kind": kind,
+                "shape": {k: _jsonable(v) for k, v in asdict(shape).items()},
+                "size": None if element_size is None else repr(float(element_size)),
+                "extra": {k: _jsonable(v) for k, v in (extra or {}).items()},
+            },
+            sort_keys=True,
+        ).encode()
+    )
     for blob in sources:
         h.update(hashlib.sha256(blob).digest())
     return h.hexdigest()
@@ -96,8 +103,7 @@ def store(cache_dir, key, arrays):
     tmp = None
     try:
         cache_dir.mkdir(parents=True, exist_ok=True)
-        with tempfile.NamedTemporaryFile(dir=cache_dir, prefix=key, suffix=".tmp",
-                                         delete=False) as f:
+        with tempfile.NamedTemporaryFile(dir=cache_dir, prefix=key, suffix=".tmp", delete=False) as f:
             tmp = f.name
             np.savez(f, **{_KEY: np.array(key)}, **arrays)
             f.flush()
@@ -107,5 +113,4 @@ def store(cache_dir, key, arrays):
     except OSError as exc:
         if tmp is not None and os.path.exists(tmp):
             os.unlink(tmp)
-        warnings.warn(f"mesh cache {cache_dir}: cannot write ({exc}); going on without it",
-                      MeshNotice, stacklevel=3)
+        warnings.warn(f"mesh cache {cache_dir}: cannot write ({exc}); going on without it", MeshNotice, stacklevel=3)

@@ -29,8 +29,7 @@ def _where(vertices, idx):
 def _edge_message(name, vertices, edge, what, count=1):
     a, b = (int(i) for i in edge)
     more = f" ({count} such edges)" if count > 1 else ""
-    return (f"{name}: {what} at the edge between vertices {a} {_where(vertices, a)} "
-            f"and {b} {_where(vertices, b)}{more}")
+    return f"{name}: {what} at the edge between vertices {a} {_where(vertices, a)} and {b} {_where(vertices, b)}{more}"
 
 
 def check_surface(vertices, triangles, name, repair=True):
@@ -75,8 +74,9 @@ def check_surface(vertices, triangles, name, repair=True):
         raise GeometryError(f"{name}: no triangles (expected a closed triangle surface)")
     bad = np.flatnonzero(~np.isfinite(v).all(axis=1))
     if bad.size:
-        raise GeometryError(f"{name}: vertex {bad[0]} has a NaN or infinite coordinate "
-                            f"{v[bad[0]].tolist()} ({bad.size} such vertices)")
+        raise GeometryError(
+            f"{name}: vertex {bad[0]} has a NaN or infinite coordinate {v[bad[0]].tolist()} ({bad.size} such vertices)"
+        )
     t = t.astype(np.int64)
     if t.min() < 0 or t.max() >= len(v):
         raise GeometryError(f"{name}: a triangle refers to a vertex index outside 0..{len(v) - 1}")
@@ -95,8 +95,10 @@ def _check_degenerate(v, t, name):
     if flat.any():
         i = int(np.flatnonzero(flat)[0])
         corners = ", ".join(_where(v, k) for k in t[i])
-        raise GeometryError(f"{name}: triangle {i} is degenerate (zero area; corners {corners}); "
-                            f"{int(flat.sum())} degenerate triangles in all")
+        raise GeometryError(
+            f"{name}: triangle {i} is degenerate (zero area; corners {corners}); "
+            f"{int(flat.sum())} degenerate triangles in all"
+        )
 
 
 def _check_edges(v, t, name):
@@ -107,21 +109,33 @@ def _check_edges(v, t, name):
     inverse = inverse.ravel()
     if (counts > 2).any():
         j = np.flatnonzero(counts > 2)[0]
-        raise GeometryError(_edge_message(name, v, uniq[j], f"non-manifold: an edge shared by "
-                                          f"{counts[j]} triangles", int((counts > 2).sum())))
+        raise GeometryError(
+            _edge_message(
+                name, v, uniq[j], f"non-manifold: an edge shared by {counts[j]} triangles", int((counts > 2).sum())
+            )
+        )
     if (counts == 1).any():
         e = uniq[np.flatnonzero(counts == 1)[0]]
-        raise GeometryError(_edge_message(name, v, e, "a hole (not closed): an edge used by one "
-                                          "triangle only", int((counts == 1).sum())))
+        raise GeometryError(
+            _edge_message(
+                name, v, e, "a hole (not closed): an edge used by one triangle only", int((counts == 1).sum())
+            )
+        )
     order = np.argsort(inverse, kind="stable")
-    pairs = order.reshape(-1, 2)          # the two directed edges of each undirected edge
+    pairs = order.reshape(-1, 2)  # the two directed edges of each undirected edge
     same = (directed[pairs[:, 0]] == directed[pairs[:, 1]]).all(axis=1)
     if same.any():
         e = directed[pairs[np.flatnonzero(same)[0], 0]]
-        raise GeometryError(_edge_message(name, v, e, "mixed orientation: two neighbouring "
-                                          "triangles run the same way along their common edge "
-                                          "(normals flip)", int(same.sum())))
-    return pairs // 3                     # (ne, 2) triangle indices per edge
+        raise GeometryError(
+            _edge_message(
+                name,
+                v,
+                e,
+                "mixed orientation: two neighbouring triangles run the same way along their common edge (normals flip)",
+                int(same.sum()),
+            )
+        )
+    return pairs // 3  # (ne, 2) triangle indices per edge
 
 
 def _check_vertices(v, t, edge_tris, name):
@@ -144,14 +158,14 @@ def _check_vertices(v, t, edge_tris, name):
         fans = np.unique(np.stack([vertex_of_corner, label], axis=1), axis=0)
         vid, counts = np.unique(fans[:, 0], return_counts=True)
         bad = int(vid[np.flatnonzero(counts > 1)[0]])
-        raise GeometryError(f"{name}: non-manifold vertex {bad} {_where(v, bad)}: separate "
-                            "sheets of surface meet there")
+        raise GeometryError(
+            f"{name}: non-manifold vertex {bad} {_where(v, bad)}: separate sheets of surface meet there"
+        )
 
 
 def _orient(v, t, edge_tris, name, repair=True):
     nt = len(t)
-    graph = coo_matrix((np.ones(len(edge_tris)), (edge_tris[:, 0], edge_tris[:, 1])),
-                       shape=(nt, nt))
+    graph = coo_matrix((np.ones(len(edge_tris)), (edge_tris[:, 0], edge_tris[:, 1])), shape=(nt, nt))
     n_parts, part = connected_components(graph, directed=False)
     p = v[t]
     signed = np.einsum("ij,ij->i", p[:, 0], np.cross(p[:, 1], p[:, 2])) / 6.0
@@ -159,15 +173,22 @@ def _orient(v, t, edge_tris, name, repair=True):
     if (volume > 0).all():
         return t
     if (volume < 0).all() and not repair:
-        raise GeometryError(f"{name}: the surface is oriented inward (normals pointing into the body, "
-                            f"enclosed volume {volume.sum():.3g} m³); expected outward normals "
-                            "(counter-clockwise seen from outside)")
+        raise GeometryError(
+            f"{name}: the surface is oriented inward (normals pointing into the body, "
+            f"enclosed volume {volume.sum():.3g} m³); expected outward normals "
+            "(counter-clockwise seen from outside)"
+        )
     if (volume < 0).all():
-        warnings.warn(f"{name}: the surface was oriented inward (normals pointing into the "
-                      "body); flipped it", MeshNotice, stacklevel=3)
+        warnings.warn(
+            f"{name}: the surface was oriented inward (normals pointing into the body); flipped it",
+            MeshNotice,
+            stacklevel=3,
+        )
         return t[:, ::-1].copy()
     k = int(np.flatnonzero(volume <= 0)[0])
     i = int(np.flatnonzero(part == k)[0])
-    raise GeometryError(f"{name}: surface part {k} (triangle {i} at {_where(v, t[i, 0])}) is "
-                        "oriented opposite to the others, or is a cavity inside a body; "
-                        "expected every part outward")
+    raise GeometryError(
+        f"{name}: surface part {k} (triangle {i} at {_where(v, t[i, 0])}) is "
+        "oriented opposite to the others, or is a cavity inside a body; "
+        "expected every part outward"
+    )

@@ -5,7 +5,7 @@ from scipy.spatial import cKDTree
 
 from bemcheck.mesh.triangles import point_triangle_distance, solid_angles
 
-_CHUNK = 2_000_000   # point-triangle pairs per block, to bound memory
+_CHUNK = 2_000_000  # point-triangle pairs per block, to bound memory
 
 
 def nearest_on_surface(points, vertices, triangles, reach):
@@ -38,7 +38,7 @@ def nearest_on_surface(points, vertices, triangles, reach):
     qi = np.repeat(np.arange(len(points)), [len(n) for n in near])
     ti = np.fromiter((t for n in near for t in n), dtype=np.int64, count=qi.size)
     for s in range(0, qi.size, _CHUNK):
-        q, t = qi[s:s + _CHUNK], ti[s:s + _CHUNK]
+        q, t = qi[s : s + _CHUNK], ti[s : s + _CHUNK]
         d = point_triangle_distance(points[q], p[t])
         order = np.lexsort((d, q))
         q, t, d = q[order], t[order], d[order]
@@ -69,5 +69,5 @@ def winding_number(points, vertices, triangles):
     step = max(1, _CHUNK // max(1, len(triangles)))
     for s in range(0, len(points), step):
         # outward triangles subtend -4π in all from inside (solid_angles is positive on the normal's side)
-        out[s:s + step] = -solid_angles(points[s:s + step, None, :], p[None]).sum(axis=1) / (4.0 * np.pi)
+        out[s : s + step] = -solid_angles(points[s : s + step, None, :], p[None]).sum(axis=1) / (4.0 * np.pi)
     return out

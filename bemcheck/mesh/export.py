@@ -47,10 +47,17 @@ def mesh_stats(case, mesh, band, files=()):
     bodies = []
     for body in case.bodies:
         mask = np.isin(mesh.domains, mesh.tags_of_body(body.name))
-        bodies.append(BodyStats(body.name, float(mesh.areas[mask].sum()),
-                                mesh.enclosed_volume(mask)))
-    return BandStats(band, mesh.n_triangles, mesh.n_vertices, float(e.min()), float(e.max()),
-                     float(aspect_ratios(e, mesh.areas).max()), tuple(bodies), tuple(files))
+        bodies.append(BodyStats(body.name, float(mesh.areas[mask].sum()), mesh.enclosed_volume(mask)))
+    return BandStats(
+        band,
+        mesh.n_triangles,
+        mesh.n_vertices,
+        float(e.min()),
+        float(e.max()),
+        float(aspect_ratios(e, mesh.areas).max()),
+        tuple(bodies),
+        tuple(files),
+    )
 
 
 def write_mesh(mesh, stem):
@@ -65,13 +72,19 @@ def write_mesh(mesh, stem):
     # meshio's MSH 4.1 writer drops the physical tags (no $Entities section);
     # its 2.2 writer keeps them per element, and gmsh, meshio and bempp-cl's
     # import_grid all read them back (checked in tests/unit/test_mesh_scene.py)
-    m = meshio.Mesh(mesh.vertices, [("triangle", mesh.triangles)],
-                    cell_data={"gmsh:physical": [mesh.domains], "gmsh:geometrical": [mesh.domains]},
-                    field_data={name: np.array([tag, 2]) for name, tag in mesh.groups.items()})
+    m = meshio.Mesh(
+        mesh.vertices,
+        [("triangle", mesh.triangles)],
+        cell_data={"gmsh:physical": [mesh.domains], "gmsh:geometrical": [mesh.domains]},
+        field_data={name: np.array([tag, 2]) for name, tag in mesh.groups.items()},
+    )
     msh, vtu = Path(f"{stem}.msh"), Path(f"{stem}.vtu")
     _write_replacing(msh, m, file_format="gmsh22", binary=False)
-    _write_replacing(vtu, meshio.Mesh(mesh.vertices, [("triangle", mesh.triangles)],
-                                      cell_data={"domain": [mesh.domains]}), file_format="vtu")
+    _write_replacing(
+        vtu,
+        meshio.Mesh(mesh.vertices, [("triangle", mesh.triangles)], cell_data={"domain": [mesh.domains]}),
+        file_format="vtu",
+    )
     return msh, vtu
 
 
@@ -126,14 +139,18 @@ def write_band_meshes(case, out_dir, cache_dir=None):
 
 def format_band_table(stats):
     """Plain-text table of :func:`write_band_meshes` results, one line per band and body."""
-    head = (f"{'band':>4}  {'frequencies [Hz]':>17}  {'h [mm]':>7}  {'triangles':>9}  "
-            f"{'edges [mm]':>13}  {'aspect':>6}  {'body':<12} {'area [m2]':>10}  {'volume [L]':>10}")
+    head = (
+        f"{'band':>4}  {'frequencies [Hz]':>17}  {'h [mm]':>7}  {'triangles':>9}  "
+        f"{'edges [mm]':>13}  {'aspect':>6}  {'body':<12} {'area [m2]':>10}  {'volume [L]':>10}"
+    )
     lines = [head, "-" * len(head)]
     for s in stats:
         b = s.band
-        first = (f"{b.index:>4}  {f'{b.f_low:.0f}-{b.f_high:.0f}':>17}  "
-                 f"{1e3 * b.element_size:>7.1f}  {s.n_triangles:>9,}  "
-                 f"{f'{1e3 * s.min_edge:.1f}-{1e3 * s.max_edge:.1f}':>13}  {s.worst_aspect:>6.2f}  ")
+        first = (
+            f"{b.index:>4}  {f'{b.f_low:.0f}-{b.f_high:.0f}':>17}  "
+            f"{1e3 * b.element_size:>7.1f}  {s.n_triangles:>9,}  "
+            f"{f'{1e3 * s.min_edge:.1f}-{1e3 * s.max_edge:.1f}':>13}  {s.worst_aspect:>6.2f}  "
+        )
         for i, body in enumerate(s.bodies):
             lead = first if i == 0 else " " * len(first)
             lines.append(f"{lead}{body.name:<12} {body.area:>10.4f}  {1e3 * body.volume:>10.3f}")

@@ -88,5 +88,9 @@ def triangles_by_group(gmsh):
                 group.append(np.full(len(t), len(names) - 1))
     triangles = np.vstack(tri) if tri else np.zeros((0, 3), dtype=np.int64)
     used, triangles = np.unique(triangles, return_inverse=True)
-    return (xyz[used], triangles.reshape(-1, 3),
-            np.concatenate(group) if group else np.zeros(0, dtype=np.int64), tuple(names))
+    return (
+        xyz[used],
+        triangles.reshape(-1, 3),
+        np.concatenate(group) if group else np.zeros(0, dtype=np.int64),
+        tuple(names),
+    )

@@ -55,8 +55,7 @@ def read_mesh_file(path, scale=1.0, name=None):
             warnings.simplefilter("ignore", RuntimeWarning)
             mesh = meshio.read(path)
     except Exception as exc:  # meshio raises many kinds on bad input; all mean "unreadable"
-        raise GeometryError(f"{label}: cannot read it as a surface mesh "
-                            f"({type(exc).__name__}: {exc})") from exc
+        raise GeometryError(f"{label}: cannot read it as a surface mesh ({type(exc).__name__}: {exc})") from exc
     points = np.asarray(mesh.points, dtype=float)
     if points.size == 0:
         # meshio gives no points, rather than an error, for some cut-short files (binary STL)
@@ -72,17 +71,19 @@ def read_mesh_file(path, scale=1.0, name=None):
             faces += [q[:, [0, 1, 2]], q[:, [0, 2, 3]]]
     if not faces:
         kinds = ", ".join(sorted({b.type for b in mesh.cells})) or "none"
-        raise GeometryError(f"{label}: no triangles or quadrilaterals (cells found: {kinds}); "
-                            "expected a surface mesh")
+        raise GeometryError(f"{label}: no triangles or quadrilaterals (cells found: {kinds}); expected a surface mesh")
     triangles = np.vstack(faces).astype(np.int64)
     vertices, triangles = _merge(points, triangles, label)
     vertices = vertices * scale
     triangles = check_surface(vertices, triangles, label)
     extent = float(np.linalg.norm(np.ptp(vertices, axis=0)))
     if extent > LARGEST_PLAUSIBLE:
-        warnings.warn(f"{label}: the body is {extent:.4g} m across after scale {scale}; "
-                      "if the file is in millimetres, set scale = 0.001", MeshNotice,
-                      stacklevel=2)
+        warnings.warn(
+            f"{label}: the body is {extent:.4g} m across after scale {scale}; "
+            "if the file is in millimetres, set scale = 0.001",
+            MeshNotice,
+            stacklevel=2,
+        )
     return vertices, triangles
 
 
@@ -91,7 +92,7 @@ def _merge(points, triangles, label):
     if triangles.min() < 0 or triangles.max() >= len(points):
         raise GeometryError(f"{label}: a cell refers to a point index outside 0..{len(points) - 1}")
     if not np.isfinite(points).all():
-        return points, triangles        # check_surface names the bad vertex
+        return points, triangles  # check_surface names the bad vertex
     uniq, inverse = np.unique(points, axis=0, return_inverse=True)
     kept, tri = np.unique(inverse.ravel()[triangles], return_inverse=True)
     return uniq[kept], tri.reshape(-1, 3)

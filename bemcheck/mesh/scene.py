@@ -115,7 +115,8 @@ def _check_resolution(case, body, bm):
             f"body '{body.name}' (mesh file {body.shape.path}): too coarse for {top:.0f} Hz: its "
             f"longest edge {longest:.3g} m gives {per_wavelength:.3g} elements per wavelength; "
             f"expected at least {REFUSED_BELOW:g}, which this mesh gives up to {reach:.3g} Hz: "
-            f"give the file a finer mesh, or run only frequencies up to {reach:.3g} Hz (--frequencies)")
+            f"give the file a finer mesh, or run only frequencies up to {reach:.3g} Hz (--frequencies)"
+        )
 
 
 def _body_surface(mesh, name):
@@ -163,16 +164,20 @@ def check_clearances(case, mesh, element_size, source_margin=None):
     for obs in case.observers.points:
         for name, tri in surfaces.items():
             if _inside([obs.at], v, tri)[0]:
-                raise GeometryError(f"observer point '{obs.name}' at {_fmt(obs.at)} is inside "
-                                    f"body '{name}'; expected a point in the air")
+                raise GeometryError(
+                    f"observer point '{obs.name}' at {_fmt(obs.at)} is inside "
+                    f"body '{name}'; expected a point in the air"
+                )
     measured = [(f"note[{i}]", n) for i, n in enumerate(case.played)]
     measured += [(f"source[{i}].spectrum", s.spectrum) for i, s in enumerate(case.sources) if s.spectrum is not None]
     for key, note in measured:
         for name, tri in surfaces.items():
             if note.at is not None and _inside([note.at], v, tri)[0]:
-                raise GeometryError(f"{case.path}: {key}.distance: the point the levels of '{note.name}' were "
-                                    f"measured at ({note.distance:g} m from the primary along {key}.direction) "
-                                    f"at {_fmt(note.at)} is inside body '{name}'; expected a point in the air")
+                raise GeometryError(
+                    f"{case.path}: {key}.distance: the point the levels of '{note.name}' were "
+                    f"measured at ({note.distance:g} m from the primary along {key}.direction) "
+                    f"at {_fmt(note.at)} is inside body '{name}'; expected a point in the air"
+                )
 
 
 def _check_pair(a, b, v, ta, tb, h):
@@ -180,15 +185,17 @@ def _check_pair(a, b, v, ta, tb, h):
     lo_a, hi_a = v[ia].min(axis=0), v[ia].max(axis=0)
     lo_b, hi_b = v[ib].min(axis=0), v[ib].max(axis=0)
     if (lo_a > hi_b + h).any() or (lo_b > hi_a + h).any():
-        return                                      # boxes far apart
+        return  # boxes far apart
     for name, other, pts, tri in ((a, b, ia, tb), (b, a, ib, ta)):
         lo, hi = v[np.unique(tri)].min(axis=0), v[np.unique(tri)].max(axis=0)
         candidates = pts[((v[pts] >= lo) & (v[pts] <= hi)).all(axis=1)]
         inside = _inside(v[candidates], v, tri) if candidates.size else np.zeros(0, bool)
         if inside.any():
             p = v[candidates[np.flatnonzero(inside)[0]]]
-            raise GeometryError(f"bodies '{a}' and '{b}' intersect: a point of '{name}' at "
-                                f"{_fmt(p)} lies inside '{other}'; expected separate bodies")
+            raise GeometryError(
+                f"bodies '{a}' and '{b}' intersect: a point of '{name}' at "
+                f"{_fmt(p)} lies inside '{other}'; expected separate bodies"
+            )
     # "half an element" is local: the bodies' own refinement, not the band's h
     longest = _vertex_edge_lengths(v, np.vstack([ta, tb]))
     reach = 0.5 * float(longest.max())
@@ -199,15 +206,16 @@ def _check_pair(a, b, v, ta, tb, h):
         if not found.any():
             continue
         c = v[tri[which[found]]]
-        local = np.maximum(np.linalg.norm(c[:, [1, 2, 0]] - c, axis=2).max(axis=1),
-                           longest[pts[found]])
+        local = np.maximum(np.linalg.norm(c[:, [1, 2, 0]] - c, axis=2).max(axis=1), longest[pts[found]])
         k = np.argmin(d[found] - 0.5 * local)
         if d[found][k] < 0.5 * local[k] and (worst is None or d[found][k] < worst[0]):
             worst = (float(d[found][k]), float(local[k]))
     if worst is not None:
         gap, local = worst
-        raise GeometryError(f"bodies '{a}' and '{b}' are {gap:.3g} m apart, closer than half an "
-                            f"element there ({0.5 * local:.3g} m); move them apart")
+        raise GeometryError(
+            f"bodies '{a}' and '{b}' are {gap:.3g} m apart, closer than half an "
+            f"element there ({0.5 * local:.3g} m); move them apart"
+        )
 
 
 def _vertex_edge_lengths(v, tri):
@@ -229,9 +237,10 @@ def _check_point(label, position, body, v, tri, margin):
     if which[0] < 0:
         return
     c = corners[which[0]]
-    need = margin if margin is not None else SOURCE_MARGIN * float(
-        np.linalg.norm(c[[1, 2, 0]] - c, axis=1).max())
+    need = margin if margin is not None else SOURCE_MARGIN * float(np.linalg.norm(c[[1, 2, 0]] - c, axis=1).max())
     if d[0] < need:
         why = "" if margin is not None else f" ({SOURCE_MARGIN:g} of the local element size)"
-        raise GeometryError(f"{label} at {_fmt(p[0])} is {d[0]:.3g} m from the surface of body "
-                            f"'{body}', closer than the margin {need:.3g} m{why}; move it out")
+        raise GeometryError(
+            f"{label} at {_fmt(p[0])} is {d[0]:.3g} m from the surface of body "
+            f"'{body}', closer than the margin {need:.3g} m{why}; move it out"
+        )

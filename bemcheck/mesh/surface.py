@@ -122,8 +122,9 @@ class SurfaceMesh:
         """Sparse (3 nt, nv) map from (triangle, local corner) to vertex."""
         nt = self.n_triangles
         rows = np.arange(3 * nt)
-        return coo_matrix((np.ones(3 * nt), (rows, self.triangles.reshape(-1))),
-                          shape=(3 * nt, self.n_vertices)).tocsr()
+        return coo_matrix(
+            (np.ones(3 * nt), (rows, self.triangles.reshape(-1))), shape=(3 * nt, self.n_vertices)
+        ).tocsr()
 
     def mass_matrix(self):
         """P1 mass matrix M_ij = ∫ φ_i φ_j dS, sparse (nv, nv) [m²]."""

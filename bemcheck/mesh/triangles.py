@@ -102,8 +102,12 @@ def solid_angles(points, corners):
     n = np.linalg.norm(r, axis=-1)
     a, b, c = r[..., 0, :], r[..., 1, :], r[..., 2, :]
     num = np.einsum("...k,...k->...", a, np.cross(b, c))
-    den = (n[..., 0] * n[..., 1] * n[..., 2] + np.einsum("...k,...k->...", a, b) * n[..., 2]
-           + np.einsum("...k,...k->...", a, c) * n[..., 1] + np.einsum("...k,...k->...", b, c) * n[..., 0])
+    den = (
+        n[..., 0] * n[..., 1] * n[..., 2]
+        + np.einsum("...k,...k->...", a, b) * n[..., 2]
+        + np.einsum("...k,...k->...", a, c) * n[..., 1]
+        + np.einsum("...k,...k->...", b, c) * n[..., 0]
+    )
     return -2.0 * np.arctan2(num, den)
 
 

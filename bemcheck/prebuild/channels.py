@@ -68,8 +68,11 @@ class ChannelSpread:
         """JSON-ready, units in the keys."""
         return {
             "designed_db": float(self.designed_db),
-            "p5_db": float(self.values_db[0]), "p50_db": float(self.values_db[1]), "p95_db": float(self.values_db[2]),
-            "gain_tolerance_needed_db": float(self.gain_needed_db), "gain_tolerance_found": bool(self.gain_found),
+            "p5_db": float(self.values_db[0]),
+            "p50_db": float(self.values_db[1]),
+            "p95_db": float(self.values_db[2]),
+            "gain_tolerance_needed_db": float(self.gain_needed_db),
+            "gain_tolerance_found": bool(self.gain_found),
             "phase_tolerance_needed_deg": float(np.degrees(self.phase_needed_rad)),
             "phase_tolerance_found": bool(self.phase_found),
         }
@@ -91,7 +94,9 @@ def channel_factors(draws, errors, frequency):
     """
     gain, phase, delay = draws
     omega = 2.0 * np.pi * frequency
-    return 10.0 ** (errors.gain_db * gain / 20.0) * np.exp(1j * (errors.phase_rad * phase + omega * errors.delay_s * delay))
+    return 10.0 ** (errors.gain_db * gain / 20.0) * np.exp(
+        1j * (errors.phase_rad * phase + omega * errors.delay_s * delay)
+    )
 
 
 def attenuations_db(power_matrix, q, controls, factors):
@@ -148,15 +153,21 @@ def channel_spread(power_matrix, q, controls, frequency, errors, *, trials, max_
     designed = float(attenuations_db(power_matrix, q, controls, np.ones((1, len(controls))))[0])
 
     def percentiles(e):
-        return np.percentile(attenuations_db(power_matrix, q, controls, channel_factors(draws, e, frequency)), PERCENTILES)
+        return np.percentile(
+            attenuations_db(power_matrix, q, controls, channel_factors(draws, e, frequency)), PERCENTILES
+        )
 
     def loss(e):
-        return designed - float(np.percentile(
-            attenuations_db(power_matrix, q, controls, channel_factors(draws, e, frequency)), PERCENTILES[0]))
+        return designed - float(
+            np.percentile(
+                attenuations_db(power_matrix, q, controls, channel_factors(draws, e, frequency)), PERCENTILES[0]
+            )
+        )
 
     gain, gain_found = _largest(lambda t: loss(ChannelErrors(t, 0.0, 0.0)), GAIN_SEARCH_DB, max_loss_db, 0.01)
-    phase, phase_found = _largest(lambda t: loss(ChannelErrors(0.0, t, 0.0)), np.radians(PHASE_SEARCH_DEG),
-                                  max_loss_db, np.radians(0.05))
+    phase, phase_found = _largest(
+        lambda t: loss(ChannelErrors(0.0, t, 0.0)), np.radians(PHASE_SEARCH_DEG), max_loss_db, np.radians(0.05)
+    )
     return ChannelSpread(designed, percentiles(errors), gain, phase, gain_found, phase_found)
 
 
@@ -201,8 +212,19 @@ def channel_study(case, plan, q_designed, controls, free_at, bem_at):
         spreads = []
         for model in (free_at(f), bem_at(f) if bem_at is not None else None):
             ok = model is not None and np.isfinite(model.power_matrix).all()
-            spreads.append(channel_spread(model.power_matrix, q_designed[i], controls, f, errors,
-                                          trials=case.build.trials, max_loss_db=case.build.max_loss_db) if ok else None)
+            spreads.append(
+                channel_spread(
+                    model.power_matrix,
+                    q_designed[i],
+                    controls,
+                    f,
+                    errors,
+                    trials=case.build.trials,
+                    max_loss_db=case.build.max_loss_db,
+                )
+                if ok
+                else None
+            )
         rows.append(ChannelRow(note, h, f, *spreads))
     return tuple(rows)
 
@@ -213,11 +235,16 @@ def channel_variables(ds, rows):
     for tag, spreads in (("free", [r.free for r in rows]), ("bem", [r.bem for r in rows])):
         has = np.array([s is not None for s in spreads])
         ds[f"channel_spread_{tag}_computed"] = ("harmonic", has)
-        ds[f"channel_spread_{tag}_db"] = (("harmonic", "channel_percentile"),
-                                          np.array([s.values_db if s else np.zeros(3) for s in spreads]))
+        ds[f"channel_spread_{tag}_db"] = (
+            ("harmonic", "channel_percentile"),
+            np.array([s.values_db if s else np.zeros(3) for s in spreads]),
+        )
         ds[f"channel_designed_{tag}_db"] = ("harmonic", [s.designed_db if s else 0.0 for s in spreads])
         ds[f"channel_gain_needed_{tag}_db"] = ("harmonic", [s.gain_needed_db if s else 0.0 for s in spreads])
-        ds[f"channel_phase_needed_{tag}_deg"] = ("harmonic", [np.degrees(s.phase_needed_rad) if s else 0.0 for s in spreads])
+        ds[f"channel_phase_needed_{tag}_deg"] = (
+            "harmonic",
+            [np.degrees(s.phase_needed_rad) if s else 0.0 for s in spreads],
+        )
 
 
 def channel_summary(case, rows):
@@ -226,10 +253,21 @@ def channel_summary(case, rows):
         return {}
     b = case.build
     return {
-        "gain_db": b.channel_gain_db, "phase_deg": b.channel_phase_deg, "delay_s": b.channel_delay_s,
-        "trials": b.trials, "max_loss_db": b.max_loss_db,
-        "rows": [{"note": r.note, "harmonic": r.harmonic, "frequency_hz": r.frequency, "free": r.free.as_dict(),
-                  "bem": r.bem.as_dict() if r.bem else None} for r in rows],
+        "gain_db": b.channel_gain_db,
+        "phase_deg": b.channel_phase_deg,
+        "delay_s": b.channel_delay_s,
+        "trials": b.trials,
+        "max_loss_db": b.max_loss_db,
+        "rows": [
+            {
+                "note": r.note,
+                "harmonic": r.harmonic,
+                "frequency_hz": r.frequency,
+                "free": r.free.as_dict(),
+                "bem": r.bem.as_dict() if r.bem else None,
+            }
+            for r in rows
+        ],
     }
 
 
@@ -241,8 +279,17 @@ def channel_items(case, rows, item):
     judged = [(row, row.bem, "BEM") if row.bem else (row, row.free, "free field") for row in rows]
     at, spread, model = max(judged, key=lambda t: t[1].designed_db - t[1].values_db[0])
     worst = float(spread.designed_db - spread.values_db[0])
-    given = f"±{b.channel_gain_db:g} dB, ±{b.channel_phase_deg:g}°" + (f", ±{b.channel_delay_s:g} s" if b.channel_delay_s else "")
-    need = (f"±{spread.gain_needed_db:.2f} dB alone" + ("" if spread.gain_found else " or more")
-            + f", ±{np.degrees(spread.phase_needed_rad):.1f}° alone" + ("" if spread.phase_found else " or more"))
-    item(worst <= b.max_loss_db, f"control channels ({given}; {model}): 5 % of builds lose up to {worst:.1f} dB at "
-                                 f"{at.note} h{at.harmonic} (allowed {b.max_loss_db:g} dB; tolerance needed there {need})")
+    given = f"±{b.channel_gain_db:g} dB, ±{b.channel_phase_deg:g}°" + (
+        f", ±{b.channel_delay_s:g} s" if b.channel_delay_s else ""
+    )
+    need = (
+        f"±{spread.gain_needed_db:.2f} dB alone"
+        + ("" if spread.gain_found else " or more")
+        + f", ±{np.degrees(spread.phase_needed_rad):.1f}° alone"
+        + ("" if spread.phase_found else " or more")
+    )
+    item(
+        worst <= b.max_loss_db,
+        f"control channels ({given}; {model}): 5 % of builds lose up to {worst:.1f} dB at "
+        f"{at.note} h{at.harmonic} (allowed {b.max_loss_db:g} dB; tolerance needed there {need})",
+    )

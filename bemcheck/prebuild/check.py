@@ -55,6 +55,7 @@ def _note_primaries(case, strengths):
 
 def _field_at(case, surface_at):
     """``field_at(frequency, points)`` for :func:`note_strengths`: the stored BEM solve's field, or why there is none."""
+
     def field_at(f, points):
         if not case.bodies:
             return "no bodies: the free field is the monopole's"
@@ -64,6 +65,7 @@ def _field_at(case, surface_at):
         if isinstance(stored, str):
             return stored
         return stored.field_at(case.medium, points)
+
     return field_at
 
 
@@ -159,8 +161,9 @@ def _driver_check(case, demands):
     asked = [d for name, rows in demands.items() if name in driver_of for d in rows]
     if not asked:
         return None
-    return check_drivers(drivers, driver_of, asked, case.medium, where=f"{case.path}: ",
-                         amplifier_of=amplifier_of(case.amplifiers))
+    return check_drivers(
+        drivers, driver_of, asked, case.medium, where=f"{case.path}: ", amplifier_of=amplifier_of(case.amplifiers)
+    )
 
 
 def _ears(case, plan, points, check):
@@ -170,17 +173,22 @@ def _ears(case, plan, points, check):
     for note in dict.fromkeys(n for n, _, _ in plan):
         idx = [i for i, (n, _, _) in enumerate(plan) if n == note]
         rows = [r for r in (check.rows if check else ()) if r.note == note]
-        out.append((note, ear_levels(
-            [p.name for p in case.observers.points],
-            np.array([plan[i][2] for i in idx]),
-            points.instrument[idx].T,
-            points.total[idx].T,
-            limit_dba=case.build.ear_limit_dba,
-            drive_rows=rows,
-            note=note,
-            pressure_controls=points.controls[idx].T,
-            models=[points.models[i] for i in idx],
-        )))
+        out.append(
+            (
+                note,
+                ear_levels(
+                    [p.name for p in case.observers.points],
+                    np.array([plan[i][2] for i in idx]),
+                    points.instrument[idx].T,
+                    points.total[idx].T,
+                    limit_dba=case.build.ear_limit_dba,
+                    drive_rows=rows,
+                    note=note,
+                    pressure_controls=points.controls[idx].T,
+                    models=[points.models[i] for i in idx],
+                ),
+            )
+        )
     return out
 
 
@@ -228,8 +236,11 @@ def _placement_variables(ds, placement):
     (results.nc holds finite numbers only)."""
     ds.coords["placement_percentile"] = ("placement_percentile", np.array(PERCENTILES))
     rows = placement.rows
-    models = (("free", [r.free for r in rows]), ("same_moves_free", [r.same_moves_free for r in rows]),
-              ("scattered", [r.scattered for r in rows]))
+    models = (
+        ("free", [r.free for r in rows]),
+        ("same_moves_free", [r.same_moves_free for r in rows]),
+        ("scattered", [r.scattered for r in rows]),
+    )
     for tag, studies in models:
         ok = np.array([s is not None for s in studies])
         pct = np.array([s.values_db if s is not None else np.full(len(PERCENTILES), np.nan) for s in studies])
@@ -257,47 +268,69 @@ def _placement_items(placement, item, lines):
     tol, loss = placement.tolerance, placement.max_loss_db
     worst = min(placement.rows, key=lambda r: r.free.tolerance_needed_m)
     ok = tol <= worst.free.tolerance_needed_m or not worst.free.found
-    item(ok, f"placement (free field, every control moved): {_mm(tol)} given; {_need_text(worst.free)} keeps the "
-             f"loss within {loss:g} dB at {worst.note} h{worst.harmonic}")
+    item(
+        ok,
+        f"placement (free field, every control moved): {_mm(tol)} given; {_need_text(worst.free)} keeps the "
+        f"loss within {loss:g} dB at {worst.note} h{worst.harmonic}",
+    )
     done = [r for r in placement.rows if r.scattered is not None]
     moved = ", ".join(placement.moved)
     if done:
         w = min(done, key=lambda r: r.scattered.tolerance_needed_m)
         ok = tol <= w.scattered.tolerance_needed_m or not w.scattered.found
         same = f" (free field, same moves: {_need_text(w.same_moves_free)})" if placement.held else ""
-        item(ok, f"placement with scattering ({moved} moved): {_mm(tol)} given; {_need_text(w.scattered)} keeps the "
-                 f"loss within {loss:g} dB at {w.note} h{w.harmonic}{same}")
+        item(
+            ok,
+            f"placement with scattering ({moved} moved): {_mm(tol)} given; {_need_text(w.scattered)} keeps the "
+            f"loss within {loss:g} dB at {w.note} h{w.harmonic}{same}",
+        )
     for r in placement.rows:
         if not r.scattered_spread:
             lines.append(f"  note: placement spread with scattering at {r.note} h{r.harmonic} not computed: {r.reason}")
     if placement.held and placement.moved:
         names = ", ".join(n for n, _ in placement.held)
-        lines.append(f"  note: placement with scattering holds {names} where designed (each moves with a body; a new "
-                     "BEM solve per draw would be needed); their spread is the free-field one")
+        lines.append(
+            f"  note: placement with scattering holds {names} where designed (each moves with a body; a new "
+            "BEM solve per draw would be needed); their spread is the free-field one"
+        )
 
 
 def _placement_summary(placement):
     if not placement:
         return [], {}
-    free_rows = [{
-        "note": r.note, "harmonic": r.harmonic, "frequency_hz": r.frequency, "tolerance_m": placement.tolerance,
-        "designed_db": r.free.designed_db, "p5_db": float(r.free.values_db[0]), "p50_db": float(r.free.values_db[1]),
-        "p95_db": float(r.free.values_db[2]), "tolerance_needed_m": r.free.tolerance_needed_m,
-        "tolerance_needed_found": r.free.found,
-    } for r in placement.rows]
+    free_rows = [
+        {
+            "note": r.note,
+            "harmonic": r.harmonic,
+            "frequency_hz": r.frequency,
+            "tolerance_m": placement.tolerance,
+            "designed_db": r.free.designed_db,
+            "p5_db": float(r.free.values_db[0]),
+            "p50_db": float(r.free.values_db[1]),
+            "p95_db": float(r.free.values_db[2]),
+            "tolerance_needed_m": r.free.tolerance_needed_m,
+            "tolerance_needed_found": r.free.found,
+        }
+        for r in placement.rows
+    ]
     scattered = {
         "tolerance_m": placement.tolerance,
         "max_loss_db": placement.max_loss_db,
         "moved": list(placement.moved),
         "held": [{"source": n, "why": why} for n, why in placement.held],
-        "rows": [{
-            "note": r.note, "harmonic": r.harmonic, "frequency_hz": r.frequency,
-            "free": r.free.as_dict(),
-            "same_moves_free": r.same_moves_free.as_dict() if r.same_moves_free else None,
-            "scattered": r.scattered.as_dict() if r.scattered else None,
-            "scattered_spread": r.scattered_spread,
-            "reason": r.reason,
-        } for r in placement.rows],
+        "rows": [
+            {
+                "note": r.note,
+                "harmonic": r.harmonic,
+                "frequency_hz": r.frequency,
+                "free": r.free.as_dict(),
+                "same_moves_free": r.same_moves_free.as_dict() if r.same_moves_free else None,
+                "scattered": r.scattered.as_dict() if r.scattered else None,
+                "scattered_spread": r.scattered_spread,
+                "reason": r.reason,
+            }
+            for r in placement.rows
+        ],
     }
     return free_rows, scattered
 
@@ -316,14 +349,20 @@ def _go_no_go(case, check, ears, placement, scattered, bem_ran, channels=()):
         if first is None:
             worst = check.worst
             what = "loudspeakers and amplifiers" if any(r.amplifier for r in check.rows) else "loudspeakers"
-            item(True, f"{what} deliver every harmonic, designed and re-optimised; smallest margin "
-                       f"{worst.margin_db:+.1f} dB ({worst.source}, {worst.note} h{worst.harmonic}, {worst.demand}, "
-                       f"{worst.limit})")
+            item(
+                True,
+                f"{what} deliver every harmonic, designed and re-optimised; smallest margin "
+                f"{worst.margin_db:+.1f} dB ({worst.source}, {worst.note} h{worst.harmonic}, {worst.demand}, "
+                f"{worst.limit})",
+            )
         else:
             on = f" on {first.amplifier}" if first.amplifier else ""
-            item(False, f"{first.source} ({first.driver}{on}) fails first at {first.note} harmonic {first.harmonic} "
-                        f"({first.frequency_hz:.0f} Hz, {first.demand} demand): {first.limit} margin "
-                        f"{first.margin_db:+.1f} dB")
+            item(
+                False,
+                f"{first.source} ({first.driver}{on}) fails first at {first.note} harmonic {first.harmonic} "
+                f"({first.frequency_hz:.0f} Hz, {first.demand} demand): {first.limit} margin "
+                f"{first.margin_db:+.1f} dB",
+            )
     ear_items(ears, item, lines)
     if placement:
         _placement_items(placement, item, lines)
@@ -331,7 +370,9 @@ def _go_no_go(case, check, ears, placement, scattered, bem_ran, channels=()):
     if not bem_ran:
         lines.append("  note: no BEM in this run; every harmonic was checked in the free-field model only")
     elif not scattered.all():
-        lines.append(f"  note: {int((~scattered).sum())} harmonic(s) lie outside the solved bands and were checked in the free-field model only")
+        lines.append(
+            f"  note: {int((~scattered).sum())} harmonic(s) lie outside the solved bands and were checked in the free-field model only"
+        )
     free_rows, scattered_placement = _placement_summary(placement)
     summary = {
         "go": all(i["go"] for i in items),

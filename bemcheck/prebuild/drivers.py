@@ -84,8 +84,14 @@ def closed_box(driver, medium=Medium()):
     alpha = vas / driver.vb
     lift = math.sqrt(1.0 + alpha)
     return ClosedBox(
-        fs=ws / (2.0 * math.pi), qes=qes, qms=qms, qts=qts, vas=vas, alpha=alpha,
-        fc=ws * lift / (2.0 * math.pi), qtc=qts * lift,
+        fs=ws / (2.0 * math.pi),
+        qes=qes,
+        qms=qms,
+        qts=qts,
+        vas=vas,
+        alpha=alpha,
+        fc=ws * lift / (2.0 * math.pi),
+        qtc=qts * lift,
     )
 
 
@@ -226,7 +232,12 @@ def drive_for(driver, frequency, volume_velocity, medium=Medium()):
         excursion_margin = 20.0 * np.log10(driver.xmax / np.abs(excursion))
         power_margin = 10.0 * np.log10(driver.rated_power / nominal_power)
     return Drive(
-        frequency=omega / (2.0 * np.pi), voltage=voltage, current=current,
-        excursion=excursion, coil_power=coil_power, nominal_power=nominal_power,
-        excursion_margin_db=excursion_margin, power_margin_db=power_margin,
+        frequency=omega / (2.0 * np.pi),
+        voltage=voltage,
+        current=current,
+        excursion=excursion,
+        coil_power=coil_power,
+        nominal_power=nominal_power,
+        excursion_margin_db=excursion_margin,
+        power_margin_db=power_margin,
     )

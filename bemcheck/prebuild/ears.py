@@ -67,31 +67,46 @@ def ear_items(ears, item, lines):
         raised = [n for n, r in zip(e.points, e.raised_by_control) if r]
         loud = float(np.max(e.dba_with))
         if raised:
-            item(False, f"levels at observer points for {note} ({model}): the controls raise "
-                        f"{', '.join(raised)} above {e.limit_dba:g} dB(A) (up to {loud:.1f} dB(A) with control)")
+            item(
+                False,
+                f"levels at observer points for {note} ({model}): the controls raise "
+                f"{', '.join(raised)} above {e.limit_dba:g} dB(A) (up to {loud:.1f} dB(A) with control)",
+            )
         else:
-            item(True, f"levels at observer points for {note} ({model}): up to {loud:.1f} dB(A) with control; "
-                       f"the controls raise no point above {e.limit_dba:g} dB(A)")
+            item(
+                True,
+                f"levels at observer points for {note} ({model}): up to {loud:.1f} dB(A) with control; "
+                f"the controls raise no point above {e.limit_dba:g} dB(A)",
+            )
         for name, over, alone, total in zip(e.points, e.instrument_over, e.dba_without, e.dba_with):
             if over:
-                lines.append(f"  caution: {name}, {note}: the instrument alone gives {alone:.1f} dB(A), above "
-                             f"{e.limit_dba:g} dB(A) (with control {total:.1f}): a caution about the instrument, "
-                             "not a no-go of the layout")
+                lines.append(
+                    f"  caution: {name}, {note}: the instrument alone gives {alone:.1f} dB(A), above "
+                    f"{e.limit_dba:g} dB(A) (with control {total:.1f}): a caution about the instrument, "
+                    "not a no-go of the layout"
+                )
 
 
 def ear_summary(ears):
     """JSON-ready levels per note and point, units in the keys."""
     out = []
     for note, e in ears:
-        out.append({
-            "note": note, "points": list(e.points), "models": list(e.models), "limit_dba": e.limit_dba,
-            "frequency_hz": [float(f) for f in e.frequencies],
-            "instrument_dba": [float(v) for v in e.dba_without], "controls_dba": [float(v) for v in e.dba_controls],
-            "total_dba": [float(v) for v in e.dba_with],
-            "spl_instrument_db": e.spl_without.tolist(), "spl_controls_db": e.spl_controls.tolist(),
-            "spl_total_db": e.spl_with.tolist(),
-            "raised_by_control": [bool(v) for v in e.raised_by_control],
-            "instrument_over": [bool(v) for v in e.instrument_over],
-            "cautions": list(e.cautions),
-        })
+        out.append(
+            {
+                "note": note,
+                "points": list(e.points),
+                "models": list(e.models),
+                "limit_dba": e.limit_dba,
+                "frequency_hz": [float(f) for f in e.frequencies],
+                "instrument_dba": [float(v) for v in e.dba_without],
+                "controls_dba": [float(v) for v in e.dba_controls],
+                "total_dba": [float(v) for v in e.dba_with],
+                "spl_instrument_db": e.spl_without.tolist(),
+                "spl_controls_db": e.spl_controls.tolist(),
+                "spl_total_db": e.spl_with.tolist(),
+                "raised_by_control": [bool(v) for v in e.raised_by_control],
+                "instrument_over": [bool(v) for v in e.instrument_over],
+                "cautions": list(e.cautions),
+            }
+        )
     return out

@@ -67,8 +67,11 @@ class NoteStrength:
         bem = float(self.bem_m3s) if np.isfinite(self.bem_m3s) else None
         diff = self.difference_db
         return {
-            "note": self.note, "harmonic": self.harmonic, "frequency_hz": self.frequency,
-            "route": self.route, "reason": self.reason,
+            "note": self.note,
+            "harmonic": self.harmonic,
+            "frequency_hz": self.frequency,
+            "route": self.route,
+            "reason": self.reason,
             "volume_velocity_peak_m3s": float(self.used_m3s),
             "monopole_volume_velocity_peak_m3s": float(self.monopole_m3s),
             "bem_volume_velocity_peak_m3s": bem,
@@ -180,9 +183,15 @@ def note_lines(strengths, notes):
         bem = [s for s in rows if s.route == BEM]
         if bem:
             d = [s.difference_db for s in bem]
-            tail = "" if len(bem) == len(rows) else f"; {len(rows) - len(bem)} harmonic(s) by the monopole ({rows[[s.route for s in rows].index(MONOPOLE)].reason})"
-            lines.append(f"  note: {n.name}: primary strength from the BEM's field {where} at {len(bem)} harmonic(s); "
-                         f"BEM minus free-field monopole {min(d):+.1f} to {max(d):+.1f} dB{tail}")
+            tail = (
+                ""
+                if len(bem) == len(rows)
+                else f"; {len(rows) - len(bem)} harmonic(s) by the monopole ({rows[[s.route for s in rows].index(MONOPOLE)].reason})"
+            )
+            lines.append(
+                f"  note: {n.name}: primary strength from the BEM's field {where} at {len(bem)} harmonic(s); "
+                f"BEM minus free-field monopole {min(d):+.1f} to {max(d):+.1f} dB{tail}"
+            )
         else:
             lines.append(f"  note: {n.name}: primary strength from the free-field monopole {where} ({rows[0].reason})")
     return lines

@@ -106,9 +106,11 @@ def control_demands(plan, q_designed, q_reopt, sources, controls):
     out = {}
     for c in controls:
         name = sources[c].name
-        out[name] = [Demand(name, note, h, f, q[i, c], kind)
-                     for i, (note, h, f) in enumerate(plan)
-                     for q, kind in ((q_designed, DESIGNED), (q_reopt, REOPTIMISED))]
+        out[name] = [
+            Demand(name, note, h, f, q[i, c], kind)
+            for i, (note, h, f) in enumerate(plan)
+            for q, kind in ((q_designed, DESIGNED), (q_reopt, REOPTIMISED))
+        ]
     return out
 
 
@@ -244,14 +246,20 @@ def check_drivers(drivers, driver_of, demands, medium=Medium(), *, where="", amp
         v_margin, i_margin = amplifier_margins(amp, d.voltage, d.current) if amp else (None, None)
         rows.append(
             DriveRow(
-                source=demand.source, driver=name, note=demand.note, harmonic=demand.harmonic,
-                frequency_hz=float(demand.frequency), demand=demand.demand,
+                source=demand.source,
+                driver=name,
+                note=demand.note,
+                harmonic=demand.harmonic,
+                frequency_hz=float(demand.frequency),
+                demand=demand.demand,
                 volume_velocity_peak_m3s=float(abs(demand.volume_velocity)),
-                voltage_rms_v=float(abs(d.voltage)) / np.sqrt(2.0), current_rms_a=float(abs(d.current)) / np.sqrt(2.0),
+                voltage_rms_v=float(abs(d.voltage)) / np.sqrt(2.0),
+                current_rms_a=float(abs(d.current)) / np.sqrt(2.0),
                 excursion_peak_m=float(abs(d.excursion)),
                 electrical_power_w=float(0.5 * np.real(d.voltage * np.conj(d.current))),
                 nominal_power_w=float(d.nominal_power),
-                excursion_margin_db=float(d.excursion_margin_db), power_margin_db=float(d.power_margin_db),
+                excursion_margin_db=float(d.excursion_margin_db),
+                power_margin_db=float(d.power_margin_db),
                 amplifier=amp.name if amp else "",
                 amplifier_voltage_margin_db=None if amp is None else float(v_margin),
                 amplifier_current_margin_db=None if amp is None else float(i_margin),
@@ -260,11 +268,19 @@ def check_drivers(drivers, driver_of, demands, medium=Medium(), *, where="", amp
     return DriverCheck(tuple(rows))
 
 
-
 # The DriveRow fields written as drive_<figure>; their units and meanings are in results/schema.py.
-DRIVE_FIGURES = ("volume_velocity_peak_m3s", "voltage_rms_v", "current_rms_a", "excursion_peak_m",
-                 "electrical_power_w", "nominal_power_w", "excursion_margin_db", "power_margin_db",
-                 "amplifier_voltage_margin_db", "amplifier_current_margin_db")
+DRIVE_FIGURES = (
+    "volume_velocity_peak_m3s",
+    "voltage_rms_v",
+    "current_rms_a",
+    "excursion_peak_m",
+    "electrical_power_w",
+    "nominal_power_w",
+    "excursion_margin_db",
+    "power_margin_db",
+    "amplifier_voltage_margin_db",
+    "amplifier_current_margin_db",
+)
 
 
 def drive_variables(ds, check, plan):

@@ -61,8 +61,11 @@ class Study:
         """JSON-ready figures (percentiles as p5_db, p50_db, p95_db; None when not computed)."""
         out = {"designed_db": self.designed_db}
         out.update({f"p{p:g}_db": (None if np.isnan(v) else float(v)) for p, v in zip(PERCENTILES, self.values_db)})
-        out.update(tolerance_needed_m=self.tolerance_needed_m, tolerance_needed_found=self.found,
-                   search_up_to_m=self.search_up_to_m)
+        out.update(
+            tolerance_needed_m=self.tolerance_needed_m,
+            tolerance_needed_found=self.found,
+            search_up_to_m=self.search_up_to_m,
+        )
         return out
 
 
@@ -124,16 +127,25 @@ def _why_held(case, source):
 
 
 def _study(z_at, args, tolerance, weights, max_loss_db, trials, search_up_to, spread=True):
-    need = tolerance_for_loss(z_at, *args, max_loss_db, percentile=PERCENTILES[0], search_up_to=search_up_to,
-                              trials=trials, rng=SEED, weights=weights)
+    need = tolerance_for_loss(
+        z_at,
+        *args,
+        max_loss_db,
+        percentile=PERCENTILES[0],
+        search_up_to=search_up_to,
+        trials=trials,
+        rng=SEED,
+        weights=weights,
+    )
     if spread:
         s = placement_spread(z_at, *args, tolerance, trials=trials, rng=SEED, percentiles=PERCENTILES, weights=weights)
         designed, values = s.designed_db, s.values_db
     else:
         designed = placement_spread(z_at, *args, 0.0, trials=1, rng=SEED, percentiles=PERCENTILES).designed_db
         values = np.full(len(PERCENTILES), np.nan)
-    return Study(float(designed), np.asarray(values, dtype=float), float(need.tolerance), bool(need.found),
-                 float(search_up_to))
+    return Study(
+        float(designed), np.asarray(values, dtype=float), float(need.tolerance), bool(need.found), float(search_up_to)
+    )
 
 
 def placement_study(case, plan, q_designed, surface_at=None):
@@ -179,13 +191,19 @@ def placement_study(case, plan, q_designed, surface_at=None):
         free = _study(z_free, args, tol, weights, loss, trials, SEARCH_UP_TO)
         same = None
         if moves.any():
-            same = free if np.array_equal(moves, weights) else _study(z_free, args, tol, moves, loss, trials, SEARCH_UP_TO)
+            same = (
+                free if np.array_equal(moves, weights) else _study(z_free, args, tol, moves, loss, trials, SEARCH_UP_TO)
+            )
         scattered, spread, reason = _scattered(case, f, surface_at, primary, controls, args, tol, moves, loss, trials)
         rows.append(HarmonicPlacement(note, h, float(f), free, same, scattered, spread, reason))
     return PlacementStudy(
-        tolerance=tol, weights=weights, controls=tuple(s.name for s in sources),
-        moved=tuple(s.name for s, m in zip(sources, moves) if m > 0), held=held,
-        max_loss_db=float(loss), rows=tuple(rows),
+        tolerance=tol,
+        weights=weights,
+        controls=tuple(s.name for s in sources),
+        moved=tuple(s.name for s, m in zip(sources, moves) if m > 0),
+        held=held,
+        max_loss_db=float(loss),
+        rows=tuple(rows),
     )
 
 
@@ -194,8 +212,14 @@ def _scattered(case, f, surface_at, primary, controls, args, tol, moves, loss, t
     if not moves.any():
         if tol > 0.0 and any(case.sources[c].radiator == "point" and case.sources[c].on is None for c in controls):
             return None, False, "the controls that could move without a new solve have no position tolerance"
-        return None, False, ("every control moves with a body (a cabinet): each draw would change the scatterer "
-                             "and need a new BEM solve")
+        return (
+            None,
+            False,
+            (
+                "every control moves with a body (a cabinet): each draw would change the scatterer "
+                "and need a new BEM solve"
+            ),
+        )
     stored = surface_at(f) if surface_at is not None else None
     if stored is None:
         why = "the BEM did not run" if surface_at is None else "this harmonic lies outside the solved bands"
@@ -216,5 +240,11 @@ def _scattered(case, f, surface_at, primary, controls, args, tol, moves, loss, t
         return None, False, f"a moved control left the region the stored solve covers ({exc})"
     if spread:
         return study, True, ""
-    return study, False, (f"±{tol * 1e3:.1f} mm could bring a control within the solver's gap of a surface "
-                          f"(room to move: {ceiling * 1e3:.1f} mm); only the tolerance needed is given")
+    return (
+        study,
+        False,
+        (
+            f"±{tol * 1e3:.1f} mm could bring a control within the solver's gap of a surface "
+            f"(room to move: {ceiling * 1e3:.1f} mm); only the tolerance needed is given"
+        ),
+    )

@@ -46,8 +46,7 @@ def _a_response_db(f):
     f1, f2, f3, f4 = A_POLES
     f2sq = f * f
     return 20.0 * np.log10(
-        f4**2 * f2sq**2
-        / ((f2sq + f1**2) * np.sqrt(f2sq + f2**2) * np.sqrt(f2sq + f3**2) * (f2sq + f4**2))
+        f4**2 * f2sq**2 / ((f2sq + f1**2) * np.sqrt(f2sq + f2**2) * np.sqrt(f2sq + f3**2) * (f2sq + f4**2))
     )
 
 
@@ -144,8 +143,18 @@ _DEFER = (
 )
 
 
-def ear_levels(points, frequencies, pressure_without, pressure_with, *,
-               limit_dba=DEFAULT_LIMIT_DBA, drive_rows=(), note="", pressure_controls=None, models=()):
+def ear_levels(
+    points,
+    frequencies,
+    pressure_without,
+    pressure_with,
+    *,
+    limit_dba=DEFAULT_LIMIT_DBA,
+    drive_rows=(),
+    note="",
+    pressure_controls=None,
+    models=(),
+):
     """SPL per harmonic and overall dB(A) at observer points, with cautions.
 
     Parameters
@@ -222,8 +231,11 @@ def ear_levels(points, frequencies, pressure_without, pressure_with, *,
                 "overheat or damage the loudspeaker; use a larger driver or a lower level, "
                 "and follow the maker's data and local electrical codes."
             )
-        over = [(n, -m) for n, m in (("voltage", row.amplifier_voltage_margin_db),
-                                     ("current", row.amplifier_current_margin_db)) if m is not None and m < 0.0]
+        over = [
+            (n, -m)
+            for n, m in (("voltage", row.amplifier_voltage_margin_db), ("current", row.amplifier_current_margin_db))
+            if m is not None and m < 0.0
+        ]
         if over:
             by = " and ".join(f"{m:.1f} dB over the channel's rated {n}" for n, m in over)
             cautions.append(
@@ -234,7 +246,15 @@ def ear_levels(points, frequencies, pressure_without, pressure_with, *,
                 "electrical codes."
             )
     return EarLevels(
-        points=names, frequencies=f, spl_without=spl_without, spl_with=spl_with,
-        dba_without=dba_without, dba_with=dba_with, limit_dba=float(limit_dba),
-        cautions=tuple(cautions), spl_controls=spl_controls, dba_controls=dba_controls, models=models,
+        points=names,
+        frequencies=f,
+        spl_without=spl_without,
+        spl_with=spl_with,
+        dba_without=dba_without,
+        dba_with=dba_with,
+        limit_dba=float(limit_dba),
+        cautions=tuple(cautions),
+        spl_controls=spl_controls,
+        dba_controls=dba_controls,
+        models=models,
     )

@@ -112,7 +112,9 @@ class StoredSolve:
         """
         x = np.asarray(points, dtype=float).reshape(-1, 3)
         f = self.frequency
-        incident = halfspace.transfer_matrix(f, medium, self.monopoles, x, self.floor).reshape(len(x), len(self.monopoles))
+        incident = halfspace.transfer_matrix(f, medium, self.monopoles, x, self.floor).reshape(
+            len(x), len(self.monopoles)
+        )
         surface = surface_from_mesh(self.mesh)
         if surface.n_triangles == 0:
             return incident[:, self.column]
@@ -159,8 +161,16 @@ class MovedImpedance:
         self.col = stored.column[order]
         self.mono = stored.movable[order]
         self.fixed = stored.positions[order][~self.mono]
-        self._update = ImpedanceUpdate(stored.frequency, medium, stored.mesh, stored.monopoles, stored.impedance,
-                                       stored.surface_pressure, stored.normal_velocity, floor=stored.floor)
+        self._update = ImpedanceUpdate(
+            stored.frequency,
+            medium,
+            stored.mesh,
+            stored.monopoles,
+            stored.impedance,
+            stored.surface_pressure,
+            stored.normal_velocity,
+            floor=stored.floor,
+        )
 
     def __call__(self, positions):
         """(K, 3) positions [m] -> (K, K) impedances [Pa per m³/s]."""

@@ -54,7 +54,9 @@ def _weighted(offsets, weights):
         return offsets
     w = np.asarray(weights, dtype=float)
     if w.shape != (offsets.shape[1],) or not np.all(np.isfinite(w)) or (w < 0).any() or not (w > 0).any():
-        raise ValueError(f"weights: expected {offsets.shape[1]} non-negative finite values, not all zero; got {weights!r}")
+        raise ValueError(
+            f"weights: expected {offsets.shape[1]} non-negative finite values, not all zero; got {weights!r}"
+        )
     return offsets * w[None, :, None]
 
 
@@ -128,9 +130,20 @@ class PlacementSpread:
         return float(self.values_db.max() - self.values_db.min())
 
 
-def placement_spread(impedance_at, primary_positions, primary_strengths, control_positions,
-                     control_strengths, tolerance, *, trials=500, rng=None,
-                     distribution="ball", percentiles=(5.0, 50.0, 95.0), weights=None):
+def placement_spread(
+    impedance_at,
+    primary_positions,
+    primary_strengths,
+    control_positions,
+    control_strengths,
+    tolerance,
+    *,
+    trials=500,
+    rng=None,
+    distribution="ball",
+    percentiles=(5.0, 50.0, 95.0),
+    weights=None,
+):
     """Spread of attenuation when the control sources are placed within ±``tolerance``.
 
     Parameters
@@ -172,8 +185,7 @@ def placement_spread(impedance_at, primary_positions, primary_strengths, control
     """
     if not tolerance >= 0.0:
         raise ValueError(f"tolerance: expected a non-negative distance [m], got {tolerance!r}")
-    layout = _Layout.build(impedance_at, primary_positions, primary_strengths,
-                           control_positions, control_strengths)
+    layout = _Layout.build(impedance_at, primary_positions, primary_strengths, control_positions, control_strengths)
     offsets = _unit_offsets(np.random.default_rng(rng), int(trials), len(layout.control_positions), distribution)
     return _spread(layout, _weighted(offsets, weights), tolerance, distribution, percentiles)
 
@@ -183,8 +195,12 @@ def _spread(layout, offsets, tolerance, distribution, percentiles):
     att = layout.attenuations_db(tolerance * offsets)
     pct = np.asarray(percentiles, dtype=float)
     return PlacementSpread(
-        tolerance=float(tolerance), distribution=distribution, designed_db=float(designed),
-        attenuation_db=att, percentiles=pct, values_db=np.percentile(att, pct),
+        tolerance=float(tolerance),
+        distribution=distribution,
+        designed_db=float(designed),
+        attenuation_db=att,
+        percentiles=pct,
+        values_db=np.percentile(att, pct),
     )
 
 
@@ -208,9 +224,22 @@ class ToleranceNeed:
     found: bool
 
 
-def tolerance_for_loss(impedance_at, primary_positions, primary_strengths, control_positions,
-                       control_strengths, max_loss_db, *, percentile=5.0, search_up_to=0.1,
-                       trials=500, rng=0, distribution="ball", precision=1e-4, weights=None):
+def tolerance_for_loss(
+    impedance_at,
+    primary_positions,
+    primary_strengths,
+    control_positions,
+    control_strengths,
+    max_loss_db,
+    *,
+    percentile=5.0,
+    search_up_to=0.1,
+    trials=500,
+    rng=0,
+    distribution="ball",
+    precision=1e-4,
+    weights=None,
+):
     """Largest tolerance at which the ``percentile`` attenuation loses at most ``max_loss_db``.
 
     Loss is designed attenuation minus the ``percentile``-th percentile of the
@@ -243,10 +272,10 @@ def tolerance_for_loss(impedance_at, primary_positions, primary_strengths, contr
         raise ValueError(f"max_loss_db: expected a positive loss [dB], got {max_loss_db!r}")
     if not 0.0 < percentile < 100.0:
         raise ValueError(f"percentile: expected a value in (0, 100) [%], got {percentile!r}")
-    layout = _Layout.build(impedance_at, primary_positions, primary_strengths,
-                           control_positions, control_strengths)
-    offsets = _weighted(_unit_offsets(np.random.default_rng(rng), int(trials), len(layout.control_positions),
-                                      distribution), weights)
+    layout = _Layout.build(impedance_at, primary_positions, primary_strengths, control_positions, control_strengths)
+    offsets = _weighted(
+        _unit_offsets(np.random.default_rng(rng), int(trials), len(layout.control_positions), distribution), weights
+    )
 
     def loss(t):
         s = _spread(layout, offsets, t, distribution, (percentile,))

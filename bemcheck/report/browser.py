@@ -105,13 +105,27 @@ def check_page(html_path, screenshot=None, window=(1280, 4000), timeout=120.0):
         raise FileNotFoundError(f"{page}: no such page")
     url = page.as_uri()
     with tempfile.TemporaryDirectory(prefix="bemcheck-chromium-") as profile:
-        dumped = _run(binary, [f"--virtual-time-budget={VIRTUAL_TIME_MS}", "--dump-dom", "--enable-logging=stderr",
-                               "--v=0", url], profile, timeout)
+        dumped = _run(
+            binary,
+            [f"--virtual-time-budget={VIRTUAL_TIME_MS}", "--dump-dom", "--enable-logging=stderr", "--v=0", url],
+            profile,
+            timeout,
+        )
         shot = None
         if screenshot is not None:
             shot = Path(screenshot).resolve()
-            _run(binary, [f"--virtual-time-budget={VIRTUAL_TIME_MS}", f"--screenshot={shot}",
-                          f"--window-size={window[0]},{window[1]}", "--hide-scrollbars", url], profile, timeout)
+            _run(
+                binary,
+                [
+                    f"--virtual-time-budget={VIRTUAL_TIME_MS}",
+                    f"--screenshot={shot}",
+                    f"--window-size={window[0]},{window[1]}",
+                    "--hide-scrollbars",
+                    url,
+                ],
+                profile,
+                timeout,
+            )
             if not shot.is_file():
                 shot = None
     mark = _BODY_MARK.search(dumped.stdout)
@@ -146,8 +160,17 @@ def print_pdf(html_path, pdf_path, timeout=120.0):
         raise FileNotFoundError(f"{page}: no such page")
     pdf = Path(pdf_path).resolve()
     with tempfile.TemporaryDirectory(prefix="bemcheck-chromium-") as profile:
-        done = _run(binary, [f"--virtual-time-budget={VIRTUAL_TIME_MS}", f"--print-to-pdf={pdf}", "--no-pdf-header-footer",
-                             page.as_uri()], profile, timeout)
+        done = _run(
+            binary,
+            [
+                f"--virtual-time-budget={VIRTUAL_TIME_MS}",
+                f"--print-to-pdf={pdf}",
+                "--no-pdf-header-footer",
+                page.as_uri(),
+            ],
+            profile,
+            timeout,
+        )
     if not pdf.is_file():
         raise FileNotFoundError(f"{pdf}: Chromium wrote no PDF ({done.stderr.strip()[-300:]})")
     return pdf

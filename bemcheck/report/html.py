@@ -14,7 +14,7 @@ from pathlib import Path
 from bemcheck.compare import verdict_lines
 from bemcheck.compare.judgements import FAIL, PASS
 from bemcheck.errors import BemcheckInputError
-from bemcheck.report import tables
+from bemcheck.report import prebuild_tables, tables
 from bemcheck.report.catalogue import catalogue_sections
 from bemcheck.report.figures import draw_figures, figure_inputs
 from bemcheck.report.registry import BEFORE_BUILD_SECTION, FIGURES_SECTION
@@ -26,17 +26,23 @@ REPORT_FILE = "report.html"
 FIGURES_DIR = "figures"
 
 CAUTIONS = (
-    ("Loud sound near the player's ears",
-     "Control sources placed around an instrument sit close to the player's head and can raise what the player "
-     "hears, even while they lower the power radiated into the room. Wear hearing protection while testing, build "
-     "up levels gradually, and keep exposure within the limits that the regulations where you work set."),
-    ("Amplifier and driver power",
-     "Optimal control strengths can ask for more volume velocity than a small loudspeaker delivers cleanly. Check "
-     "driver excursion, thermal ratings and amplifier power against the computed strengths before connecting "
-     "anything, and limit the amplifier's output during first tests."),
-    ("What this report is",
-     "bemcheck compares two acoustic models of one layout. It verifies acoustics; it does not certify safety. "
-     "For electrical installation, mounting, rigging and noise exposure, defer to local codes and licensed practice."),
+    (
+        "Loud sound near the player's ears",
+        "Control sources placed around an instrument sit close to the player's head and can raise what the player "
+        "hears, even while they lower the power radiated into the room. Wear hearing protection while testing, build "
+        "up levels gradually, and keep exposure within the limits that the regulations where you work set.",
+    ),
+    (
+        "Amplifier and driver power",
+        "Optimal control strengths can ask for more volume velocity than a small loudspeaker delivers cleanly. Check "
+        "driver excursion, thermal ratings and amplifier power against the computed strengths before connecting "
+        "anything, and limit the amplifier's output during first tests.",
+    ),
+    (
+        "What this report is",
+        "bemcheck compares two acoustic models of one layout. It verifies acoustics; it does not certify safety. "
+        "For electrical installation, mounting, rigging and noise exposure, defer to local codes and licensed practice.",
+    ),
 )
 
 SCRIPT = (
@@ -142,16 +148,20 @@ def _figure(drawn, bem):
     dims = f' width="{size[0]}" height="{size[1]}"' if size else ""
     caption = drawn.spec.caption_for(bem)
     uri = f"data:{mime};base64,{base64.b64encode(data).decode()}"
-    return (f'<figure id="fig-{escape(name)}"><img src="{uri}" alt="{escape(name.replace("_", " "))}"{dims}>'
-            f"<figcaption><b>{_text(name.replace('_', ' '))}.</b> {_text(caption)} "
-            f"Files: {FIGURES_DIR}/{_text(Path(path).stem)}.png and .svg.</figcaption></figure>")
+    return (
+        f'<figure id="fig-{escape(name)}"><img src="{uri}" alt="{escape(name.replace("_", " "))}"{dims}>'
+        f"<figcaption><b>{_text(name.replace('_', ' '))}.</b> {_text(caption)} "
+        f"Files: {FIGURES_DIR}/{_text(Path(path).stem)}.png and .svg.</figcaption></figure>"
+    )
 
 
 def _verdict_body(ds, v, before_build):
     if v is None:
         if not has_bem(ds):
-            return _note("The BEM was not run (a free-field run): the free-field results are shown below, but there "
-                         "is no comparison, no trust limit and no verdict. Run both models to get them.")
+            return _note(
+                "The BEM was not run (a free-field run): the free-field results are shown below, but there "
+                "is no comparison, no trust limit and no verdict. Run both models to get them."
+            )
         return _note("The summary holds no verdict for this run.")
     lines = verdict_lines(v)
     word = {PASS: "pass", FAIL: "fail"}.get(v.outcome, "unresolved")
@@ -164,10 +174,17 @@ def _verdict_body(ds, v, before_build):
         parts += ["<h3>Power attenuation with its numerical error</h3>", _table(att)]
     split = tables.decomposition_rows(v)
     if split:
-        parts += ["<h3>Source model and diffraction by the other bodies</h3>", _table(split),
-                  _note("Source model: each source with only the body it sits on, against a free monopole. "
-                        "Other bodies: the full scene against that. A source on no body has no source-model term.")]
-    parts.append('<ul class="verdict-lines">' + "".join(f"<li>{_text(line.strip())}</li>" for line in lines[1:]) + "</ul>")
+        parts += [
+            "<h3>Source model and diffraction by the other bodies</h3>",
+            _table(split),
+            _note(
+                "Source model: each source with only the body it sits on, against a free monopole. "
+                "Other bodies: the full scene against that. A source on no body has no source-model term."
+            ),
+        ]
+    parts.append(
+        '<ul class="verdict-lines">' + "".join(f"<li>{_text(line.strip())}</li>" for line in lines[1:]) + "</ul>"
+    )
     rules = tables.rules_rows(v)
     if rules:
         parts += ["<h3>Rules of thumb</h3>", _table(rules)]
@@ -178,12 +195,16 @@ def _no_mesh_text(ds):
     """Why the report shows no mesh, in words that do not read as an error."""
     case, _ = case_of(ds)
     if case is not None and not case.bodies:
-        return ("This layout has no bodies: nothing scatters and nothing was meshed. The BEM, where it ran, "
-                "answers the free field.")
+        return (
+            "This layout has no bodies: nothing scatters and nothing was meshed. The BEM, where it ran, "
+            "answers the free field."
+        )
     if not has_bem(ds):
         return "A free-field run: the bodies are not meshed, as the free-field model ignores them."
-    return ("The mesh is not shown here: this report was rebuilt from the results alone (`bemcheck report`). "
-            "`bemcheck mesh CASE` writes the band meshes and their statistics.")
+    return (
+        "The mesh is not shown here: this report was rebuilt from the results alone (`bemcheck report`). "
+        "`bemcheck mesh CASE` writes the band meshes and their statistics."
+    )
 
 
 def _extra(extra_sections):
@@ -205,7 +226,7 @@ def _build_body(build_sections, build_figures, bem):
     for title, rows, notes in build_sections:
         parts += [f"<h3>{_text(title)}</h3>", _table(rows, scroll=len(rows) > 15)]
         parts += [_note(n) for n in notes]
-        if title == tables.DRIVE_TITLE and figs:
+        if title == prebuild_tables.DRIVE_TITLE and figs:
             parts.append(figs)
             figs = ""
     if figs:
@@ -236,7 +257,7 @@ def render_report(ds, summary, figures, verdict=None, mesh=None, extra_sections=
     case_note : str
         Why the case could not be re-read, if it could not.
     build_sections : sequence of (str, rows, notes)
-        The before-build check (:func:`~bemcheck.report.tables.before_build_sections`),
+        The before-build check (:func:`~bemcheck.report.prebuild_tables.before_build_sections`),
         shown as one section with its figures after the loudspeaker table.
 
     Returns
@@ -248,11 +269,19 @@ def render_report(ds, summary, figures, verdict=None, mesh=None, extra_sections=
     sections = [("verdict", "Decision", _verdict_body(ds, verdict, summary.get("before_build")))]
     sections.append(("summary", "What was run", _table(tables.summary_rows(ds, summary))))
     trust = tables.trust_rows(ds)
-    sections.append(("trust-limits", "Trust limits per sector and signal",
-                     _table(trust) + _note("The trust limit is the lowest frequency where the departure surely "
-                                           "exceeds the tolerance.") if trust else
-                     _note("Not computed: the BEM was not run.")))
-    sections.append(("attenuation", "Power and attenuation per frequency", _table(tables.attenuation_rows(ds), scroll=True)))
+    sections.append(
+        (
+            "trust-limits",
+            "Trust limits per sector and signal",
+            _table(trust)
+            + _note("The trust limit is the lowest frequency where the departure surely exceeds the tolerance.")
+            if trust
+            else _note("Not computed: the BEM was not run."),
+        )
+    )
+    sections.append(
+        ("attenuation", "Power and attenuation per frequency", _table(tables.attenuation_rows(ds), scroll=True))
+    )
     bem = has_bem(ds)
     build_figures = [d for d in figures if d.spec.section == BEFORE_BUILD_SECTION]
     shown = [d for d in figures if d.spec.section == FIGURES_SECTION]
@@ -261,10 +290,17 @@ def render_report(ds, summary, figures, verdict=None, mesh=None, extra_sections=
     mesh_body = _table(tables.mesh_rows(mesh)) if mesh is not None else _note(_no_mesh_text(ds))
     sections.append(("mesh", "Mesh", mesh_body))
     err = tables.numerical_error_rows(ds)
-    sections.append(("numerical-error", "Numerical error of the BEM",
-                     _table(err, scroll=True) if err else _note("Not available: the BEM was not run.")))
+    sections.append(
+        (
+            "numerical-error",
+            "Numerical error of the BEM",
+            _table(err, scroll=True) if err else _note("Not available: the BEM was not run."),
+        )
+    )
     for i, (t, rows) in enumerate(_extra(extra_sections)):
-        sections.append((f"extra-{i + 1}", t, _table(rows, scroll=len(rows) > 15) if rows else _note("nothing to show")))
+        sections.append(
+            (f"extra-{i + 1}", t, _table(rows, scroll=len(rows) > 15) if rows else _note("nothing to show"))
+        )
     if build_sections or build_figures:
         sections.append((BEFORE_BUILD_SECTION, "Before build", _build_body(build_sections, build_figures, bem)))
     case_body = f'<pre class="case">{_text(a.get("case_text", ""))}</pre>' + (_note(case_note) if case_note else "")
@@ -344,8 +380,16 @@ def write_report(folder, ds, summary, mesh=None, extra_sections=(), case=None):
     verdict = verdict_from_summary(summary["verdict"]) if summary.get("verdict") is not None else None
     tolerance_db = verdict.tolerance.level_db if verdict is not None else None
     drawn = draw_figures(figure_inputs(ds, case=case, mesh=mesh, tolerance_db=tolerance_db), folder / FIGURES_DIR)
-    page = render_report(ds, summary, drawn, verdict, mesh=mesh, extra_sections=extra, case_note=note,
-                         build_sections=tables.before_build_sections(summary) + catalogue_sections(summary))
+    page = render_report(
+        ds,
+        summary,
+        drawn,
+        verdict,
+        mesh=mesh,
+        extra_sections=extra,
+        case_note=note,
+        build_sections=prebuild_tables.before_build_sections(summary) + catalogue_sections(summary),
+    )
     path = folder / REPORT_FILE
     atomic_write_bytes(path, page.encode("utf-8"))
     return path

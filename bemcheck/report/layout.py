@@ -89,8 +89,9 @@ def layout_figure(mesh, case=None):
     ax3 = fig.add_subplot(1, 2, 1, projection="3d")
     light = np.array([0.35, -0.55, 0.75])
     colours, base = _face_colours(mesh, 0.55 + 0.45 * np.clip(n @ (light / np.linalg.norm(light)), 0.0, 1.0))
-    ax3.add_collection3d(Poly3DCollection(p, facecolors=colours, edgecolors=(0, 0, 0, 0.18), linewidths=0.15,
-                                          rasterized=True))
+    ax3.add_collection3d(
+        Poly3DCollection(p, facecolors=colours, edgecolors=(0, 0, 0, 0.18), linewidths=0.15, rasterized=True)
+    )
     for pos, mark, _label in marks:
         ax3.scatter(*pos, depthshade=False, **mark)
     ax3.set_xlim(lo[0], hi[0])
@@ -110,8 +111,11 @@ def layout_figure(mesh, case=None):
     depth = p.mean(axis=1) @ normal
     order = np.argsort(depth)  # far first: the viewer looks along -normal
     flat, _ = _face_colours(mesh, 0.5 + 0.5 * np.abs(n @ normal))
-    ax2.add_collection(PolyCollection(p[order][:, :, [a, b]], facecolors=flat[order], edgecolors=(0, 0, 0, 0.12),
-                                      linewidths=0.15, rasterized=True))
+    ax2.add_collection(
+        PolyCollection(
+            p[order][:, :, [a, b]], facecolors=flat[order], edgecolors=(0, 0, 0, 0.12), linewidths=0.15, rasterized=True
+        )
+    )
     for pos, mark, _label in marks:
         ax2.scatter(pos[a], pos[b], zorder=3, **mark)
     ax2.set_xlim(lo[a], hi[a])
@@ -143,8 +147,20 @@ def layout_figure(mesh, case=None):
 
 
 # Where a name may sit beside its point [pt], tried in this order.
-LABEL_OFFSETS = ((4, 3), (-4, 3), (4, -4), (-4, -4), (0, 7), (0, -8), (9, 9), (-9, 9), (9, -10), (-9, -10),
-                 (0, 16), (0, -17))
+LABEL_OFFSETS = (
+    (4, 3),
+    (-4, 3),
+    (4, -4),
+    (-4, -4),
+    (0, 7),
+    (0, -8),
+    (9, 9),
+    (-9, 9),
+    (9, -10),
+    (-9, -10),
+    (0, 16),
+    (0, -17),
+)
 # Points closer than this on the page share one name tag [pt].
 SAME_PLACE_PT = 5.0
 MARKER_HALF_PT = 4.0
@@ -166,8 +182,10 @@ def _group(display, labels, tol_px):
 
 
 def _overlap(box, others):
-    return sum(max(0.0, min(box.x1, o.x1) - max(box.x0, o.x0)) * max(0.0, min(box.y1, o.y1) - max(box.y0, o.y0))
-               for o in others)
+    return sum(
+        max(0.0, min(box.x1, o.x1) - max(box.x0, o.x0)) * max(0.0, min(box.y1, o.y1) - max(box.y0, o.y0))
+        for o in others
+    )
 
 
 def name_points(ax, anchors, renderer):
@@ -194,8 +212,11 @@ def name_points(ax, anchors, renderer):
     fig = ax.figure
     px = fig.dpi / 72.0
     display = np.array([ax.transData.transform(xy) for xy, _ in anchors])
-    taken = [t.get_window_extent(renderer) for t in fig.findobj(Text)
-             if t.get_visible() and t.get_text().strip() and t.figure is fig]
+    taken = [
+        t.get_window_extent(renderer)
+        for t in fig.findobj(Text)
+        if t.get_visible() and t.get_text().strip() and t.figure is fig
+    ]
     half = MARKER_HALF_PT * px
     taken += [Bbox.from_extents(x - half, y - half, x + half, y + half) for x, y in display]
     frame = ax.bbox
@@ -204,12 +225,24 @@ def name_points(ax, anchors, renderer):
         text = ", ".join(anchors[i][1] for i in g)
         best = None
         for dx, dy in LABEL_OFFSETS:
-            note = ax.annotate(text, anchors[g[0]][0], xytext=(dx, dy), textcoords="offset points", fontsize=7,
-                               ha="left" if dx > 0 else "right" if dx < 0 else "center",
-                               va="bottom" if dy > 0 else "top", annotation_clip=False, zorder=LABEL_ZORDER)
+            note = ax.annotate(
+                text,
+                anchors[g[0]][0],
+                xytext=(dx, dy),
+                textcoords="offset points",
+                fontsize=7,
+                ha="left" if dx > 0 else "right" if dx < 0 else "center",
+                va="bottom" if dy > 0 else "top",
+                annotation_clip=False,
+                zorder=LABEL_ZORDER,
+            )
             box = note.get_window_extent(renderer)
-            outside = max(0.0, frame.x0 - box.x0) + max(0.0, box.x1 - frame.x1) + max(0.0, frame.y0 - box.y0) + \
-                max(0.0, box.y1 - frame.y1)
+            outside = (
+                max(0.0, frame.x0 - box.x0)
+                + max(0.0, box.x1 - frame.x1)
+                + max(0.0, frame.y0 - box.y0)
+                + max(0.0, box.y1 - frame.y1)
+            )
             cost = _overlap(box, taken) + 1e3 * outside
             if best is None or cost < best[0]:
                 if best is not None:

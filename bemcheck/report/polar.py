@@ -115,8 +115,19 @@ def polar_figure(ds, signal, frequencies, primary_q=None):
         ax.set_rlabel_position(100.0)
         ax.set_title(f"{f_all[i]:.0f} Hz", loc="center", fontsize=9)
     handles, labels = fig.axes[0].get_legend_handles_labels()
-    fig.legend(handles, labels, loc="outside lower center", ncol=len(labels), title_fontsize=7.5,
-               title=f"one scale for every panel; levels below {floor:.0f} dB are drawn at {floor:.0f} dB")
-    fig.suptitle(f"SPL at 1 m in the observers' plane [dB re 20 µPa]: {signal_label(signal)}, {words}",
-                 x=0.01, ha="left", fontsize=10, fontweight="bold")
+    fig.legend(
+        handles,
+        labels,
+        loc="outside lower center",
+        ncol=len(labels),
+        title_fontsize=7.5,
+        title=f"one scale for every panel; levels below {floor:.0f} dB are drawn at {floor:.0f} dB",
+    )
+    fig.suptitle(
+        f"SPL at 1 m in the observers' plane [dB re 20 µPa]: {signal_label(signal)}, {words}",
+        x=0.01,
+        ha="left",
+        fontsize=10,
+        fontweight="bold",
+    )
     return fig

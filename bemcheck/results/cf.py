@@ -114,8 +114,9 @@ class Variable:
     def __post_init__(self):
         keys = {f for _, f, _, _ in string.Formatter().parse(self.name) if f}
         if keys != {c.key for c in self.choices}:
-            raise SchemaError(f"variable {self.name!r}: placeholders {sorted(keys)} but choices "
-                              f"{sorted(c.key for c in self.choices)}")
+            raise SchemaError(
+                f"variable {self.name!r}: placeholders {sorted(keys)} but choices {sorted(c.key for c in self.choices)}"
+            )
         if self.flags is not None and self.units is not None:
             raise SchemaError(f"variable {self.name!r}: a flag variable carries flag meanings, not units")
 
@@ -171,8 +172,10 @@ class Schema:
         try:
             return self._index[name]
         except KeyError:
-            raise SchemaError(f"{self.file}: variable {name!r} is not declared in bemcheck/results/schema.py; "
-                              "declare it there (name, dims, units, long_name) before writing it") from None
+            raise SchemaError(
+                f"{self.file}: variable {name!r} is not declared in bemcheck/results/schema.py; "
+                "declare it there (name, dims, units, long_name) before writing it"
+            ) from None
 
 
 def annotate(ds, schema):
@@ -216,7 +219,7 @@ def global_attributes(title, command, now=None):
         "title": title,
         "history": f"{stamp}: bemcheck {command} (bemcheck {release})",
         "source": f"bemcheck {release}: free-field monopole model and Burton-Miller boundary elements "
-                  "(rigid bodies, P1 elements on gmsh meshes)",
+        "(rigid bodies, P1 elements on gmsh meshes)",
     }
 
 

@@ -34,9 +34,13 @@ def combine(case, directions, free, bem=None, check=None, check_ratio=None, own_
     if bem is None:
         return ds, None
     ds = ds.merge(model_dataset(case, bem, directions, "bem"), compat="override")
-    models = Models(tuple(free), tuple(bem), None if check is None else tuple(check),
-                    None if check_ratio is None else np.asarray(check_ratio, dtype=float),
-                    None if own_body is None else np.asarray(own_body))
+    models = Models(
+        tuple(free),
+        tuple(bem),
+        None if check is None else tuple(check),
+        None if check_ratio is None else np.asarray(check_ratio, dtype=float),
+        None if own_body is None else np.asarray(own_body),
+    )
     cmp = compare(case, directions, models)
     cmp["direction_weight"] = ds["direction_weight"]
     trust = trust_tables(cmp, case.tolerance)

@@ -193,5 +193,7 @@ def load_results(folder):
         return read_dataset(path)
     except Exception as exc:  # h5py, netCDF and xarray each fail in their own way on a damaged file
         why = str(exc).splitlines()[0][:200] if str(exc) else type(exc).__name__
-        raise BemcheckInputError(f"{path}: cannot be read as a results file ({why}); expected the results.nc "
-                                 "a finished `bemcheck run` writes: run it again into this folder") from None
+        raise BemcheckInputError(
+            f"{path}: cannot be read as a results file ({why}); expected the results.nc "
+            "a finished `bemcheck run` writes: run it again into this folder"
+        ) from None

@@ -181,8 +181,16 @@ class Progress:
         from rich.progress import Progress as Bar
 
         console = Console(file=self.stream, highlight=False)
-        self.live = Bar(SpinnerColumn(), TextColumn("{task.description}"), BarColumn(), MofNCompleteColumn(),
-                        TextColumn("{task.fields[eta]}"), TimeElapsedColumn(), console=console, transient=True)
+        self.live = Bar(
+            SpinnerColumn(),
+            TextColumn("{task.description}"),
+            BarColumn(),
+            MofNCompleteColumn(),
+            TextColumn("{task.fields[eta]}"),
+            TimeElapsedColumn(),
+            console=console,
+            transient=True,
+        )
         self.bar = self.live.add_task(self.doing, total=None, eta="")
         self.live.start()
 
@@ -225,7 +233,10 @@ class Progress:
         """Say which task runs now (known in a serial sweep only)."""
         if self.quiet or self.clock is None:
             return
-        self.doing, self.since = f"{self.label(task)}, task {self.clock.done + 1} of {self.clock.total}", time.monotonic()
+        self.doing, self.since = (
+            f"{self.label(task)}, task {self.clock.done + 1} of {self.clock.total}",
+            time.monotonic(),
+        )
         if self.live is not None:
             self.live.update(self.bar, description=self.label(task))
 

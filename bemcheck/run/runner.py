@@ -58,8 +58,9 @@ def prepare_folder(out_dir):
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise BemcheckInputError(f"{out}: cannot create the output folder ({exc.strerror}); "
-                                 "expected a folder you can write to") from None
+        raise BemcheckInputError(
+            f"{out}: cannot create the output folder ({exc.strerror}); expected a folder you can write to"
+        ) from None
     if not out.is_dir() or not os.access(out, os.W_OK | os.X_OK):
         raise BemcheckInputError(f"{out}: output folder is not writable; expected a folder you can write to")
     return out
@@ -105,7 +106,9 @@ class BemSweep:
 
 
 def _response(task, arrays):
-    return FieldResponse(task.frequency, arrays["far_field"], arrays["points"], arrays["impedance"], arrays["power_matrix"])
+    return FieldResponse(
+        task.frequency, arrays["far_field"], arrays["points"], arrays["impedance"], arrays["power_matrix"]
+    )
 
 
 def _own_body(case, stored, free):
@@ -123,8 +126,20 @@ def _own_body(case, stored, free):
     return own
 
 
-def bem_responses(case, directions, folder, *, solve=None, bands=None, frequencies=None, workers=1, scheduler=None,
-                  cache_dir=None, progress=None, free=None):
+def bem_responses(
+    case,
+    directions,
+    folder,
+    *,
+    solve=None,
+    bands=None,
+    frequencies=None,
+    workers=1,
+    scheduler=None,
+    cache_dir=None,
+    progress=None,
+    free=None,
+):
     """Run (or resume) the BEM sweep of ``case`` and return what it solved.
 
     Parameters
@@ -144,7 +159,6 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
     BemSweep
     """
     if bands is None:
-
         bands = plan_bands(case)
     check_file_bodies(case, cache_dir)  # given meshes: before hours of solves, not at the top band
 
@@ -155,7 +169,6 @@ def bem_responses(case, directions, folder, *, solve=None, bands=None, frequenci
     progress = progress or Progress(quiet=True)
     store = PartStore(folder)
     if solve is None:
-
         solve = functools.partial(bem_tasks.bem_task, case, cache_dir=cache_dir)
         _mesh_ahead(case, [t for t in plan if not store.has(t.key)], cache_dir, progress)
         _say_compile(case, [t for t in plan if not store.has(t.key)], workers, scheduler, progress)
@@ -198,13 +211,17 @@ def _mesh_ahead(case, todo, cache_dir, progress):
         progress.step(f"meshing band {i + 1} of {len(sizes)}: largest edge {1e3 * size:.1f} mm")
         start = time.monotonic()
         mesh = mesh_scene(case, size, cache_dir=cache_dir)
-        progress.step(f"  {mesh.n_triangles:,} triangles, {mesh.n_vertices:,} unknowns ({time.monotonic() - start:.1f} s)")
+        progress.step(
+            f"  {mesh.n_triangles:,} triangles, {mesh.n_vertices:,} unknowns ({time.monotonic() - start:.1f} s)"
+        )
         if any(t.kind == CHECK and t.element_size == size for t in todo):
             progress.step("meshing its second mesh for the error estimate")
             start = time.monotonic()
             mesh, ratio = check_mesh(case, size, cache_dir=cache_dir)
-            progress.step(f"  {mesh.n_triangles:,} triangles, sizes {ratio:.2f} times the band's "
-                          f"({time.monotonic() - start:.1f} s)")
+            progress.step(
+                f"  {mesh.n_triangles:,} triangles, sizes {ratio:.2f} times the band's "
+                f"({time.monotonic() - start:.1f} s)"
+            )
 
 
 def _say_compile(case, todo, workers, scheduler, progress):
@@ -213,7 +230,9 @@ def _say_compile(case, todo, workers, scheduler, progress):
     if not case.bodies or not todo:
         return
     if scheduler or workers > 1:
-        progress.step(f"each worker compiles the BEM kernels with its first task: once per process, about {COMPILE_HINT_S:.0f} s")
+        progress.step(
+            f"each worker compiles the BEM kernels with its first task: once per process, about {COMPILE_HINT_S:.0f} s"
+        )
     elif not kernels_compiled():
         progress.step(f"compiling the BEM kernels with the first task: once per process, about {COMPILE_HINT_S:.0f} s")
 
@@ -262,8 +281,11 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, surfac
     full = case
     if frequencies is not None:
         case = replace(case, frequencies=tuple(frequencies))
-    progress = Progress(options.pop("progress_stream", None), quiet=options.pop("quiet", False),
-                        label=functools.partial(task_label, harmonics=harmonic_names(full)))
+    progress = Progress(
+        options.pop("progress_stream", None),
+        quiet=options.pop("quiet", False),
+        label=functools.partial(task_label, harmonics=harmonic_names(full)),
+    )
     with RunLock(folder), progress:
         progress.step(f"free-field model: {len(case.frequencies)} frequencies, {len(directions)} directions")
         free = free_responses(case, directions)
@@ -273,20 +295,24 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, surfac
             ds, verdict = combine(case, directions, free)
             metas = []
         else:
-            sweep = bem_responses(full, directions, folder, frequencies=case.frequencies, free=free, progress=progress,
-                                  **options)
+            sweep = bem_responses(
+                full, directions, folder, frequencies=case.frequencies, free=free, progress=progress, **options
+            )
             metas, solved, stored = sweep.metas, sweep.solved, sweep.stored
             progress.step("comparing the models: departures, error estimates, trust limits, verdict")
             device = metas[0].get("device") if metas else None
-            ds, verdict = combine(case, directions, free, sweep.responses, sweep.check, sweep.check_ratio,
-                                  sweep.own_body)
+            ds, verdict = combine(
+                case, directions, free, sweep.responses, sweep.check, sweep.check_ratio, sweep.own_body
+            )
             ds["elements_per_wavelength"] = ("frequency", np.array([m["elements_per_wavelength"] for m in metas]))
             ds["elements"] = ("frequency", np.array([m["elements"] for m in metas]))
         ds.attrs.update(run_attributes(case, fingerprint, device))
         summary = build_summary(case, ds, fingerprint, verdict, metas)
         if case.all_notes:
-            progress.step(f"before-build check: {len(harmonic_names(case))} harmonics, placement spread over "
-                          f"{case.build.trials} builds each")
+            progress.step(
+                f"before-build check: {len(harmonic_names(case))} harmonics, placement spread over "
+                f"{case.build.trials} builds each"
+            )
         build = _before_build(case, directions, solved, stored)
         if build is not None:
             ds = ds.merge(build.dataset, compat="override", combine_attrs="override")
@@ -319,7 +345,6 @@ def _write_report(case, folder, options, progress):
 
     mesh = None
     if "p_bem" in read_dataset(folder / RESULTS_FILE).data_vars and case.bodies and "solve" not in options:
-
         progress.step("report: reading the finest mesh for the layout figure")
         mesh = mesh_scene(case, min(b.element_size for b in plan_bands(case)), cache_dir=options.get("cache_dir"))
     progress.step("report: drawing the figures and writing report.html")

@@ -94,8 +94,13 @@ class PartStore:
                 raise NonFiniteResult(f"task {key}: '{name}' holds NaN or inf; nothing was stored")
         meta = json.loads(json.dumps(meta))  # as it will read back
         buf = io.BytesIO()
-        np.savez(buf, __meta__=np.array(json.dumps(meta)), __key__=np.array(key),
-                 __checksum__=np.array(checksum(arrays, meta)), **arrays)
+        np.savez(
+            buf,
+            __meta__=np.array(json.dumps(meta)),
+            __key__=np.array(key),
+            __checksum__=np.array(checksum(arrays, meta)),
+            **arrays,
+        )
         atomic_write_bytes(self.path(key), buf.getvalue())
 
     def _read(self, key):
@@ -151,8 +156,12 @@ class PartStore:
                 good.add(task.key)
                 continue
             what = label(task) if label is not None else "task"
-            warnings.warn(f"{self.path(task.key)}: stored {what} at {task.frequency:g} Hz is "
-                          f"{why or 'unreadable'}; not used, computed again", DamagedPart, stacklevel=2)
+            warnings.warn(
+                f"{self.path(task.key)}: stored {what} at {task.frequency:g} Hz is "
+                f"{why or 'unreadable'}; not used, computed again",
+                DamagedPart,
+                stacklevel=2,
+            )
         return good
 
     def meta(self, key):
@@ -171,8 +180,9 @@ class PartStore:
         try:
             return self._read(key)
         except (ValueError, OSError) as exc:
-            raise BemcheckInputError(f"{self.path(key)}: stored part is {exc}; "
-                                     "run the same command again to compute it anew") from None
+            raise BemcheckInputError(
+                f"{self.path(key)}: stored part is {exc}; run the same command again to compute it anew"
+            ) from None
 
 
 def _read_first_line(path):
@@ -249,16 +259,30 @@ class LockOwner:
         return cls(pid, socket.gethostname(), process_start(pid), boot_id(), command, time.time())
 
     def text(self):
-        return json.dumps({"pid": self.pid, "host": self.host, "started": self.started, "boot": self.boot,
-                           "command": self.command, "since": self.since})
+        return json.dumps(
+            {
+                "pid": self.pid,
+                "host": self.host,
+                "started": self.started,
+                "boot": self.boot,
+                "command": self.command,
+                "since": self.since,
+            }
+        )
 
     @classmethod
     def parse(cls, text):
         """The owner a lock file's text names, or None if it names none."""
         try:
             d = json.loads(text)
-            owner = cls(int(d["pid"]), str(d.get("host") or ""), d.get("started"), d.get("boot"),
-                        str(d.get("command") or "run"), float(d.get("since") or 0.0))
+            owner = cls(
+                int(d["pid"]),
+                str(d.get("host") or ""),
+                d.get("started"),
+                d.get("boot"),
+                str(d.get("command") or "run"),
+                float(d.get("since") or 0.0),
+            )
         except (ValueError, TypeError, KeyError, AttributeError, OverflowError):
             return None
         # a process id is a positive pid_t (POSIX.1-2017 <sys/types.h>: a signed integer, 32 bits on every
@@ -331,7 +355,8 @@ class RunLock:
                 if self.path.is_dir() and not self.path.is_symlink():
                     raise BemcheckInputError(
                         f"{self.path}: a folder where bemcheck keeps its lock file; expected a file or nothing "
-                        "there: remove the folder (bemcheck never makes one) and run again") from None
+                        "there: remove the folder (bemcheck never makes one) and run again"
+                    ) from None
                 seen = _read_whole(self.path)
                 if seen is None:
                     continue  # released between our two looks

@@ -75,8 +75,9 @@ def physics_fingerprint(case):
     }
     if case.floor is not None:  # only then: the keys of a case without a floor stay as they were
         parts["floor"] = case.floor.z
-    return hash_body_files(hashlib.sha256(json.dumps(parts, sort_keys=True, default=str).encode()),
-                           case.bodies).hexdigest()
+    return hash_body_files(
+        hashlib.sha256(json.dumps(parts, sort_keys=True, default=str).encode()), case.bodies
+    ).hexdigest()
 
 
 def bodies_with_sources(case):
@@ -270,16 +271,22 @@ def check_scheduler(address):
     except ValueError as exc:
         raise SchedulerUnavailable(f"{where}: not an address ({exc}); expected tcp://HOST:PORT") from None
     except TimeoutError:
-        raise SchedulerUnavailable(f"{where}: no answer as a Dask scheduler within {SCHEDULER_TIMEOUT_S:g} s; "
-                                   "expected the address `dask scheduler` prints") from None
+        raise SchedulerUnavailable(
+            f"{where}: no answer as a Dask scheduler within {SCHEDULER_TIMEOUT_S:g} s; "
+            "expected the address `dask scheduler` prints"
+        ) from None
     except OSError as exc:
-        raise SchedulerUnavailable(f"{where}: cannot connect within {SCHEDULER_TIMEOUT_S:g} s ({exc}); expected "
-                                   "a running Dask scheduler (`dask scheduler` prints its address)") from None
+        raise SchedulerUnavailable(
+            f"{where}: cannot connect within {SCHEDULER_TIMEOUT_S:g} s ({exc}); expected "
+            "a running Dask scheduler (`dask scheduler` prints its address)"
+        ) from None
     except Exception as exc:  # what something that is not Dask answers breaks Dask's reader in many ways
         answer = f"{type(exc).__name__}"
     if not isinstance(answer, dict) or answer.get("type") != "Scheduler":
-        raise SchedulerUnavailable(f"{where}: something answers there, but not as a Dask scheduler does; expected "
-                                   "the address `dask scheduler` prints")
+        raise SchedulerUnavailable(
+            f"{where}: something answers there, but not as a Dask scheduler does; expected "
+            "the address `dask scheduler` prints"
+        )
 
 
 def _execute_dask(todo, solve, address, finish, parts):
@@ -292,7 +299,8 @@ def _execute_dask(todo, solve, address, finish, parts):
         return SchedulerUnavailable(
             f"--scheduler {address}: the scheduler was lost mid-sweep ({why}); the {finished} task(s) finished in "
             f"this run, and every earlier one, are kept in {parts}: start the scheduler and its workers again "
-            "(or leave out --scheduler) and run the same command to resume")
+            "(or leave out --scheduler) and run the same command to resume"
+        )
 
     with Client(address, timeout=f"{SCHEDULER_TIMEOUT_S:g}s") as client:
         futures = {client.submit(solve, t, key=f"bemcheck-{t.key}", pure=False, retries=3): t for t in todo}
@@ -312,9 +320,12 @@ def _execute_dask(todo, solve, address, finish, parts):
             if done or _workers(client) > 0:
                 idle_since, told = time.monotonic(), False
             elif not told and time.monotonic() - idle_since > NO_WORKERS_S:
-                warnings.warn(f"no Dask worker at {address} for {NO_WORKERS_S:g} s: the sweep waits for workers "
-                              f"(start them with `dask worker {address}`; Ctrl-C keeps what is finished)",
-                              SweepNotice, stacklevel=2)
+                warnings.warn(
+                    f"no Dask worker at {address} for {NO_WORKERS_S:g} s: the sweep waits for workers "
+                    f"(start them with `dask worker {address}`; Ctrl-C keeps what is finished)",
+                    SweepNotice,
+                    stacklevel=2,
+                )
                 told = True
 
 

@@ -35,8 +35,14 @@ CHECK_COARSEN = 1.5
 # ratio sqrt(N_band / N_check) below CHECK_MIN_RATIO.
 CHECK_SUBDIVIDED = 0.5
 CHECK_MIN_RATIO = 1.25
-SURFACE_ARRAYS = ("surface_pressure", "velocity_triangles", "velocity_values", "mesh_vertices", "mesh_triangles",
-                  "mesh_domains")
+SURFACE_ARRAYS = (
+    "surface_pressure",
+    "velocity_triangles",
+    "velocity_values",
+    "mesh_vertices",
+    "mesh_triangles",
+    "mesh_domains",
+)
 
 
 def _column_order(case):
@@ -51,8 +57,10 @@ def _alone_groups(case, mesh, order):
     """(domain tags, solver columns) of every body carrying a source, for ``solve_frequency(alone=...)``."""
 
     column = np.argsort(order)  # case source i sits in solver column column[i]
-    return [(mesh.tags_of_body(name), [int(column[i]) for i, s in enumerate(case.sources) if s.on == name])
-            for name in bodies_with_sources(case)]
+    return [
+        (mesh.tags_of_body(name), [int(column[i]) for i, s in enumerate(case.sources) if s.on == name])
+        for name in bodies_with_sources(case)
+    ]
 
 
 def solve_case_frequency(case, mesh, frequency, directions, alone=False):
@@ -77,8 +85,9 @@ def solve_case_frequency(case, mesh, frequency, directions, alone=False):
     x = np.array([case.sources[i].position for i in points]).reshape(-1, 3)
     obs = np.array([p.at for p in case.observers.points]).reshape(-1, 3)
     groups_alone = _alone_groups(case, mesh, order) if alone and mesh.n_triangles else ()
-    sol = solve_frequency(mesh, frequency, case.medium, x, directions.unit, obs, pistons=groups, alone=groups_alone,
-                          floor=case.floor)
+    sol = solve_frequency(
+        mesh, frequency, case.medium, x, directions.unit, obs, pistons=groups, alone=groups_alone, floor=case.floor
+    )
     back = np.argsort(order)  # solver column j holds case source order[j]
     arrays = {
         "far_field": sol.far_field[:, back],
@@ -109,8 +118,10 @@ def subdivided(mesh):
     vertices = np.vstack([mesh.vertices, 0.5 * (mesh.vertices[unique[:, 0]] + mesh.vertices[unique[:, 1]])])
     a, b, c = tri.T
     ab, bc, ca = mid.T
-    children = np.stack([np.stack([a, ab, ca], 1), np.stack([ab, b, bc], 1), np.stack([ca, bc, c], 1),
-                         np.stack([ab, bc, ca], 1)], axis=1).reshape(-1, 3)
+    children = np.stack(
+        [np.stack([a, ab, ca], 1), np.stack([ab, b, bc], 1), np.stack([ca, bc, c], 1), np.stack([ab, bc, ca], 1)],
+        axis=1,
+    ).reshape(-1, 3)
     return SurfaceMesh(vertices, children, np.repeat(np.asarray(mesh.domains), 4), dict(mesh.groups))
 
 
@@ -168,7 +179,6 @@ def bem_task(case, task, cache_dir=None):
         Meta: mesh and timings.
     """
 
-
     start = time.perf_counter()
     if not case.bodies:  # nothing scatters: the solver answers the free field
         mesh = SurfaceMesh(np.zeros((0, 3)), np.zeros((0, 3), dtype=int), np.zeros(0, dtype=int))
@@ -187,12 +197,17 @@ def bem_task(case, task, cache_dir=None):
         "elements": int(mesh.n_triangles),
         "unknowns": int(mesh.n_vertices),
         "element_size": float(sol.element_size),
-        "elements_per_wavelength": float(sol.elements_per_wavelength) if np.isfinite(sol.elements_per_wavelength) else 0.0,
+        "elements_per_wavelength": float(sol.elements_per_wavelength)
+        if np.isfinite(sol.elements_per_wavelength)
+        else 0.0,
         "device": sol.device,
         "seconds": seconds,
         "timings": {k: float(v) for k, v in sol.seconds.items()},
-        "summary": (f"{mesh.n_triangles} elements, {sol.elements_per_wavelength:.1f}/λ, {seconds:.1f} s"
-                    if mesh.n_triangles else f"no bodies (free field), {seconds:.1f} s"),
+        "summary": (
+            f"{mesh.n_triangles} elements, {sol.elements_per_wavelength:.1f}/λ, {seconds:.1f} s"
+            if mesh.n_triangles
+            else f"no bodies (free field), {seconds:.1f} s"
+        ),
     }
     return arrays, meta
 
@@ -234,7 +249,9 @@ def stored_solve(case, frequency, arrays):
 
     if any(name not in arrays for name in SURFACE_ARRAYS):
         return None
-    mesh = SurfaceMesh(arrays["mesh_vertices"], arrays["mesh_triangles"].astype(int), arrays["mesh_domains"].astype(int))
+    mesh = SurfaceMesh(
+        arrays["mesh_vertices"], arrays["mesh_triangles"].astype(int), arrays["mesh_domains"].astype(int)
+    )
     pressure = np.full((mesh.n_vertices, arrays["surface_pressure"].shape[1]), np.nan + 0j)
     pressure[surface_from_mesh(mesh).mesh_vertex] = arrays["surface_pressure"]
     order, points, _ = _column_order(case)

@@ -40,8 +40,9 @@ def mesh_cache_lines(case, bands, cache_dir=None):
         counts = []
         for refine in (1.0, 1.0 / CHECK_COARSEN):
             try:
-                found = sum((folder / f"{mesh_key(b, band.element_size, base_dir, refine)}.npz").is_file()
-                            for b in case.bodies)
+                found = sum(
+                    (folder / f"{mesh_key(b, band.element_size, base_dir, refine)}.npz").is_file() for b in case.bodies
+                )
             except BemcheckInputError as exc:  # an unreadable mesh file: the run itself will say so
                 return lines + [f"  not probed: {exc}"]
             counts.append(found)

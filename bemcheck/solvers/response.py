@@ -69,7 +69,11 @@ def free_response(frequency, medium, sources, directions, points, floor=None):
     """
     sources = np.atleast_2d(np.asarray(sources, dtype=float))
     points = np.asarray(points, dtype=float).reshape(-1, 3)
-    p = halfspace.transfer_matrix(frequency, medium, sources, points, floor) if len(points) else np.zeros((0, len(sources)), complex)
+    p = (
+        halfspace.transfer_matrix(frequency, medium, sources, points, floor)
+        if len(points)
+        else np.zeros((0, len(sources)), complex)
+    )
     return FieldResponse(
         frequency=float(frequency),
         far_field=halfspace.far_field_matrix(frequency, medium, sources, directions, floor),

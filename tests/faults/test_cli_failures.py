@@ -23,8 +23,12 @@ from bemcheck.cli import main
 from bemcheck.run.store import LOCK, LockOwner, RunLock
 from tests.support.cases import BOX_BODY, case_text
 
-BOX_CASE = case_text("Box meshed in three bands (invented test case)", "list = [500.0, 1000.0, 2000.0]",
-                     mesh="elements_per_wavelength = 10\nband_octaves = 1", bodies=BOX_BODY)
+BOX_CASE = case_text(
+    "Box meshed in three bands (invented test case)",
+    "list = [500.0, 1000.0, 2000.0]",
+    mesh="elements_per_wavelength = 10\nband_octaves = 1",
+    bodies=BOX_BODY,
+)
 
 # A command that fails inside bemcheck (not bad input): exit 1 and a log.
 _BROKEN = "the case hash went missing (a bug planted by the test)"
@@ -77,8 +81,13 @@ def test_full_temporary_folder_leaves_no_cut_short_log(tmp_path):
         "resource.setrlimit(resource.RLIMIT_FSIZE, (512, 512))\n"
         "sys.exit(cli.main(['examples']))\n"
     )
-    proc = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, timeout=300,
-                          env={**os.environ, "TMPDIR": str(logs)})
+    proc = subprocess.run(
+        [sys.executable, "-c", script],
+        capture_output=True,
+        text=True,
+        timeout=300,
+        env={**os.environ, "TMPDIR": str(logs)},
+    )
     assert proc.returncode == 1, proc.stderr
     assert f"internal failure: RuntimeError: {_BROKEN}" in proc.stderr
     assert "the traceback could not be written to a log" in proc.stderr and "Traceback" not in proc.stderr
@@ -99,7 +108,7 @@ def test_mesh_into_a_folder_another_command_holds_is_refused(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "another bemcheck run is writing into this folder" in err and "bemcheck run, process" in err
     assert sorted(p.name for p in out.iterdir()) == []
-    assert not (tmp_path / "cache").exists()      # refused before meshing
+    assert not (tmp_path / "cache").exists()  # refused before meshing
     assert main(["mesh", str(case), "--out", str(out), "--mesh-cache", str(tmp_path / "cache")]) == 0
     assert len(list(out.glob("*.msh"))) == 3 and not (out / LOCK).exists()
 
@@ -110,8 +119,9 @@ def test_two_concurrent_mesh_commands_one_is_refused(tmp_path, capsys):
     case, out = _case(tmp_path), tmp_path / "out"
     argv = ["mesh", str(case), "--out", str(out), "--mesh-cache", str(tmp_path / "cache")]
     for _ in range(5):
-        first = subprocess.Popen([sys.executable, "-m", "bemcheck", *argv], stdout=subprocess.PIPE,
-                                 stderr=subprocess.PIPE, text=True)
+        first = subprocess.Popen(
+            [sys.executable, "-m", "bemcheck", *argv], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True
+        )
         seen = False
         end = time.monotonic() + 300
         while first.poll() is None and time.monotonic() < end:

@@ -35,28 +35,44 @@ from bemcheck.run.runner import case_hash
 from bemcheck.run.store import LOCK, PARTS, LockOwner
 from tests.support.cases import BOX_BODY, CIRCLE_30, case_text
 
-BOX_CASE = case_text("Interrupted box (invented test case)", "list = [200.0, 300.0, 400.0]",
-                     mesh="elements_per_wavelength = 6\nband_octaves = 4", bodies=BOX_BODY,
-                     observers=CIRCLE_30 + 'points = [ { name = "ear", at = [0.0, 1.0, 0.0] } ]\n')
+BOX_CASE = case_text(
+    "Interrupted box (invented test case)",
+    "list = [200.0, 300.0, 400.0]",
+    mesh="elements_per_wavelength = 6\nband_octaves = 4",
+    bodies=BOX_BODY,
+    observers=CIRCLE_30 + 'points = [ { name = "ear", at = [0.0, 1.0, 0.0] } ]\n',
+)
 
 # No bodies: the BEM path answers the free field without a solver compile,
 # so a sweep of 50 tasks (49 frequencies and a self-check) takes seconds and
 # its writes are what there is to interrupt.
-FREE_CASE = case_text("Interrupted free sweep (invented test case, no bodies)", "start = 100.0\nstop = 1600.0\nper_octave = 12",
-                      mesh="band_octaves = 8")
+FREE_CASE = case_text(
+    "Interrupted free sweep (invented test case, no bodies)",
+    "start = 100.0\nstop = 1600.0\nper_octave = 12",
+    mesh="band_octaves = 8",
+)
 
 RESUME_HINT = "run the same command again to resume"
-WAIT = 600.0          # seconds; a generous bound on any one run on a loaded machine
+WAIT = 600.0  # seconds; a generous bound on any one run on a loaded machine
 
 
 def _run_argv(case, out, cache):
-    return [sys.executable, "-m", "bemcheck", "run", str(case), "--out", str(out),
-            "--mesh-cache", str(cache), "--no-report"]
+    return [
+        sys.executable,
+        "-m",
+        "bemcheck",
+        "run",
+        str(case),
+        "--out",
+        str(out),
+        "--mesh-cache",
+        str(cache),
+        "--no-report",
+    ]
 
 
 def _start(case, out, cache):
-    return subprocess.Popen(_run_argv(case, out, cache), stdout=subprocess.PIPE,
-                            stderr=subprocess.PIPE, text=True)
+    return subprocess.Popen(_run_argv(case, out, cache), stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
 
 
 def _finish(proc, timeout=WAIT):
@@ -146,8 +162,8 @@ def test_a_second_run_into_the_same_folder_is_refused(box, tmp_path):
     assert "Traceback" not in err
     assert reference.proc.poll() is None, "the first run ended before the second was refused"
     assert _holds_lock(reference.out, reference.proc)
-    assert names() <= before | {PARTS, "results.nc", "summary.json"}   # the first run's own
-    assert not (tmp_path / "cache").exists()          # it never reached meshing
+    assert names() <= before | {PARTS, "results.nc", "summary.json"}  # the first run's own
+    assert not (tmp_path / "cache").exists()  # it never reached meshing
 
 
 def test_killed_while_meshing_and_solving_then_resumed_to_the_same_numbers(box, tmp_path):
@@ -197,7 +213,7 @@ def test_killed_while_meshing_and_solving_then_resumed_to_the_same_numbers(box, 
 
     code, _, err = _finish(_start(case, out, cache))
     assert code == 0, err
-    assert err.count("(stored)") == stored                  # resumed, not recomputed
+    assert err.count("(stored)") == stored  # resumed, not recomputed
     assert not (out / LOCK).exists() and not _temporaries(out)
     _assert_same_results(reference.result(), out)
 
@@ -214,14 +230,14 @@ def test_killed_during_writes_then_resumed(tmp_path):
     landed, attempts, where = 0, 0, []
     while landed < 3 and attempts < 12:
         attempts += 1
-        old = set(_temporaries(out))                        # the rerun removes these when it takes the lock
+        old = set(_temporaries(out))  # the rerun removes these when it takes the lock
         proc = _start(case, out, cache)
         if not _wait_for(lambda old=old: bool(set(_temporaries(out)) - old), proc, poll=0.0002):
-            assert _finish(proc)[0] == 0                    # the run ended between two polls
+            assert _finish(proc)[0] == 0  # the run ended between two polls
             continue
         proc.kill()
         assert _finish(proc)[0] == -signal.SIGKILL
-        cut = set(_temporaries(out)) - old                  # its temporary outlived it: killed mid-write
+        cut = set(_temporaries(out)) - old  # its temporary outlived it: killed mid-write
         landed += bool(cut)
         where += ["results" if p.name.startswith(".results") else "a task" for p in cut]
     print(f"kills inside a write: {landed} of {attempts} ({', '.join(where)})")
@@ -256,8 +272,13 @@ def test_results_record_versions_device_and_case_hash(box):
     importlib.metadata reports it), the device, and the case's fingerprint."""
     case, reference = box
     attrs = bemcheck.load_results(reference.result()).attrs
-    for attr, dist in (("bemcheck_version", "bemcheck"), ("bempp_cl_version", "bempp-cl"),
-                       ("gmsh_version", "gmsh"), ("numpy_version", "numpy"), ("scipy_version", "scipy")):
+    for attr, dist in (
+        ("bemcheck_version", "bemcheck"),
+        ("bempp_cl_version", "bempp-cl"),
+        ("gmsh_version", "gmsh"),
+        ("numpy_version", "numpy"),
+        ("scipy_version", "scipy"),
+    ):
         assert attrs[attr] == version(dist), attr
     assert attrs["device"] == "numba"
     assert attrs["case_hash"] == case_hash(load_case(case))
@@ -289,7 +310,9 @@ def test_a_nan_answer_is_never_stored_nor_written(tmp_path, monkeypatch, capsys)
     assert 0 < len(kept) < 50 and not (out / "results.nc").exists() and not _temporaries(out)
     for path in kept:
         with np.load(path) as z:
-            assert all(np.isfinite(z[k]).all() for k in z.files if not k.startswith("__"))  # __meta__, __key__, __checksum__: text
+            assert all(
+                np.isfinite(z[k]).all() for k in z.files if not k.startswith("__")
+            )  # __meta__, __key__, __checksum__: text
 
 
 def test_nearly_coincident_controls_are_warned_and_regularised(tmp_path, capsys):
@@ -298,8 +321,10 @@ def test_nearly_coincident_controls_are_warned_and_regularised(tmp_path, capsys)
     W_min / W_p = 1 - sinc²(kd) (Nelson, Curtis, Elliott & Bullmore 1987,
     J. Sound Vib. 116(3) 397-414, for a primary and one control d apart;
     the equation number, 3.7, from memory)."""
-    text = FREE_CASE.replace('at = [-0.3, 0.0, 0.0]',
-                             'at = [-0.3, 0.0, 0.0]\n[[source]]\nname = "c2"\nrole = "control"\nat = [-0.3, 2e-6, 0.0]')
+    text = FREE_CASE.replace(
+        "at = [-0.3, 0.0, 0.0]",
+        'at = [-0.3, 0.0, 0.0]\n[[source]]\nname = "c2"\nrole = "control"\nat = [-0.3, 2e-6, 0.0]',
+    )
     text = text.replace("start = 100.0\nstop = 1600.0\nper_octave = 12", "list = [100.0, 200.0]")
     case = tmp_path / "twins.toml"
     case.write_text(text)

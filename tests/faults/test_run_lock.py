@@ -31,8 +31,14 @@ def _lock_text(folder):
 
 
 def _write_owner(folder, **fields):
-    owner = {"pid": os.getppid(), "host": socket.gethostname(), "started": process_start(os.getppid()),
-             "boot": store.boot_id(), "command": "run", "since": time.time()}
+    owner = {
+        "pid": os.getppid(),
+        "host": socket.gethostname(),
+        "started": process_start(os.getppid()),
+        "boot": store.boot_id(),
+        "command": "run",
+        "since": time.time(),
+    }
     owner.update(fields)
     (folder / LOCK).write_text(json.dumps(owner))
 
@@ -180,7 +186,7 @@ def test_a_lock_that_is_a_folder_is_refused_and_left_alone(tmp_path, capsys):
     (tmp_path / LOCK).mkdir()
     (tmp_path / LOCK / "note").write_text("someone's file\n")
     old = time.time() - 3600.0
-    os.utime(tmp_path / LOCK, (old, old))              # long past the grace for an unwritten lock
+    os.utime(tmp_path / LOCK, (old, old))  # long past the grace for an unwritten lock
     with pytest.raises(BemcheckInputError, match="a folder where bemcheck keeps its lock file"):
         with RunLock(tmp_path):
             pass

@@ -54,17 +54,21 @@ def test_damaged_and_foreign_parts_are_reported_and_recomputed(tmp_path, capsys)
     assert "Traceback" not in err
     warned = [line for line in err.splitlines() if line.startswith("bemcheck: warning: ")]
     assert len(warned) == 4, "\n".join(warned)
-    why = {"truncated": "not a readable part", "garbage": "not a readable part", "empty": "an empty file",
-           "foreign": "the answer of another task"}
+    why = {
+        "truncated": "not a readable part",
+        "garbage": "not a readable part",
+        "empty": "an empty file",
+        "foreign": "the answer of another task",
+    }
     for name, path in damaged.items():
         (line,) = [w for w in warned if str(path) in w]
         assert why[name] in line and " Hz is " in line and "computed again" in line, line
     progress = [line for line in err.splitlines() if line.startswith("[")]
-    assert sum("(stored)" not in line for line in progress) == 4        # only the four were solved again
+    assert sum("(stored)" not in line for line in progress) == 4  # only the four were solved again
     a, b = bemcheck.load_results(clean), bemcheck.load_results(out)
     for name in a.data_vars:
         np.testing.assert_array_equal(a[name].values, b[name].values, err_msg=name)
-    code, err, _ = _run(tmp_path, "out", capsys)                          # replaced: all good now
+    code, err, _ = _run(tmp_path, "out", capsys)  # replaced: all good now
     assert code == 0 and "warning" not in err
 
 

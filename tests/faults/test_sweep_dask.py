@@ -23,7 +23,9 @@ DASK = Path(sys.executable).with_name("dask")
 
 def _spawn(args, log):
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
-    return subprocess.Popen([str(DASK), *args], cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT, start_new_session=True)
+    return subprocess.Popen(
+        [str(DASK), *args], cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT, start_new_session=True
+    )
 
 
 @pytest.fixture
@@ -32,7 +34,12 @@ def cluster(tmp_path):
         pytest.skip("the dask command is not installed beside this Python")
     sched_file = tmp_path / "scheduler.json"
     log = open(tmp_path / "dask.log", "w")
-    procs = [_spawn(["scheduler", "--host", "127.0.0.1", "--port", "0", "--no-dashboard", "--scheduler-file", str(sched_file)], log)]
+    procs = [
+        _spawn(
+            ["scheduler", "--host", "127.0.0.1", "--port", "0", "--no-dashboard", "--scheduler-file", str(sched_file)],
+            log,
+        )
+    ]
     deadline = time.monotonic() + 60
     while not sched_file.exists():
         if time.monotonic() > deadline:
@@ -42,7 +49,10 @@ def cluster(tmp_path):
 
     address = json.loads(sched_file.read_text())["address"]
     workers = [
-        _spawn(["worker", address, "--host", "127.0.0.1", "--nthreads", "1", "--no-dashboard", "--death-timeout", "60"], log)
+        _spawn(
+            ["worker", address, "--host", "127.0.0.1", "--nthreads", "1", "--no-dashboard", "--death-timeout", "60"],
+            log,
+        )
         for _ in range(2)
     ]
     procs += workers
@@ -80,7 +90,14 @@ def test_sweep_on_dask_survives_a_killed_worker(cluster, tmp_path):
 
     killer = threading.Thread(target=kill_one)
     killer.start()
-    run_case(c, tmp_path / "dask", solve=functools.partial(slow_image_task, c, delay=0.4), bands=BANDS, quiet=True, scheduler=address)
+    run_case(
+        c,
+        tmp_path / "dask",
+        solve=functools.partial(slow_image_task, c, delay=0.4),
+        bands=BANDS,
+        quiet=True,
+        scheduler=address,
+    )
     killer.join()
     assert workers[0].poll() is not None, "the worker was not killed during the sweep"
     a = bemcheck.load_results(local.folder)

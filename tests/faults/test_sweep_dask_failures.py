@@ -107,8 +107,9 @@ def test_no_scheduler_there_is_refused_in_bounded_time(kind, tmp_path, capsys, m
 
 def _scheduler(tmp_path, log):
     sched_file = tmp_path / "scheduler.json"
-    proc = _spawn(["scheduler", "--host", "127.0.0.1", "--port", "0", "--no-dashboard",
-                   "--scheduler-file", str(sched_file)], log)
+    proc = _spawn(
+        ["scheduler", "--host", "127.0.0.1", "--port", "0", "--no-dashboard", "--scheduler-file", str(sched_file)], log
+    )
     deadline = time.monotonic() + 60
     while not sched_file.exists():
         assert time.monotonic() < deadline, "the dask scheduler did not start"
@@ -117,8 +118,9 @@ def _scheduler(tmp_path, log):
 
 
 def _worker(address, log):
-    return _spawn(["worker", address, "--host", "127.0.0.1", "--nthreads", "1", "--no-dashboard",
-                   "--death-timeout", "20"], log)
+    return _spawn(
+        ["worker", address, "--host", "127.0.0.1", "--nthreads", "1", "--no-dashboard", "--death-timeout", "20"], log
+    )
 
 
 @pytest.fixture
@@ -157,8 +159,14 @@ def test_a_scheduler_lost_mid_sweep_keeps_the_finished_tasks(processes, tmp_path
     killer = threading.Thread(target=kill_scheduler)
     killer.start()
     with pytest.raises(sweep.SchedulerUnavailable) as lost:
-        run_case(c, tmp_path / "dask", solve=functools.partial(slow_image_task, c, delay=0.5), bands=BANDS,
-                 quiet=True, scheduler=address)
+        run_case(
+            c,
+            tmp_path / "dask",
+            solve=functools.partial(slow_image_task, c, delay=0.5),
+            bands=BANDS,
+            quiet=True,
+            scheduler=address,
+        )
     killer.join()
     message = str(lost.value)
     assert address in message and "lost mid-sweep" in message and "kept in" in message
@@ -168,7 +176,7 @@ def test_a_scheduler_lost_mid_sweep_keeps_the_finished_tasks(processes, tmp_path
     assert 2 <= kept < total
     calls = []
     run_case(c, tmp_path / "dask", solve=functools.partial(image_task, c, calls=calls), bands=BANDS, quiet=True)
-    assert len(calls) == total - kept       # resumed, nothing twice
+    assert len(calls) == total - kept  # resumed, nothing twice
     a, b = bemcheck.load_results(local.folder), bemcheck.load_results(tmp_path / "dask")
     for name in a.data_vars:
         np.testing.assert_array_equal(a[name].values, b[name].values, err_msg=name)
@@ -187,16 +195,22 @@ def test_without_workers_the_sweep_says_it_waits(processes, tmp_path, monkeypatc
         try:
             with warnings.catch_warnings(record=True) as caught:
                 warnings.simplefilter("always", sweep.SweepNotice)
-                run_case(c, tmp_path / "dask", solve=functools.partial(image_task, c), bands=BANDS, quiet=True,
-                         scheduler=address)
+                run_case(
+                    c,
+                    tmp_path / "dask",
+                    solve=functools.partial(image_task, c),
+                    bands=BANDS,
+                    quiet=True,
+                    scheduler=address,
+                )
             seen.extend(str(w.message) for w in caught if issubclass(w.category, sweep.SweepNotice))
         except BaseException as exc:  # handed to the test's thread
             errors.append(exc)
 
     runner = threading.Thread(target=sweep_run, daemon=True)
     runner.start()
-    time.sleep(4.0)                                     # well past NO_WORKERS_S with no worker
-    assert runner.is_alive() and not errors, errors     # it waits rather than failing
+    time.sleep(4.0)  # well past NO_WORKERS_S with no worker
+    assert runner.is_alive() and not errors, errors  # it waits rather than failing
     started.append(_worker(address, log))
     runner.join(HANG_S)
     assert not runner.is_alive() and not errors, errors

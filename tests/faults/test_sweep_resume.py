@@ -42,14 +42,25 @@ def failing_after(n, case, task, seen):
 
 def test_interrupted_sweep_resumes_to_the_same_bits(tmp_path):
     c = case()
-    whole = run_case(c, tmp_path / "whole", model="both", solve=functools.partial(image_task, c), bands=BANDS, quiet=True)
+    whole = run_case(
+        c, tmp_path / "whole", model="both", solve=functools.partial(image_task, c), bands=BANDS, quiet=True
+    )
     seen = []
     with pytest.raises(Boom):
-        run_case(c, tmp_path / "cut", model="both", solve=functools.partial(failing_after, 7, c, seen=seen), bands=BANDS, quiet=True)
+        run_case(
+            c,
+            tmp_path / "cut",
+            model="both",
+            solve=functools.partial(failing_after, 7, c, seen=seen),
+            bands=BANDS,
+            quiet=True,
+        )
     assert not (tmp_path / "cut" / "results.nc").exists()
     assert not (tmp_path / "cut" / LOCK).exists()
     calls = []
-    run_case(c, tmp_path / "cut", model="both", solve=functools.partial(image_task, c, calls=calls), bands=BANDS, quiet=True)
+    run_case(
+        c, tmp_path / "cut", model="both", solve=functools.partial(image_task, c, calls=calls), bands=BANDS, quiet=True
+    )
     assert len(calls) == len(c.frequencies) - 7  # only what was not stored
     a = bemcheck.load_results(tmp_path / "whole")
     b = bemcheck.load_results(tmp_path / "cut")

@@ -49,5 +49,8 @@ def case_text(title, frequencies, *, mesh="", bodies="", sources=SOURCE_PAIR, ob
 
 
 # No bodies: the BEM path answers the free field without a solver compile.
-FREE_CASE = case_text("Disk-full row (invented test case, no bodies)", "start = 100.0\nstop = 800.0\nper_octave = 3",
-                      mesh="band_octaves = 4")
+FREE_CASE = case_text(
+    "Disk-full row (invented test case, no bodies)",
+    "start = 100.0\nstop = 800.0\nper_octave = 3",
+    mesh="band_octaves = 4",
+)

@@ -25,9 +25,17 @@ def image_response(frequency, medium, sources, directions, points):
     d = np.asarray(directions, dtype=float)
     pts = np.asarray(points, dtype=float).reshape(-1, 3)
     upper = (d[:, 2] >= 0.0)[:, None]
-    far = (freefield.far_field_matrix(frequency, medium, x, d) + freefield.far_field_matrix(frequency, medium, mirror(x), d)) * upper
+    far = (
+        freefield.far_field_matrix(frequency, medium, x, d)
+        + freefield.far_field_matrix(frequency, medium, mirror(x), d)
+    ) * upper
     z = freefield.impedance_matrix(frequency, medium, x) + freefield.transfer_matrix(frequency, medium, mirror(x), x)
-    p = freefield.transfer_matrix(frequency, medium, x, pts) + freefield.transfer_matrix(frequency, medium, mirror(x), pts) if len(pts) else np.zeros((0, len(x)), complex)
+    p = (
+        freefield.transfer_matrix(frequency, medium, x, pts)
+        + freefield.transfer_matrix(frequency, medium, mirror(x), pts)
+        if len(pts)
+        else np.zeros((0, len(x)), complex)
+    )
     power = (z + z.conj().T) / 4.0
     return FieldResponse(float(frequency), far, p, z, power)
 
@@ -50,11 +58,21 @@ def image_task(case, task, calls=None):
     check = task.kind == "check"
     h = task.element_size * (1.5 if check else 1.0)
     scale = 1.0 + h**2
-    arrays = {"far_field": r.far_field * scale, "points": r.points * scale, "impedance": r.impedance, "power_matrix": r.power_matrix}
+    arrays = {
+        "far_field": r.far_field * scale,
+        "points": r.points * scale,
+        "impedance": r.impedance,
+        "power_matrix": r.power_matrix,
+    }
     if check:
         arrays["size_ratio"] = np.array(1.5)
     lam = case.medium.speed_of_sound / task.frequency
-    return arrays, {"elements": 100, "elements_per_wavelength": lam / task.element_size, "device": "image-source", "seconds": 0.0}
+    return arrays, {
+        "elements": 100,
+        "elements_per_wavelength": lam / task.element_size,
+        "device": "image-source",
+        "seconds": 0.0,
+    }
 
 
 def slow_image_task(case, task, delay=0.3):

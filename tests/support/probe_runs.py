@@ -109,7 +109,11 @@ def probe_runs():
         summaries[model] = bemcheck.run_case(case, root / model, model=model, quiet=True).summary
     example = bemcheck.load_case(bemcheck.example_path("free-pair"))
     summaries["example"] = bemcheck.run_case(example, root / "example", model="both", quiet=True).summary
-    if main(["explore", str(case_file), "--out", str(root / "explore"), "--mesh-cache", str(root / "cache"),
-             "--quiet"]) != 0:
+    if (
+        main(
+            ["explore", str(case_file), "--out", str(root / "explore"), "--mesh-cache", str(root / "cache"), "--quiet"]
+        )
+        != 0
+    ):
         raise RuntimeError("bemcheck explore failed on the probe case")
     return ProbeRuns(root / "free", root / "both", root / "explore", root / "example", summaries)

@@ -12,10 +12,10 @@ from tests.support.icosphere import icosphere
 def _check_colouring(triangles):
     groups = colour_triangles(triangles)
     seen = np.sort(np.concatenate(groups))
-    assert np.array_equal(seen, np.arange(len(triangles)))       # each triangle once
+    assert np.array_equal(seen, np.arange(len(triangles)))  # each triangle once
     for g in groups:
         corners = triangles[g].reshape(-1)
-        assert len(np.unique(corners)) == len(corners)            # no shared vertex in a group
+        assert len(np.unique(corners)) == len(corners)  # no shared vertex in a group
 
 
 def test_colouring_of_a_sphere():
@@ -40,7 +40,7 @@ def test_surface_curl_is_normal_cross_gradient():
     n = np.cross(p[1] - p[0], p[2] - p[0])
     n /= np.linalg.norm(n)
     curls = surface_curls(p, np.array([[0, 1, 2]]), n[None])[0]
-    grads = -np.cross(n, curls)                  # n × (n × g) = -g for tangent g
+    grads = -np.cross(n, curls)  # n × (n × g) = -g for tangent g
     assert np.allclose(curls @ n, 0.0) and np.allclose(curls.sum(axis=0), 0.0)
     for a in range(3):
         for b in range(3):

@@ -73,7 +73,9 @@ def test_near_singular_double_layer_matches_solid_angle(ratio):
     surface = one_triangle()
     size = surface.sizes[0]
     d = ratio * size
-    points = np.array([[0.4, 0.3, d], [0.5, -d / np.sqrt(2), d / np.sqrt(2)], [-d / np.sqrt(3), -d / np.sqrt(3), -d / np.sqrt(3)]])
+    points = np.array(
+        [[0.4, 0.3, d], [0.5, -d / np.sqrt(2), d / np.sqrt(2)], [-d / np.sqrt(3), -d / np.sqrt(3), -d / np.sqrt(3)]]
+    )
     got = moments(surface, points, k=1.0).solid
     exact = np.array([-solid_angle(TRI, x) / (4 * np.pi) for x in points])
     np.testing.assert_allclose(got, exact, atol=5e-6)

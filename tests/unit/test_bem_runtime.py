@@ -37,4 +37,4 @@ def test_a_solve_too_large_for_the_memory_is_refused_before_allocating():
     """2 dense N x N complex arrays at 16 bytes per entry: N = 40,000 needs 47.7 GiB."""
     with pytest.raises(BemcheckInputError, match=r"40,000 unknowns needs about 47.7 GiB.*24.0 GiB"):
         check_memory(40_000, available=24 * 1024**3)
-    check_memory(20_000, available=24 * 1024**3)      # 11.9 GiB: fits
+    check_memory(20_000, available=24 * 1024**3)  # 11.9 GiB: fits

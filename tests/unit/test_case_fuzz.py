@@ -15,13 +15,15 @@ DEMO = tomllib.loads(bemcheck.example_path("demo").read_text())
 scalars = st.one_of(
     st.none(),
     st.booleans(),
-    st.integers(-10**6, 10**6),
+    st.integers(-(10**6), 10**6),
     st.floats(allow_nan=True, allow_infinity=True),
     st.text(max_size=12),
 )
 values = st.recursive(
     scalars,
-    lambda inner: st.one_of(st.lists(inner, max_size=4), st.dictionaries(st.text(min_size=1, max_size=8), inner, max_size=4)),
+    lambda inner: st.one_of(
+        st.lists(inner, max_size=4), st.dictionaries(st.text(min_size=1, max_size=8), inner, max_size=4)
+    ),
     max_leaves=12,
 )
 

@@ -73,27 +73,80 @@ BAD = [
     ("empty frequency list", ("list = [100.0, 200.0]", "list = []"), ["frequencies.list", "at least 1"]),
     ("unknown body kind", ('kind = "box"', 'kind = "cone"'), ["body[0].kind", "'bell'"]),
     ("coincident sources", ('on = "cab"', "at = [0.0, 0.0, 0.0]"), ["source[1].at", "coincides"]),
-    ("control objective without control sources", ('role = "control"\non = "cab"', 'role = "primary"\non = "cab"\nstrength = 1e-3'), ["control.objective", "control"]),
-    ("sector out of range", ("from_deg = -45.0, to_deg = 45.0", "from_deg = -45.0, to_deg = 400.0"), ["tolerance.sectors[0].to_deg"]),
-    ("sector reversed", ("from_deg = -45.0, to_deg = 45.0", "from_deg = 45.0, to_deg = -45.0"), ["tolerance.sectors[0].to_deg"]),
-    ("spectrum without harmonics", ("strength = 1e-3", "[source.spectrum]\nfundamental = 233.0\nspl_at_1m = []"), ["source[0].spectrum.spl_at_1m", "at least 1"]),
+    (
+        "control objective without control sources",
+        ('role = "control"\non = "cab"', 'role = "primary"\non = "cab"\nstrength = 1e-3'),
+        ["control.objective", "control"],
+    ),
+    (
+        "sector out of range",
+        ("from_deg = -45.0, to_deg = 45.0", "from_deg = -45.0, to_deg = 400.0"),
+        ["tolerance.sectors[0].to_deg"],
+    ),
+    (
+        "sector reversed",
+        ("from_deg = -45.0, to_deg = 45.0", "from_deg = 45.0, to_deg = -45.0"),
+        ["tolerance.sectors[0].to_deg"],
+    ),
+    (
+        "spectrum without harmonics",
+        ("strength = 1e-3", "[source.spectrum]\nfundamental = 233.0\nspl_at_1m = []"),
+        ["source[0].spectrum.spl_at_1m", "at least 1"],
+    ),
     ("on an unknown body", ('on = "cab"', 'on = "nowhere"'), ["source[1].on", "cab"]),
     ("primary without strength", ("strength = 1e-3", ""), ["source[0].strength", "volume-velocity"]),
     ("control with strength", ('on = "cab"', 'on = "cab"\nstrength = 1.0'), ["source[1].strength", "computed"]),
     ("sector objective without sector", ('objective = "power"', 'objective = "sector"'), ["control.sector"]),
     ("delay objective without distance", ('objective = "power"', 'objective = "delay"'), ["control.delay_distance"]),
     ("bad plane", ('plane = "xy"', 'plane = "xw"'), ["observers.far_field.plane", "'xz'"]),
-    ("duplicate body names", ("[[source]]\nname = \"p\"", "[[body]]\nname = \"cab\"\nkind = \"sphere\"\nradius = 0.1\nat = [1.0, 1.0, 1.0]\n[[source]]\nname = \"p\""), ["body[1].name", "twice"]),
-    ("bell throat wider than mouth", ('kind = "box"', 'kind = "bell"\nmouth_radius = 0.1\nthroat_radius = 0.2\nlength = 0.5\nflare = 0.7\nrim_radius = 0.005'), ["body[0].throat_radius"]),
+    (
+        "duplicate body names",
+        (
+            '[[source]]\nname = "p"',
+            '[[body]]\nname = "cab"\nkind = "sphere"\nradius = 0.1\nat = [1.0, 1.0, 1.0]\n[[source]]\nname = "p"',
+        ),
+        ["body[1].name", "twice"],
+    ),
+    (
+        "bell throat wider than mouth",
+        (
+            'kind = "box"',
+            'kind = "bell"\nmouth_radius = 0.1\nthroat_radius = 0.2\nlength = 0.5\nflare = 0.7\nrim_radius = 0.005',
+        ),
+        ["body[0].throat_radius"],
+    ),
     ("box key on a sphere", ('kind = "box"', 'kind = "sphere"\nradius = 0.1'), ["body[0].size", "unknown key"]),
     ("zero axis", ("axis = [0.0, -1.0, 0.0]", "axis = [0.0, 0.0, 0.0]"), ["body[0].axis", "non-zero"]),
-    ("elements per wavelength below 4", ("[[body]]", "[mesh]\nelements_per_wavelength = 3\n[[body]]"), ["mesh.elements_per_wavelength", "≥ 4"]),
-    ("driver with impossible parameters", ("[control]", "[[driver]]\nname = \"d\"\nre = -6.0\nbl = 7.0\nmms = 0.02\ncms = 1e-3\nrms = 1.5\nsd = 0.0133\nxmax = 0.005\nvb = 0.02\nrated_power = 50.0\n[control]"), ["driver[0].re"]),
+    (
+        "elements per wavelength below 4",
+        ("[[body]]", "[mesh]\nelements_per_wavelength = 3\n[[body]]"),
+        ["mesh.elements_per_wavelength", "≥ 4"],
+    ),
+    (
+        "driver with impossible parameters",
+        (
+            "[control]",
+            '[[driver]]\nname = "d"\nre = -6.0\nbl = 7.0\nmms = 0.02\ncms = 1e-3\nrms = 1.5\nsd = 0.0133\nxmax = 0.005\nvb = 0.02\nrated_power = 50.0\n[control]',
+        ),
+        ["driver[0].re"],
+    ),
     ("unknown driver", ('on = "cab"', 'on = "cab"\ndriver = "nope"'), ["source[1].driver", "[[driver]]"]),
-    ("note without harmonics", ("[control]", "[[note]]\nname = \"Bb3\"\nfundamental = 233.0\nspl_at_1m = []\n[control]"), ["note[0].spl_at_1m", "at least 1"]),
-    ("implausible SPL", ("[control]", "[[note]]\nname = \"Bb3\"\nfundamental = 233.0\nspl_at_1m = [95.0, 400.0]\n[control]"), ["note[0].spl_at_1m[1]", "between"]),
-    ("piston in the air", ('on = "cab"', 'at = [0.0, 0.5, 0.5]\nradiator = "piston"'), ["source[1].on", "bell or a box"]),
-    ("no source", ("[[source]]\nname = \"p\"", "[[sourc]]\nname = \"p\""), ["source"]),
+    (
+        "note without harmonics",
+        ("[control]", '[[note]]\nname = "Bb3"\nfundamental = 233.0\nspl_at_1m = []\n[control]'),
+        ["note[0].spl_at_1m", "at least 1"],
+    ),
+    (
+        "implausible SPL",
+        ("[control]", '[[note]]\nname = "Bb3"\nfundamental = 233.0\nspl_at_1m = [95.0, 400.0]\n[control]'),
+        ["note[0].spl_at_1m[1]", "between"],
+    ),
+    (
+        "piston in the air",
+        ('on = "cab"', 'at = [0.0, 0.5, 0.5]\nradiator = "piston"'),
+        ["source[1].on", "bell or a box"],
+    ),
+    ("no source", ('[[source]]\nname = "p"', '[[sourc]]\nname = "p"'), ["source"]),
 ]
 
 

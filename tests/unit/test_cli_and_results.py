@@ -52,8 +52,14 @@ def test_free_run_writes_results_that_reload_to_the_same_numbers(tmp_path, capsy
     assert not list(tmp_path.glob(".*part"))
 
 
-SMALL = Schema("r.nc", (Variable("x", ("a",), "a number", "1"), Variable("z", ("a",), "a complex number", "Pa"),
-                        Variable("w", ("a",), "a length", "m")))
+SMALL = Schema(
+    "r.nc",
+    (
+        Variable("x", ("a",), "a number", "1"),
+        Variable("z", ("a",), "a complex number", "Pa"),
+        Variable("w", ("a",), "a length", "m"),
+    ),
+)
 
 
 def test_non_finite_results_are_never_written(tmp_path):
@@ -95,7 +101,21 @@ def test_free_run_prints_its_key_figures(tmp_path, capsys):
     """The attenuation printed is the one stored; at 100 Hz kd = 0.366 for d = 0.2 m, and
     the power ratio 1 - sinc²(kd) (Nelson et al. 1987, JSV 116(3)) falls as kd falls, so
     the band's lowest frequency gives its best attenuation."""
-    assert main(["run", str(bemcheck.example_path("free-pair")), "--out", str(tmp_path), "--model", "free", "--no-report", "--quiet"]) == 0
+    assert (
+        main(
+            [
+                "run",
+                str(bemcheck.example_path("free-pair")),
+                "--out",
+                str(tmp_path),
+                "--model",
+                "free",
+                "--no-report",
+                "--quiet",
+            ]
+        )
+        == 0
+    )
     out = capsys.readouterr().out
     kd = 2 * np.pi * 100.0 / 343.0 * 0.2
     best = -10 * np.log10(1 - np.sinc(kd / np.pi) ** 2)
@@ -134,9 +154,17 @@ def test_check_lists_drivers_notes_build_settings_and_the_stop_not_reached(capsy
     term not above 1000 Hz, the next (1007.9 Hz) passes it."""
     assert main(["check", str(bemcheck.example_path("demo"))]) == 0
     out = capsys.readouterr().out
-    for text in ("driver       small_4in: re 3.2 Ω", "driver       mini_3in", "note         Bb3: fundamental 233.1 Hz",
-                 "build        ear limit 85 dB(A)", "position tolerance 5 mm", "sectors: front -60 to 60 deg", "attenuation at least min(predicted, 10 dB) less 3 dB",
-                 "stop = 1000 Hz is not on the series; the top frequency is 897.97 Hz", "band         0: 100-897.97 Hz"):
+    for text in (
+        "driver       small_4in: re 3.2 Ω",
+        "driver       mini_3in",
+        "note         Bb3: fundamental 233.1 Hz",
+        "build        ear limit 85 dB(A)",
+        "position tolerance 5 mm",
+        "sectors: front -60 to 60 deg",
+        "attenuation at least min(predicted, 10 dB) less 3 dB",
+        "stop = 1000 Hz is not on the series; the top frequency is 897.97 Hz",
+        "band         0: 100-897.97 Hz",
+    ):
         assert text in out, text
 
 
@@ -166,11 +194,14 @@ def test_every_file_of_a_run_has_the_usual_mode(tmp_path, umask, mode):
 
     old = os.umask(umask)
     try:
-        bemcheck.run_case(bemcheck.load_case(bemcheck.example_path("free-pair")), tmp_path, model="both", report=True, quiet=True)
+        bemcheck.run_case(
+            bemcheck.load_case(bemcheck.example_path("free-pair")), tmp_path, model="both", report=True, quiet=True
+        )
     finally:
         os.umask(old)
     files = [p for p in tmp_path.rglob("*") if p.is_file() and p.name != ".bemcheck.lock"]
     kinds = {p.suffix for p in files}
     assert {".nc", ".json", ".html", ".png", ".svg", ".npz"} <= kinds
     assert {p.relative_to(tmp_path).as_posix(): oct(p.stat().st_mode & 0o777) for p in files} == {
-        p.relative_to(tmp_path).as_posix(): oct(mode) for p in files}
+        p.relative_to(tmp_path).as_posix(): oct(mode) for p in files
+    }

@@ -23,8 +23,11 @@ from bemcheck.run.store import PARTS
 from tests.support.cases import case_text
 
 # No bodies: the BEM path answers the free field without a solver compile.
-FREE_CASE = case_text("Verbose free sweep (invented test case, no bodies)", "list = [100.0, 200.0, 400.0]",
-                      mesh="elements_per_wavelength = 6\nband_octaves = 4")
+FREE_CASE = case_text(
+    "Verbose free sweep (invented test case, no bodies)",
+    "list = [100.0, 200.0, 400.0]",
+    mesh="elements_per_wavelength = 6\nband_octaves = 4",
+)
 
 # One 0.2 m box, 84 triangles in its band mesh, three frequencies in one band.
 BOX_CASE = (
@@ -41,9 +44,9 @@ def test_verbose_names_every_task_and_where_it_went(tmp_path, cli, case_file):
     argv = ["run", str(case), "--out", str(out), "--model", "both", "--no-report", "--verbose"]
     code, stdout, err = cli(*argv)
     assert code == 0, err
-    assert "Verdict:" in stdout and "    stored" not in stdout      # details go with the progress, not the results
+    assert "Verdict:" in stdout and "    stored" not in stdout  # details go with the progress, not the results
     files = sorted((out / PARTS).glob("*.npz"))
-    assert len(files) == 3                                          # three frequencies; no bodies, no error check
+    assert len(files) == 3  # three frequencies; no bodies, no error check
     said = STORED.findall(err)
     assert [kind for kind, _ in said] == ["stored"] * 3
     assert sorted(Path(p) for _, p in said) == files
@@ -55,7 +58,7 @@ def test_verbose_names_every_task_and_where_it_went(tmp_path, cli, case_file):
     blocks = re.split(r"^\[\d/3\] ", err, flags=re.M)[1:]
     assert len(blocks) == 3 and all("    stored: " in b for b in blocks)
 
-    code, _, err = cli(*argv)                               # the same command again: all stored
+    code, _, err = cli(*argv)  # the same command again: all stored
     assert code == 0, err
     assert [kind for kind, _ in STORED.findall(err)] == ["stored earlier"] * 3
     assert err.count("(stored)") == 3
@@ -69,7 +72,7 @@ def test_quiet_and_plain_runs_print_no_details(tmp_path, cli, case_file):
     code, _, err = cli(*base + ["--out", str(tmp_path / "p")])
     assert code == 0
     assert err.count("[") == 3 and "    stored" not in err and "mesh cache" not in err and "numerical error" not in err
-    assert main(base + ["--out", str(tmp_path / "both"), "--quiet", "--verbose"]) == 2    # one or the other
+    assert main(base + ["--out", str(tmp_path / "both"), "--quiet", "--verbose"]) == 2  # one or the other
 
 
 def test_verbose_leaves_logging_as_it_found_it(tmp_path, capsys, case_file):
@@ -100,8 +103,18 @@ def box_runs(tmp_path_factory):
     for name in ("first", "second"):
         capture = _Capture()
         with capture:
-            code = main(["run", str(case), "--out", str(root / name), "--mesh-cache", str(root / "cache"),
-                         "--no-report", "--verbose"])
+            code = main(
+                [
+                    "run",
+                    str(case),
+                    "--out",
+                    str(root / name),
+                    "--mesh-cache",
+                    str(root / "cache"),
+                    "--no-report",
+                    "--verbose",
+                ]
+            )
         assert code == 0, capture.err
         runs.append((root / name, capture.err))
     return runs
@@ -120,14 +133,20 @@ class _Capture:
 
 def test_verbose_box_mesh_figures_follow_from_the_mesh(box_runs):
     folder, err = box_runs[0]
-    meshes = re.findall(r"^    mesh: (\d+) elements, (\d+) unknowns, largest edge ([\d.]+) mm, ([\d.]+) elements per wavelength", err, re.M)
+    meshes = re.findall(
+        r"^    mesh: (\d+) elements, (\d+) unknowns, largest edge ([\d.]+) mm, ([\d.]+) elements per wavelength",
+        err,
+        re.M,
+    )
     solves = re.findall(r"^\[\d/6\] (solve|error check) +([\d.]+) Hz", err, re.M)
     assert len(meshes) == len(solves) == 6
     for (_, f), (elements, unknowns, edge_mm, epw) in zip(solves, meshes):
         elements, unknowns = int(elements), int(unknowns)
         assert unknowns == elements // 2 + 2, "a closed genus-0 surface has F/2 + 2 vertices"
         # both figures are printed rounded (0.1 and 0.1 mm): half a unit of each
-        assert float(epw) == pytest.approx(343.0 / float(f) / (float(edge_mm) / 1e3), abs=0.05 + 0.05 * float(epw) / float(edge_mm))
+        assert float(epw) == pytest.approx(
+            343.0 / float(f) / (float(edge_mm) / 1e3), abs=0.05 + 0.05 * float(epw) / float(edge_mm)
+        )
     elements = [int(m[0]) for (kind, _), m in zip(solves, meshes)]
     assert [e for (kind, _), e in zip(solves, elements) if kind == "solve"] == [84] * 3
     # the box is at its fewest triangles already: coarser would be the same mesh, so the check splits each in four
@@ -140,17 +159,23 @@ def test_verbose_box_mesh_figures_follow_from_the_mesh(box_runs):
     for parts, total, _ in times:
         named = {k: float(v) for k, v in re.findall(r"(\w[\w ,()-]*?) ([\d.]+) s", parts)}
         # each part and the total are printed to 0.01 s: up to half a unit of rounding in each
-        assert {"assembly", "lu"} <= set(named) and sum(named.values()) == pytest.approx(float(total), abs=0.005 * (len(named) + 1))
+        assert {"assembly", "lu"} <= set(named) and sum(named.values()) == pytest.approx(
+            float(total), abs=0.005 * (len(named) + 1)
+        )
 
 
 def test_verbose_box_reports_cache_hits_and_the_numerical_error(box_runs):
     (first, err1), (second, err2) = box_runs
     assert "1 of 1 body meshes found" not in err1 and "0 of 1 body meshes found, 1 to make" in err1
     assert "error check (1.5x coarser): 0 of 1 found, 1 to make" in err1
-    assert "1 of 1 body meshes found, 0 to make" in err2 and "error check (1.5x coarser): 1 of 1 found, 0 to make" in err2
+    assert (
+        "1 of 1 body meshes found, 0 to make" in err2 and "error check (1.5x coarser): 1 of 1 found, 0 to make" in err2
+    )
     for folder, err in box_runs:
         ds = bemcheck.load_results(folder)
-        said = re.search(r"  band 0 \(200-400 Hz\): up to (\S+) dB and (\S+) deg .*; ([\d.]+) elements per wavelength there", err)
+        said = re.search(
+            r"  band 0 \(200-400 Hz\): up to (\S+) dB and (\S+) deg .*; ([\d.]+) elements per wavelength there", err
+        )
         assert said, err
         assert float(said.group(1)) == pytest.approx(float(ds["numerical_error_db"].max()), rel=0.06)
         assert float(said.group(2)) == pytest.approx(float(ds["numerical_error_deg"].max()), rel=0.06)

@@ -41,17 +41,40 @@ def _write(tmp_path, text):
     return path
 
 
-@pytest.mark.parametrize("table, key, expected", [
-    ("[explore]\npoints = []\n", "explore.points", "non-empty list"),
-    ('[explore]\ngrid = { plane = "xy", origin = [0.2, 0.2, 0.0], size = [0.2, 0.2], step = 0.0 }\n', "explore.grid.step", "positive"),
-    ("[explore]\npoints = [[0.3, 0.0, 0.0], [0.0, 0.3, 0.0]]\ncontrols = 3\n", "explore.controls", "at most the number of candidates"),
-    ("[explore]\npoints = [[0.0, 0.0, 0.0], [0.05, 0.0, 0.0]]\n", "explore.points", "every candidate was dropped (0 of 2 candidates kept; dropped: 2 inside a body)"),
-    ('[explore]\npoints = [[0.3, 0.0, 0.0]]\nfixed = ["p"]\n', "explore.fixed[0]", "the name of a control source"),
-    ("", "explore", "required table is missing"),
-    ('[explore]\naround = { body = "box", offset = 0.05, step = 0.05 }\n', "explore.around.body", "the name of a body (ball)"),
-    ('[explore]\naround = { body = "ball", offset = 0.0, step = 0.05 }\n', "explore.around.offset", "positive"),
-    ('[explore]\naround = { body = "ball", offset = 0.05, step = 0.0005 }\n', "explore.around.step", "at most 5000 candidates"),
-])
+@pytest.mark.parametrize(
+    "table, key, expected",
+    [
+        ("[explore]\npoints = []\n", "explore.points", "non-empty list"),
+        (
+            '[explore]\ngrid = { plane = "xy", origin = [0.2, 0.2, 0.0], size = [0.2, 0.2], step = 0.0 }\n',
+            "explore.grid.step",
+            "positive",
+        ),
+        (
+            "[explore]\npoints = [[0.3, 0.0, 0.0], [0.0, 0.3, 0.0]]\ncontrols = 3\n",
+            "explore.controls",
+            "at most the number of candidates",
+        ),
+        (
+            "[explore]\npoints = [[0.0, 0.0, 0.0], [0.05, 0.0, 0.0]]\n",
+            "explore.points",
+            "every candidate was dropped (0 of 2 candidates kept; dropped: 2 inside a body)",
+        ),
+        ('[explore]\npoints = [[0.3, 0.0, 0.0]]\nfixed = ["p"]\n', "explore.fixed[0]", "the name of a control source"),
+        ("", "explore", "required table is missing"),
+        (
+            '[explore]\naround = { body = "box", offset = 0.05, step = 0.05 }\n',
+            "explore.around.body",
+            "the name of a body (ball)",
+        ),
+        ('[explore]\naround = { body = "ball", offset = 0.0, step = 0.05 }\n', "explore.around.offset", "positive"),
+        (
+            '[explore]\naround = { body = "ball", offset = 0.05, step = 0.0005 }\n',
+            "explore.around.step",
+            "at most 5000 candidates",
+        ),
+    ],
+)
 def test_bad_input_exits_2_naming_file_and_key_and_writes_nothing(tmp_path, capsys, table, key, expected):
     case = _write(tmp_path, table)
     out = tmp_path / "out"
@@ -66,14 +89,21 @@ def test_candidate_at_a_control_and_the_written_layout_agree_with_run(tmp_path, 
     (both minimise the power with the same solver and meshes; common practice, no source)."""
     cache = str(tmp_path / "cache")
     case = _write(tmp_path, "[explore]\npoints = [[0.12, 0.0, 0.05], [0.0, 0.14, 0.1], [-0.15, 0.0, 0.0]]\n")
-    assert main(["run", str(case), "--out", str(tmp_path / "run"), "--no-report", "--quiet", "--mesh-cache", cache]) == 0
+    assert (
+        main(["run", str(case), "--out", str(tmp_path / "run"), "--no-report", "--quiet", "--mesh-cache", cache]) == 0
+    )
     assert main(["explore", str(case), "--out", str(tmp_path / "ex"), "--quiet", "--mesh-cache", cache]) == 0
     run = read_dataset(tmp_path / "run" / "results.nc")
     ex = read_dataset(tmp_path / "ex" / "explore.nc")
     for model in ("free", "bem"):
-        assert np.allclose(ex[f"single_control_attenuation_{model}_db"].values[:, 0], run[f"attenuation_{model}_db"].values, atol=1e-6)
+        assert np.allclose(
+            ex[f"single_control_attenuation_{model}_db"].values[:, 0], run[f"attenuation_{model}_db"].values, atol=1e-6
+        )
     layout = tmp_path / "ex" / "layout.toml"
-    assert main(["run", str(layout), "--out", str(tmp_path / "run2"), "--no-report", "--quiet", "--mesh-cache", cache]) == 0
+    assert (
+        main(["run", str(layout), "--out", str(tmp_path / "run2"), "--no-report", "--quiet", "--mesh-cache", cache])
+        == 0
+    )
     run2 = read_dataset(tmp_path / "run2" / "results.nc")
     reported = ex["layout_attenuation_db"].sel(design="chosen_bem")
     for model in ("free", "bem"):
@@ -141,9 +171,15 @@ points = [[0.3, 0.0, 0.0], [-0.2, 0.2, 0.0]]
     case.write_text(text)
     assert main(["explore", str(case), "--out", str(tmp_path / "ex"), "--quiet"]) == 0
     ds = read_dataset(tmp_path / "ex" / "explore.nc")
-    for name in ("tradeoff_power_attenuation_db", "tradeoff_sector_attenuation_db", "tradeoff_objective_sector_attenuation_db"):
+    for name in (
+        "tradeoff_power_attenuation_db",
+        "tradeoff_sector_attenuation_db",
+        "tradeoff_objective_sector_attenuation_db",
+    ):
         assert ds[name].attrs["units"] == "dB" and ds[name].attrs["long_name"]
-    assert np.allclose(ds["tradeoff_objective_sector_attenuation_db"], ds["tradeoff_sector_attenuation_db"].isel(alpha=-1))
+    assert np.allclose(
+        ds["tradeoff_objective_sector_attenuation_db"], ds["tradeoff_sector_attenuation_db"].isel(alpha=-1)
+    )
     assert "centre_position" not in ds  # no source sits on a body
     layout = (tmp_path / "ex" / "layout.toml").read_text()
     assert 'objective = "power"' in layout and "sector =" not in layout and "minimum radiated power" in layout

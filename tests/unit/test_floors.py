@@ -96,7 +96,7 @@ def test_no_module_imports_itself_round():
         state[node] = "open"
         for nxt in sorted(graph.get(node, ())):
             if state.get(nxt) == "open":
-                cycle = trail[trail.index(nxt):] + [nxt]
+                cycle = trail[trail.index(nxt) :] + [nxt]
                 # a package's __init__ importing its own submodules is not a circle
                 if not all(m.startswith(cycle[0] + ".") or m == cycle[0] for m in cycle[1:-1]):
                     pytest.fail("import circle: " + " -> ".join(cycle))

@@ -14,12 +14,11 @@ from bemcheck.case.model import Case, Medium, MeshSettings
 from bemcheck.errors import CaseError
 from bemcheck.mesh import MeshNotice, band_of, plan_bands
 
-THIRD_OCTAVES = tuple(100.0 * 2 ** (k / 3) for k in range(13))   # 100 Hz .. 1.6 kHz
+THIRD_OCTAVES = tuple(100.0 * 2 ** (k / 3) for k in range(13))  # 100 Hz .. 1.6 kHz
 
 
 def case(freqs=THIRD_OCTAVES, **mesh):
-    return Case("bands", freqs, (), medium=Medium(speed_of_sound=343.0),
-                mesh=MeshSettings(**mesh))
+    return Case("bands", freqs, (), medium=Medium(speed_of_sound=343.0), mesh=MeshSettings(**mesh))
 
 
 def test_octave_bands_hold_their_frequencies():
@@ -49,11 +48,14 @@ def test_coarse_meshes_refused_or_warned():
         plan_bands(case(elements_per_wavelength=5.0))
 
 
-@pytest.mark.parametrize("freqs, mesh, words", [
-    ((), {}, "frequencies"),
-    ((0.0, 100.0), {}, "positive"),
-    ((100.0,), {"band_octaves": 0.0}, "band_octaves"),
-])
+@pytest.mark.parametrize(
+    "freqs, mesh, words",
+    [
+        ((), {}, "frequencies"),
+        ((0.0, 100.0), {}, "positive"),
+        ((100.0,), {"band_octaves": 0.0}, "band_octaves"),
+    ],
+)
 def test_bad_settings(freqs, mesh, words):
     with pytest.raises(CaseError, match=words):
         plan_bands(case(freqs, **mesh))

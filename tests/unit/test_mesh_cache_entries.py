@@ -50,8 +50,8 @@ def test_damaged_or_foreign_entry_is_a_miss(kind, tmp_path, monkeypatch):
     real = bodies._run_script
     monkeypatch.setattr(bodies, "_run_script", lambda *a: made.append(a) or real(*a))
     again = mesh_scene(scene([small]), H, tmp_path)
-    if kind != "folder":                        # a folder cannot be replaced: a warning, the run goes on
-        assert cache.load(tmp_path, entry.stem) is not None   # replaced by a good entry
+    if kind != "folder":  # a folder cannot be replaced: a warning, the run goes on
+        assert cache.load(tmp_path, entry.stem) is not None  # replaced by a good entry
     assert len(made) == 1
     np.testing.assert_array_equal(again.triangles, first.triangles)
     np.testing.assert_array_equal(again.vertices, first.vertices)

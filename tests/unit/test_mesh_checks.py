@@ -18,8 +18,7 @@ from bemcheck.mesh.checks import MeshNotice, check_surface
 from bemcheck.mesh.distance import nearest_on_surface, point_triangle_distance, winding_number
 
 OCTA_V = np.array([[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1]], float)
-OCTA_T = np.array([[0, 2, 4], [2, 1, 4], [1, 3, 4], [3, 0, 4],
-                   [2, 0, 5], [1, 2, 5], [3, 1, 5], [0, 3, 5]])
+OCTA_T = np.array([[0, 2, 4], [2, 1, 4], [1, 3, 4], [3, 0, 4], [2, 0, 5], [1, 2, 5], [3, 1, 5], [0, 3, 5]])
 
 
 def volume(v, t):
@@ -45,15 +44,18 @@ def test_two_bodies_one_inverted_is_refused():
         check_surface(v, t, "pair")
 
 
-@pytest.mark.parametrize("make, words", [
-    (lambda v, t: (v, t[1:]), r"hole .* edge between vertices \d+ \("),
-    (lambda v, t: (np.vstack([v, [[2, 2, 2]]]), np.vstack([t, [[0, 2, 6]]])), "non-manifold"),
-    (lambda v, t: (v, np.vstack([t[:1, ::-1], t[1:]])), "mixed orientation"),
-    (lambda v, t: (np.vstack([v, [[0.5, 0.5, 0]]]), np.vstack([t, [[0, 2, 6]]])), "degenerate"),
-    (lambda v, t: (np.where(np.arange(6)[:, None] == 4, np.nan, v), t), "NaN"),
-    (lambda v, t: (v, t[:0]), "no triangles"),
-    (lambda v, t: (v, np.vstack([t, t + 6]) % 11), "outside 0..5"),
-])
+@pytest.mark.parametrize(
+    "make, words",
+    [
+        (lambda v, t: (v, t[1:]), r"hole .* edge between vertices \d+ \("),
+        (lambda v, t: (np.vstack([v, [[2, 2, 2]]]), np.vstack([t, [[0, 2, 6]]])), "non-manifold"),
+        (lambda v, t: (v, np.vstack([t[:1, ::-1], t[1:]])), "mixed orientation"),
+        (lambda v, t: (np.vstack([v, [[0.5, 0.5, 0]]]), np.vstack([t, [[0, 2, 6]]])), "degenerate"),
+        (lambda v, t: (np.where(np.arange(6)[:, None] == 4, np.nan, v), t), "NaN"),
+        (lambda v, t: (v, t[:0]), "no triangles"),
+        (lambda v, t: (v, np.vstack([t, t + 6]) % 11), "outside 0..5"),
+    ],
+)
 def test_broken_surfaces_are_named(make, words):
     v, t = make(OCTA_V.copy(), OCTA_T.copy())
     with pytest.raises(GeometryError, match=words) as info:
@@ -65,7 +67,7 @@ def test_sheets_touching_at_a_vertex_are_refused():
     # two octahedra sharing the vertex (1, 0, 0): every edge is fine, the vertex is not
     v = np.vstack([OCTA_V, OCTA_V + [2, 0, 0]])
     t2 = OCTA_T + 6
-    t2[t2 == 7] = 0              # the second one's (1, 0, 0) corner is the first's
+    t2[t2 == 7] = 0  # the second one's (1, 0, 0) corner is the first's
     with pytest.raises(GeometryError, match=r"non-manifold vertex 0 \(1, 0, 0\)"):
         check_surface(v, np.vstack([OCTA_T, t2]), "bowtie")
 
@@ -77,7 +79,7 @@ def test_point_triangle_distance_against_dense_sampling():
     d = point_triangle_distance(pts, tri)
     u, w = np.meshgrid(np.linspace(0, 1, 201), np.linspace(0, 1, 201))
     keep = u + w <= 1
-    bary = np.stack([1 - u[keep] - w[keep], u[keep], w[keep]], axis=1)   # (m, 3)
+    bary = np.stack([1 - u[keep] - w[keep], u[keep], w[keep]], axis=1)  # (m, 3)
     samples = np.einsum("mk,nkj->nmj", bary, tri)
     brute = np.linalg.norm(samples - pts[:, None], axis=2).min(axis=1)
     assert np.all(d <= brute + 1e-12)

@@ -17,22 +17,20 @@ from bemcheck.errors import GeometryError
 from bemcheck.mesh import MeshNotice, read_mesh_file
 
 OCTA_V = np.array([[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1]], float)
-OCTA_T = np.array([[0, 2, 4], [2, 1, 4], [1, 3, 4], [3, 0, 4],
-                   [2, 0, 5], [1, 2, 5], [3, 1, 5], [0, 3, 5]])
+OCTA_T = np.array([[0, 2, 4], [2, 1, 4], [1, 3, 4], [3, 0, 4], [2, 0, 5], [1, 2, 5], [3, 1, 5], [0, 3, 5]])
 
 
 def write_stl(path, v, t, ascii=False):
     m = stl_mesh.Mesh(np.zeros(len(t), dtype=stl_mesh.Mesh.dtype))
     m.vectors[:] = np.asarray(v, float)[t]
-    m.save(str(path), mode=1 if ascii else 2)   # stl.Mode.ASCII = 1, BINARY = 2
+    m.save(str(path), mode=1 if ascii else 2)  # stl.Mode.ASCII = 1, BINARY = 2
     return path
 
 
 def volume_area(v, t):
     p = v[t]
     c = np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0])
-    return np.einsum("ij,ij->i", p[:, 0], np.cross(p[:, 1], p[:, 2])).sum() / 6, \
-        0.5 * np.linalg.norm(c, axis=1).sum()
+    return np.einsum("ij,ij->i", p[:, 0], np.cross(p[:, 1], p[:, 2])).sum() / 6, 0.5 * np.linalg.norm(c, axis=1).sum()
 
 
 @pytest.mark.parametrize("ascii", [False, True], ids=["binary", "ascii"])
@@ -41,7 +39,7 @@ def test_stl_round_trip(tmp_path, ascii):
     with warnings.catch_warnings():
         warnings.simplefilter("error", MeshNotice)
         v, t = read_mesh_file(path, scale=0.1)
-    assert len(v) == 6 and len(t) == 8          # facet corners merged into shared vertices
+    assert len(v) == 6 and len(t) == 8  # facet corners merged into shared vertices
     vol, area = volume_area(v, t)
     assert vol == pytest.approx(4 / 3 * 1e-3, rel=1e-6)
     assert area == pytest.approx(4 * math.sqrt(3) * 1e-2, rel=1e-6)
@@ -61,8 +59,12 @@ def _cases():
     return [
         ("holed", OCTA_V, OCTA_T[1:], r"hole.*\(-?[\d.]+, -?[\d.]+, -?[\d.]+\)"),
         ("fin", fin_v, np.vstack([OCTA_T, [[0, 2, 6]]]), "non-manifold"),
-        ("degenerate", np.vstack([OCTA_V, [[0.5, 0.5, 0]]]), np.vstack([OCTA_T, [[0, 2, 6]]]),
-         r"triangle 8 is degenerate"),
+        (
+            "degenerate",
+            np.vstack([OCTA_V, [[0.5, 0.5, 0]]]),
+            np.vstack([OCTA_T, [[0, 2, 6]]]),
+            r"triangle 8 is degenerate",
+        ),
         ("mixed", OCTA_V, np.vstack([OCTA_T[:1, ::-1], OCTA_T[1:]]), "mixed orientation"),
         ("nan", nan_v, OCTA_T, "NaN"),
     ]
@@ -104,8 +106,7 @@ def test_millimetre_drawing_without_scale_warns(tmp_path):
 
 def test_obj_quads_and_volume_meshes(tmp_path):
     cube = np.array([[x, y, z] for z in (0, 1) for y in (0, 1) for x in (0, 1)], float)
-    quads = np.array([[0, 2, 3, 1], [4, 5, 7, 6], [0, 1, 5, 4],
-                      [2, 6, 7, 3], [0, 4, 6, 2], [1, 3, 7, 5]])
+    quads = np.array([[0, 2, 3, 1], [4, 5, 7, 6], [0, 1, 5, 4], [2, 6, 7, 3], [0, 4, 6, 2], [1, 3, 7, 5]])
     meshio.write(tmp_path / "cube.obj", meshio.Mesh(cube, [("quad", quads)]))
     v, t = read_mesh_file(tmp_path / "cube.obj")
     assert volume_area(v, t) == pytest.approx((1.0, 6.0), rel=1e-12)

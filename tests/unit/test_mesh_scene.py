@@ -25,8 +25,7 @@ H = 0.05
 
 
 def scene(bodies_=(), sources=(), points=(), freqs=(500.0,)):
-    return Case("scene", freqs, tuple(sources), bodies=tuple(bodies_),
-                observers=Observers(points=tuple(points)))
+    return Case("scene", freqs, tuple(sources), bodies=tuple(bodies_), observers=Observers(points=tuple(points)))
 
 
 def ball(name, at, radius=0.05):
@@ -35,8 +34,7 @@ def ball(name, at, radius=0.05):
 
 def test_groups_tags_and_placement(tmp_path):
     cab = Body("cab1", Box((0.1, 0.2, 0.3)), at=(1.0, 0.0, 0.0), axis=(1.0, 0.0, 0.0))
-    case = scene([Body("bell", Bell(0.1, 0.02, 0.3, 0.8, 0.005)), cab,
-                  ball("head", (0.0, 1.0, 0.0))])
+    case = scene([Body("bell", Bell(0.1, 0.02, 0.3, 0.8, 0.005)), cab, ball("head", (0.0, 1.0, 0.0))])
     mesh = mesh_scene(case, H, tmp_path)
     assert mesh.groups == {"bell": 1, "bell.mouth": 2, "cab1": 3, "cab1.driver": 4, "head": 5}
     assert set(np.unique(mesh.domains)) == {1, 2, 3, 4, 5}
@@ -116,8 +114,7 @@ def test_damaged_cache_entry_is_remade(tmp_path):
 
 def test_file_body_relative_to_the_case(tmp_path):
     octa_v = np.array([[1, 0, 0], [-1, 0, 0], [0, 1, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1]], float)
-    octa_t = np.array([[0, 2, 4], [2, 1, 4], [1, 3, 4], [3, 0, 4],
-                       [2, 0, 5], [1, 2, 5], [3, 1, 5], [0, 3, 5]])
+    octa_t = np.array([[0, 2, 4], [2, 1, 4], [1, 3, 4], [3, 0, 4], [2, 0, 5], [1, 2, 5], [3, 1, 5], [0, 3, 5]])
     (tmp_path / "parts").mkdir()
     meshio.write(tmp_path / "parts" / "octa.ply", meshio.Mesh(octa_v * 100, [("triangle", octa_t)]))
     body = Body("cad", MeshFile("parts/octa.ply", scale=0.001), at=(0, 0, 1))
@@ -129,11 +126,12 @@ def test_file_body_relative_to_the_case(tmp_path):
 
 
 def test_write_band_meshes_and_table(tmp_path):
-    case = scene([ball("head", (0, 0, 0)), Body("cab", Box((0.1, 0.1, 0.1)), at=(0.4, 0, 0))],
-                 freqs=(200.0, 300.0, 1000.0, 2000.0))
+    case = scene(
+        [ball("head", (0, 0, 0)), Body("cab", Box((0.1, 0.1, 0.1)), at=(0.4, 0, 0))],
+        freqs=(200.0, 300.0, 1000.0, 2000.0),
+    )
     stats = write_band_meshes(case, tmp_path / "out", tmp_path / "cache")
-    assert [(s.band.f_low, s.band.f_high) for s in stats] == [(200.0, 300.0), (1000.0, 1000.0),
-                                                            (2000.0, 2000.0)]
+    assert [(s.band.f_low, s.band.f_high) for s in stats] == [(200.0, 300.0), (1000.0, 1000.0), (2000.0, 2000.0)]
     for s in stats:
         assert s.max_edge <= s.band.element_size
         assert s.worst_aspect >= 1.0

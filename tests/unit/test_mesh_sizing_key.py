@@ -13,8 +13,8 @@ BODY = Body("s", Sphere(0.05))
 
 def test_key_follows_the_sizing_rule(monkeypatch):
     before = mesh_key(BODY, 0.1)
-    assert mesh_key(BODY, 0.1) == before                       # deterministic
-    assert mesh_key(BODY, 0.1 * 1.5) != before                 # the coarse self-check mesh is its own entry
+    assert mesh_key(BODY, 0.1) == before  # deterministic
+    assert mesh_key(BODY, 0.1 * 1.5) != before  # the coarse self-check mesh is its own entry
     monkeypatch.setattr(_sizing, "SIZING_RULE", _sizing.SIZING_RULE + 1)
     assert mesh_key(BODY, 0.1) != before
     monkeypatch.undo()

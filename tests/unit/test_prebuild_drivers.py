@@ -19,8 +19,7 @@ from bemcheck.prebuild import (
 
 AIR = Medium(speed_of_sound=343.0, density=1.21)
 # Invented driver, the same as in tests/verification/test_prebuild_closed_box.py.
-DEMO = Driver("demo", re=6.0, bl=7.0, mms=0.020, cms=1e-3, rms=1.5, sd=0.0133,
-              xmax=5e-3, vb=0.020, rated_power=50.0)
+DEMO = Driver("demo", re=6.0, bl=7.0, mms=0.020, cms=1e-3, rms=1.5, sd=0.0133, xmax=5e-3, vb=0.020, rated_power=50.0)
 
 
 def test_valid_driver_has_no_problems():

@@ -16,10 +16,8 @@ from bemcheck.prebuild import Demand, Driver, check_drivers, primary_volume_velo
 
 AIR = Medium(speed_of_sound=343.0, density=1.21)
 NOTE = Spectrum(58.27, (100.0, 94.0, 90.0, 86.0))
-DEMO = Driver("demo", re=6.0, bl=7.0, mms=0.020, cms=1e-3, rms=1.5, sd=0.0133,
-              xmax=5e-3, vb=0.020, rated_power=50.0)
-BIG = Driver("big", re=5.5, bl=15.0, mms=0.09, cms=0.3e-3, rms=2.0, sd=0.05,
-             xmax=0.012, vb=0.08, rated_power=300.0)
+DEMO = Driver("demo", re=6.0, bl=7.0, mms=0.020, cms=1e-3, rms=1.5, sd=0.0133, xmax=5e-3, vb=0.020, rated_power=50.0)
+BIG = Driver("big", re=5.5, bl=15.0, mms=0.09, cms=0.3e-3, rms=2.0, sd=0.05, xmax=0.012, vb=0.08, rated_power=300.0)
 
 
 def test_primary_volume_velocity_by_hand():
@@ -136,8 +134,11 @@ def test_note_direction_as_azimuth_and_elevation():
     """direction = [azimuth, elevation] in degrees: (cos e cos a, cos e sin a, sin e), azimuth
     from +x toward +y, elevation toward +z; [90, 0] is +y, [0, 90] is +z, [225, -30] is
     (-0.6124, -0.6124, -0.5)."""
-    for angles, unit in (([90.0, 0.0], (0.0, 1.0, 0.0)), ([0.0, 90.0], (0.0, 0.0, 1.0)),
-                         ([225.0, -30.0], (-0.612372, -0.612372, -0.5))):
+    for angles, unit in (
+        ([90.0, 0.0], (0.0, 1.0, 0.0)),
+        ([0.0, 90.0], (0.0, 0.0, 1.0)),
+        ([225.0, -30.0], (-0.612372, -0.612372, -0.5)),
+    ):
         note = _measured(where=f"direction = {angles}\ndistance = 2.0").played[0]
         assert note.direction == pytest.approx(unit, abs=1e-6)
         assert note.distance == 2.0
@@ -145,8 +146,10 @@ def test_note_direction_as_azimuth_and_elevation():
 
 def test_a_primary_spectrum_is_measured_from_its_own_primary():
     """A [source.spectrum] is measured from the primary it belongs to; on no body, along +x."""
-    spec = MEASURED.replace('at = [-1.0, 0.0, 0.0]\nstrength = 1e-3',
-                            'at = [-1.0, 0.0, 0.0]\n[source.spectrum]\nfundamental = 50.0\nspl_at_1m = [80.0]\ndistance = 3.0')
+    spec = MEASURED.replace(
+        "at = [-1.0, 0.0, 0.0]\nstrength = 1e-3",
+        "at = [-1.0, 0.0, 0.0]\n[source.spectrum]\nfundamental = 50.0\nspl_at_1m = [80.0]\ndistance = 3.0",
+    )
     from bemcheck.case import parse_case
 
     case = parse_case(spec.format(own="strength = 1e-3", where=""))

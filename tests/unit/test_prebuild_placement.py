@@ -150,16 +150,30 @@ def test_a_held_control_stays_exactly_where_designed():
 def test_bad_weights_are_refused(weights):
     xc = [[0.1, 0.0, 0.0], [-0.1, 0.0, 0.0]]
     with pytest.raises(ValueError, match="weights"):
-        placement_spread(lambda x: impedance_matrix(150.0, AIR, x), [[0, 0, 0]], [1.0], xc, [-0.5, -0.4], 0.01,
-                         trials=5, weights=weights)
+        placement_spread(
+            lambda x: impedance_matrix(150.0, AIR, x),
+            [[0, 0, 0]],
+            [1.0],
+            xc,
+            [-0.5, -0.4],
+            0.01,
+            trials=5,
+            weights=weights,
+        )
 
 
 def test_a_sweep_without_surface_solutions_says_so(tmp_path):
     """Parts from a solver that keeps no surface solution (here the image-source stand-in):
     the study with scattering is not computed and says why; the free-field figures stand."""
     case = layout()
-    run = run_case(case, tmp_path, model="both", solve=functools.partial(image_task, case),
-                   bands=(Band(0, 100.0, 200.0, 0.1),), quiet=True)
+    run = run_case(
+        case,
+        tmp_path,
+        model="both",
+        solve=functools.partial(image_task, case),
+        bands=(Band(0, 100.0, 200.0, 0.1),),
+        quiet=True,
+    )
     ps = run.summary["before_build"]["placement_scattered"]
     assert ps["moved"] == ["loose"]
     assert all(r["reason"] == "the sweep's stored parts hold no surface solution" for r in ps["rows"])
@@ -191,8 +205,16 @@ def test_the_part_format_enters_every_task_key(monkeypatch):
 def test_a_piston_cannot_be_moved_through_a_stored_solve():
     """A velocity source is part of the scatterer: asking for it moved is refused."""
     none = SurfaceMesh(np.zeros((0, 3)), np.zeros((0, 3), int), np.zeros(0, int))
-    stored = StoredSolve(100.0, np.zeros((1, 3)), np.zeros((2, 2), complex), np.zeros((0, 2), complex),
-                         np.zeros((0, 1)), none, np.array([0, 1]), np.array([[0.0, 0, 0], [0.5, 0, 0]]))
+    stored = StoredSolve(
+        100.0,
+        np.zeros((1, 3)),
+        np.zeros((2, 2), complex),
+        np.zeros((0, 2), complex),
+        np.zeros((0, 1)),
+        none,
+        np.array([0, 1]),
+        np.array([[0.0, 0, 0], [0.5, 0, 0]]),
+    )
     assert stored.movable.tolist() == [True, False]
     assert stored.clearance().tolist() == [np.inf, 0.0]
     z_at = stored.impedance_at(AIR, [0, 1])

@@ -57,7 +57,7 @@ def test_attribution_instrument_or_controls():
     raised = ear_levels(["ear"], at, amplitude([[80.0]]), amplitude([[90.0]]))
     assert raised.raised_by_control[0] and not raised.instrument_over[0]
     # in phase: the controls alone give 90 - 80 dB of pressure, 20 log10(10^4.5 - 10^4) dB
-    assert raised.dba_controls[0] == pytest.approx(20 * np.log10(10 ** 4.5 - 10 ** 4.0), abs=1e-9)
+    assert raised.dba_controls[0] == pytest.approx(20 * np.log10(10**4.5 - 10**4.0), abs=1e-9)
     assert raised.spl_controls.shape == (1, 1)
 
 
@@ -72,12 +72,38 @@ def test_low_frequency_energy_is_discounted():
 
 def test_drive_power_over_rating_gives_caution():
     quiet = amplitude([[60.0, 60.0, 60.0]])
-    over = DriveRow("c1", "demo", "demo note", 1, frequency_hz=58.27, demand="designed", volume_velocity_peak_m3s=0.08,
-                    voltage_rms_v=25.1, current_rms_a=5.0, excursion_peak_m=1.6e-2, electrical_power_w=150.0,
-                    nominal_power_w=210.3, excursion_margin_db=-10.3, power_margin_db=-6.2)
-    within = DriveRow("c1", "demo", "demo note", 2, frequency_hz=116.5, demand="designed", volume_velocity_peak_m3s=0.02,
-                      voltage_rms_v=13.7, current_rms_a=2.0, excursion_peak_m=2.0e-3, electrical_power_w=20.0,
-                      nominal_power_w=31.3, excursion_margin_db=7.7, power_margin_db=2.0)
+    over = DriveRow(
+        "c1",
+        "demo",
+        "demo note",
+        1,
+        frequency_hz=58.27,
+        demand="designed",
+        volume_velocity_peak_m3s=0.08,
+        voltage_rms_v=25.1,
+        current_rms_a=5.0,
+        excursion_peak_m=1.6e-2,
+        electrical_power_w=150.0,
+        nominal_power_w=210.3,
+        excursion_margin_db=-10.3,
+        power_margin_db=-6.2,
+    )
+    within = DriveRow(
+        "c1",
+        "demo",
+        "demo note",
+        2,
+        frequency_hz=116.5,
+        demand="designed",
+        volume_velocity_peak_m3s=0.02,
+        voltage_rms_v=13.7,
+        current_rms_a=2.0,
+        excursion_peak_m=2.0e-3,
+        electrical_power_w=20.0,
+        nominal_power_w=31.3,
+        excursion_margin_db=7.7,
+        power_margin_db=2.0,
+    )
     r = ear_levels(["ear"], F, quiet, quiet, drive_rows=[over, within])
     assert len(r.cautions) == 1
     assert r.cautions[0].startswith("c1 (demo), demo note harmonic 1 at 58.3 Hz (designed): needs 210 W, 6.2 dB over")

@@ -58,8 +58,9 @@ def test_spread_grows_with_tolerance(distribution):
     away hurts, to first order)."""
     d = 0.1
     tols = [0.0, 0.002, 0.005, 0.01, 0.02, 0.04]
-    spreads = [placement_spread(freefield_at, *one_control(d), t, trials=300, rng=7,
-                                distribution=distribution) for t in tols]
+    spreads = [
+        placement_spread(freefield_at, *one_control(d), t, trials=300, rng=7, distribution=distribution) for t in tols
+    ]
     widths = [s.width_db for s in spreads]
     losses = [s.designed_db - s.values_db[0] for s in spreads]
     assert widths[0] == pytest.approx(0.0, abs=1e-9)

@@ -92,8 +92,18 @@ def test_a_run_speaks_within_seconds_and_never_falls_silent(tmp_path):
     """`bemcheck run` on the demo: the first line comes within seconds (meshing, compiling
     and the first frequency take tens of seconds), and no gap between lines is much longer
     than HEARTBEAT_S while the kernels compile. The process is stopped after that."""
-    argv = [sys.executable, "-m", "bemcheck", "run", str(bemcheck.example_path("demo")), "--out", str(tmp_path / "run"),
-            "--mesh-cache", str(tmp_path / "cache"), "--no-report"]
+    argv = [
+        sys.executable,
+        "-m",
+        "bemcheck",
+        "run",
+        str(bemcheck.example_path("demo")),
+        "--out",
+        str(tmp_path / "run"),
+        "--mesh-cache",
+        str(tmp_path / "cache"),
+        "--no-report",
+    ]
     start = time.monotonic()
     proc = subprocess.Popen(argv, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True)
     stamps = []

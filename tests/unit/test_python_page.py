@@ -23,7 +23,10 @@ def test_the_python_page_runs_as_written(tmp_path, monkeypatch):
 
     ds = bemcheck.load_results("out/stand-lower")
     original = next(s for s in bemcheck.load_case(bemcheck.example_path("demo")).sources if s.name == "ctl_stand")
-    np.testing.assert_allclose(ds["source_position"].sel(source="ctl_stand").values,
-                               np.array(original.position) + [0.0, 0.0, -0.05], atol=1e-12)
+    np.testing.assert_allclose(
+        ds["source_position"].sel(source="ctl_stand").values,
+        np.array(original.position) + [0.0, 0.0, -0.05],
+        atol=1e-12,
+    )
     assert isinstance(space["run"].summary["verdict"]["passed"], bool)
     assert (tmp_path / "out/stand-lower/attenuation.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"

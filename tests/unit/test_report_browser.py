@@ -27,7 +27,9 @@ pytestmark = pytest.mark.skipif(chromium_path() is None, reason=f"{CHROMIUM} not
 def floor_page(tmp_path_factory):
     case, ds, verdict = floor_run()
     folder = tmp_path_factory.mktemp("browser")
-    return write_report(folder, ds, {"verdict": json.loads(json.dumps(verdict_summary(verdict)))}, mesh=cube_mesh(), case=case)
+    return write_report(
+        folder, ds, {"verdict": json.loads(json.dumps(verdict_summary(verdict)))}, mesh=cube_mesh(), case=case
+    )
 
 
 def test_report_renders_with_every_image_loaded_and_a_quiet_console(floor_page, tmp_path):
@@ -63,8 +65,8 @@ def test_the_check_catches_a_broken_image_and_a_blocked_network_fetch(tmp_path):
         "document.body.setAttribute('data-images',ok===im.length?'all-loaded':ok+' of '+im.length);});"
     )
     page.write_text(
-        "<!DOCTYPE html><html><head><meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'; "
-        "img-src data:; script-src 'unsafe-inline'\"></head><body data-images=\"pending\">"
+        '<!DOCTYPE html><html><head><meta http-equiv="Content-Security-Policy" content="default-src \'none\'; '
+        'img-src data:; script-src \'unsafe-inline\'"></head><body data-images="pending">'
         '<img src="data:image/png;base64,AAAA"><img src="http://192.0.2.1/x.png">'
         f"<script>{script}</script></body></html>"
     )

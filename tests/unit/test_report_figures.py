@@ -81,8 +81,16 @@ def floor_run(error_scale=0.05, per_octave=3):
     f = np.array(case.frequencies)
     # a check 'mesh' 1.5x coarser whose far fields differ by 1.25 times a relative error growing as f²
     rel = 10.0 ** (error_scale * (f / 500.0) ** 2 / 20.0) - 1.0
-    check = [FieldResponse(r.frequency, r.far_field * (1.0 + 1.25 * e), r.points, r.impedance * (1.0 + 1.25 * e),
-                           r.power_matrix * (1.0 + 1.25 * e) ** 2) for r, e in zip(bem, rel)]
+    check = [
+        FieldResponse(
+            r.frequency,
+            r.far_field * (1.0 + 1.25 * e),
+            r.points,
+            r.impedance * (1.0 + 1.25 * e),
+            r.power_matrix * (1.0 + 1.25 * e) ** 2,
+        )
+        for r, e in zip(bem, rel)
+    ]
     ds, verdict = combine(case, d, free, bem, check, np.full(len(bem), 1.5))
     ds.attrs.update(run_attributes(case, "0123456789abcdef"))
     return case, ds, verdict
@@ -129,8 +137,15 @@ def test_every_figure_is_written_as_png_and_svg(floor_figures):
     """A run with both models and a mesh gives all five kinds of figure, each a real PNG
     (PNG signature, ISO/IEC 15948:2004 sec. 5.2) with an SVG twin."""
     written, out = floor_figures
-    assert set(written) == {"shortfall_map", "departure_map_bell", "phase_map_bell", "polar_controlled",
-                            "attenuation", "departure_by_sector", "layout"}
+    assert set(written) == {
+        "shortfall_map",
+        "departure_map_bell",
+        "phase_map_bell",
+        "polar_controlled",
+        "attenuation",
+        "departure_by_sector",
+        "layout",
+    }
     for name, png in written.items():
         data = png.read_bytes()
         assert data[:8] == PNG_MAGIC and len(data) > 5000, name
@@ -231,7 +246,9 @@ def test_plane_directions_on_a_lebedev_sphere():
     from bemcheck.observers import sphere
 
     d = sphere(41, "xy")
-    ds = xr.Dataset(coords={"azimuth_deg": ("direction", d.azimuth_deg), "elevation_deg": ("direction", d.elevation_deg)})
+    ds = xr.Dataset(
+        coords={"azimuth_deg": ("direction", d.azimuth_deg), "elevation_deg": ("direction", d.elevation_deg)}
+    )
     idx = plane_directions(ds)
     assert idx.size >= 8
     np.testing.assert_allclose(d.unit[idx, 2], 0.0, atol=1e-12)

@@ -17,7 +17,17 @@ from bemcheck.results.schema import RESULTS
 from bemcheck.results.verdict_summary import verdict_from_summary, verdict_summary
 from tests.unit.test_report_figures import PNG_MAGIC, cube_mesh, floor_run, free_run
 
-SECTIONS = ("summary", "verdict", "trust-limits", "attenuation", "figures", "mesh", "numerical-error", "case", "cautions")
+SECTIONS = (
+    "summary",
+    "verdict",
+    "trust-limits",
+    "attenuation",
+    "figures",
+    "mesh",
+    "numerical-error",
+    "case",
+    "cautions",
+)
 BAND_STATS = [
     {"band": 1, "f_low": 63.0, "f_high": 125.0, "elements": 512, "min_edge_m": 0.011, "worst_aspect": 1.9},
     {"band": 2, "f_low": 125.0, "f_high": 250.0, "elements": 2048, "min_edge_m": 0.006, "worst_aspect": 2.2},
@@ -29,7 +39,10 @@ def floor_report(tmp_path_factory):
     case, ds, verdict = floor_run()
     folder = tmp_path_factory.mktemp("run")
     summary = {"case_hash": ds.attrs["case_hash"], "verdict": json.loads(json.dumps(verdict_summary(verdict)))}
-    extra = [("Mesh per band", records_rows(BAND_STATS)), ("Driver checks", [("driver", "note"), ("D1 <x>", "ok & fine")])]
+    extra = [
+        ("Mesh per band", records_rows(BAND_STATS)),
+        ("Driver checks", [("driver", "note"), ("D1 <x>", "ok & fine")]),
+    ]
     path = write_report(folder, ds, summary, mesh=cube_mesh(), extra_sections=extra)
     return path, ds, summary
 
@@ -100,7 +113,10 @@ def test_free_only_report_says_the_bem_was_not_run(tmp_path):
     # Two monopoles d = 0.2 m apart, minimum power: -10 log10(1 - sinc² kd)
     # (Nelson, Curtis, Elliott & Bullmore 1987, J. Sound Vib. 116(3) 397-414; from memory).
     kd = 2 * np.pi * 100.0 / case.medium.speed_of_sound * 0.2
-    assert f"<td>100 Hz</td><td>{ds['power_free_primary'].values[0]:.3e} W</td><td>{-10 * np.log10(1 - np.sinc(kd / np.pi) ** 2):.1f} dB</td>" in page
+    assert (
+        f"<td>100 Hz</td><td>{ds['power_free_primary'].values[0]:.3e} W</td><td>{-10 * np.log10(1 - np.sinc(kd / np.pi) ** 2):.1f} dB</td>"
+        in page
+    )
 
 
 def test_report_run_reads_a_run_folder_and_names_missing_files(tmp_path):
@@ -149,7 +165,9 @@ def test_no_mesh_is_explained_not_reported_as_a_fault(tmp_path):
     page = write_report(tmp_path / "free", ds, {}).read_text(encoding="utf-8")
     assert "This layout has no bodies: nothing scatters and nothing was meshed." in page
     assert "No mesh was given" not in page
-    run = bemcheck.run_case(bemcheck.load_case(bemcheck.example_path("demo")), tmp_path / "demo", model="free", quiet=True)
+    run = bemcheck.run_case(
+        bemcheck.load_case(bemcheck.example_path("demo")), tmp_path / "demo", model="free", quiet=True
+    )
     page = report_run(run.folder).read_text(encoding="utf-8")
     assert "A free-field run: the bodies are not meshed" in page
 
@@ -157,5 +175,5 @@ def test_no_mesh_is_explained_not_reported_as_a_fault(tmp_path):
 def test_the_page_has_a_print_stylesheet_that_lifts_the_scroll_boxes(tmp_path):
     case, ds = free_run()
     page = write_report(tmp_path, ds, {}).read_text(encoding="utf-8")
-    media = page[page.index("@media print{"):]
+    media = page[page.index("@media print{") :]
     assert ".scroll{max-height:none;overflow:visible" in media and "thead{display:table-header-group}" in media

@@ -37,13 +37,43 @@ points = [ {{ name = "listener_front", at = {ear} }} ]
 
 LAYOUTS = {
     # plane, body mesh, primary, control, observer point [m]
-    "cube in xz": ("xz", voxel_body([[[True]]], 0.2, origin=(-0.1, -0.1, 0.4)), [0.0, 0.0, 0.4], [-0.2, 0.0, 0.35], [0.1, 0.2, 0.6]),
-    "wide xy": ("xy", voxel_body([[[True]]], 0.2, origin=(-0.1, -0.1, 0.0)), [0.78, 0.52, 0.0], [-0.75, 0.09, 0.0], [0.0, -0.2, 0.3]),
-    "long bar in yz": ("yz", voxel_body(np.ones((6, 1, 1), bool), 0.1, origin=(-0.3, 0.0, 0.0)), [0.3, 0.1, 0.05], [-0.3, -0.1, 0.05], [0.0, 0.5, 0.0]),
-    "tall column in xz": ("xz", voxel_body(np.ones((1, 1, 8), bool), 0.1, origin=(0.0, 0.0, 0.0)), [0.2, 0.0, 0.8], [-0.2, 0.0, 0.1], [0.5, 0.0, 0.4]),
+    "cube in xz": (
+        "xz",
+        voxel_body([[[True]]], 0.2, origin=(-0.1, -0.1, 0.4)),
+        [0.0, 0.0, 0.4],
+        [-0.2, 0.0, 0.35],
+        [0.1, 0.2, 0.6],
+    ),
+    "wide xy": (
+        "xy",
+        voxel_body([[[True]]], 0.2, origin=(-0.1, -0.1, 0.0)),
+        [0.78, 0.52, 0.0],
+        [-0.75, 0.09, 0.0],
+        [0.0, -0.2, 0.3],
+    ),
+    "long bar in yz": (
+        "yz",
+        voxel_body(np.ones((6, 1, 1), bool), 0.1, origin=(-0.3, 0.0, 0.0)),
+        [0.3, 0.1, 0.05],
+        [-0.3, -0.1, 0.05],
+        [0.0, 0.5, 0.0],
+    ),
+    "tall column in xz": (
+        "xz",
+        voxel_body(np.ones((1, 1, 8), bool), 0.1, origin=(0.0, 0.0, 0.0)),
+        [0.2, 0.0, 0.8],
+        [-0.2, 0.0, 0.1],
+        [0.5, 0.0, 0.4],
+    ),
     "small sphere in xy": ("xy", icosphere(0.02, 3), [0.05, 0.0, 0.0], [-0.05, 0.0, 0.0], [0.0, 0.05, 0.0]),
     # the control straight above the primary and the ear beside them: one spot across the xy plane
-    "stacked in xy": ("xy", voxel_body([[[True]]], 0.1, origin=(-0.3, -0.05, -0.05)), [0.0, 0.0, 0.0], [0.0, 0.0, 0.2], [0.01, 0.0, 0.0]),
+    "stacked in xy": (
+        "xy",
+        voxel_body([[[True]]], 0.1, origin=(-0.3, -0.05, -0.05)),
+        [0.0, 0.0, 0.0],
+        [0.0, 0.0, 0.2],
+        [0.01, 0.0, 0.0],
+    ),
 }
 
 
@@ -93,8 +123,9 @@ def test_axis_labels_clear_every_other_text(name):
         clashes = []
         for label in labels:
             mine = extent[id(label)]
-            assert fig.bbox.x0 <= mine.x0 and mine.x1 <= fig.bbox.x1 and fig.bbox.y0 <= mine.y0 and mine.y1 <= fig.bbox.y1, \
-                f"{label.get_text()!r} leaves the figure: {mine}"
+            assert (
+                fig.bbox.x0 <= mine.x0 and mine.x1 <= fig.bbox.x1 and fig.bbox.y0 <= mine.y0 and mine.y1 <= fig.bbox.y1
+            ), f"{label.get_text()!r} leaves the figure: {mine}"
             for other, bb in texts:
                 if other is not label and mine.overlaps(bb):
                     clashes.append(f"{label.get_text()!r} at {mine.bounds} on {other.get_text()!r} at {bb.bounds}")
@@ -141,9 +172,14 @@ def test_point_names_clear_every_other_text_and_stay_in_the_figure(name):
         clashes = []
         for tag in names:
             mine = tag.get_window_extent(renderer)
-            assert fig.bbox.x0 <= mine.x0 and mine.x1 <= fig.bbox.x1 and fig.bbox.y0 <= mine.y0 and mine.y1 <= fig.bbox.y1
-            clashes += [f"{tag.get_text()!r} on {other.get_text()!r}" for other, bb in texts
-                        if other is not tag and mine.overlaps(bb)]
+            assert (
+                fig.bbox.x0 <= mine.x0 and mine.x1 <= fig.bbox.x1 and fig.bbox.y0 <= mine.y0 and mine.y1 <= fig.bbox.y1
+            )
+            clashes += [
+                f"{tag.get_text()!r} on {other.get_text()!r}"
+                for other, bb in texts
+                if other is not tag and mine.overlaps(bb)
+            ]
         assert not clashes, "; ".join(clashes)
 
 

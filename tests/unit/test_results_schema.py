@@ -13,9 +13,19 @@ from bemcheck.results.schema import EXPLORE, RESULTS
 from tests.support.probe_runs import probe_runs
 
 README = Path(__file__).resolve().parents[2] / "README.md"
-TINY = Schema("tiny.nc", (Variable("x", ("x",), "position", "m", coordinate=True),
-                          Variable("p_{model}", ("x",), "pressure {model}", "Pa",
-                                   choices=(Choice("model", (("free", "free"), ("bem", "BEM"))),))))
+TINY = Schema(
+    "tiny.nc",
+    (
+        Variable("x", ("x",), "position", "m", coordinate=True),
+        Variable(
+            "p_{model}",
+            ("x",),
+            "pressure {model}",
+            "Pa",
+            choices=(Choice("model", (("free", "free"), ("bem", "BEM"))),),
+        ),
+    ),
+)
 
 
 def test_an_undeclared_variable_is_refused_and_nothing_is_written(tmp_path):
@@ -45,13 +55,19 @@ def test_booleans_get_byte_flag_values():
     assert out["ok"].attrs["flag_values"].dtype == np.int8 and out["ok"].attrs["flag_meanings"] == "no yes"
 
 
-@pytest.mark.parametrize("make, message", [
-    (lambda: Variable("p_{model}", (), "p"), r"placeholders \['model'\] but choices \[\]"),
-    (lambda: Variable("f", (), "f", "1", flags=Flags((0,), ("x",))), "not units"),
-    (lambda: Flags((0, 1), ("one",)), "one word"),
-    (lambda: Flags((0,), ("two words",)), "one word"),
-    (lambda: Schema("d.nc", (Variable("a", (), "a", "1"), Variable("a", (), "b", "1"))), "declared more than once: a"),
-])
+@pytest.mark.parametrize(
+    "make, message",
+    [
+        (lambda: Variable("p_{model}", (), "p"), r"placeholders \['model'\] but choices \[\]"),
+        (lambda: Variable("f", (), "f", "1", flags=Flags((0,), ("x",))), "not units"),
+        (lambda: Flags((0, 1), ("one",)), "one word"),
+        (lambda: Flags((0,), ("two words",)), "one word"),
+        (
+            lambda: Schema("d.nc", (Variable("a", (), "a", "1"), Variable("a", (), "b", "1"))),
+            "declared more than once: a",
+        ),
+    ],
+)
 def test_malformed_declarations_are_refused(make, message):
     with pytest.raises(SchemaError, match=message):
         make()

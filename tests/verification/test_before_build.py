@@ -125,7 +125,9 @@ def test_controls_raising_an_ear_level_are_a_no_go(tmp_path):
     0.01 dB(A) (A-weighting IEC 61672-1:2013, energy sum over harmonics), and instrument +
     controls = total, complex, at every harmonic and point."""
     text = CASE.format(driver="big").replace("spl_at_1m = [50.0, 96.0, 80.0]", "spl_at_1m = [50.0, 78.0, 60.0]")
-    case = parse_case(text.replace('at = [-0.3, 0.1, 0.0] }', 'at = [0.13, 0.0, 0.0] }, { name = "far", at = [-0.5, 0.4, 0.2] }'))
+    case = parse_case(
+        text.replace("at = [-0.3, 0.1, 0.0] }", 'at = [0.13, 0.0, 0.0] }, { name = "far", at = [-0.5, 0.4, 0.2] }')
+    )
     out = run_case(case, tmp_path, model="free")
     bb = out.summary["before_build"]
     ears = [i for i in bb["items"] if "observer points" in i["check"]]
@@ -157,13 +159,22 @@ def test_drive_figures_carry_their_units(tmp_path):
     case = parse_case(CASE.format(driver="big"))
     out = run_case(case, tmp_path, model="free")
     drives = out.summary["before_build"]["drives"]
-    assert {"frequency_hz", "volume_velocity_peak_m3s", "voltage_rms_v", "current_rms_a", "excursion_peak_m",
-            "electrical_power_w", "excursion_margin_db", "power_margin_db", "demand"} <= set(drives[0])
+    assert {
+        "frequency_hz",
+        "volume_velocity_peak_m3s",
+        "voltage_rms_v",
+        "current_rms_a",
+        "excursion_peak_m",
+        "electrical_power_w",
+        "excursion_margin_db",
+        "power_margin_db",
+        "demand",
+    } <= set(drives[0])
     assert [r["demand"] for r in drives[:2]] == ["designed", "reoptimised"] and len(drives) == 6
     d = case.drivers[1]
     for r in drives:
         u = r["volume_velocity_peak_m3s"] / d.sd
-        assert r["electrical_power_w"] == pytest.approx(r["current_rms_a"] ** 2 * d.re + 0.5 * d.rms * u ** 2, rel=1e-9)
+        assert r["electrical_power_w"] == pytest.approx(r["current_rms_a"] ** 2 * d.re + 0.5 * d.rms * u**2, rel=1e-9)
     ds = bemcheck.load_results(tmp_path)
     v = ds["drive_voltage_rms_v"].sel(source="c")
     assert v.dims == ("harmonic", "demand") and ds["drive_voltage_rms_v"].attrs["units"] == "V"

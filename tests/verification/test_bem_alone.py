@@ -18,8 +18,12 @@ from tests.support.icosphere import icosphere
 
 
 def _two(a, b):
-    return SurfaceMesh(np.vstack([a.vertices, b.vertices]), np.vstack([a.triangles, b.triangles + a.n_vertices]),
-                       np.concatenate([a.domains, b.domains]), {**a.groups, **b.groups})
+    return SurfaceMesh(
+        np.vstack([a.vertices, b.vertices]),
+        np.vstack([a.triangles, b.triangles + a.n_vertices]),
+        np.concatenate([a.domains, b.domains]),
+        {**a.groups, **b.groups},
+    )
 
 
 def test_block_solve_equals_the_body_alone():
@@ -30,7 +34,11 @@ def test_block_solve_equals_the_body_alone():
     scene = solve_frequency(_two(own, other), 700.0, Medium(), x, d, alone=[([1], [0]), ([2], [1])])
     for mesh, column in ((own, 0), (other, 1)):
         alone = solve_frequency(mesh, 700.0, Medium(), x, d)
-        np.testing.assert_allclose(scene.own_far_field[:, column], alone.far_field[:, column], rtol=1e-9,
-                                   atol=1e-12 * np.abs(alone.far_field[:, column]).max())
+        np.testing.assert_allclose(
+            scene.own_far_field[:, column],
+            alone.far_field[:, column],
+            rtol=1e-9,
+            atol=1e-12 * np.abs(alone.far_field[:, column]).max(),
+        )
     # the other sphere does scatter: the scene differs from either body alone
     assert np.abs(scene.far_field[:, 0] - scene.own_far_field[:, 0]).max() > 1e-3 * np.abs(scene.far_field[:, 0]).max()

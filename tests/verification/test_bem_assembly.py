@@ -58,7 +58,9 @@ def _bempp_velocity(grid, support, k, eta):
     dp0 = bempp().function_space(grid, "DP", 0, support_elements=support)
     helm = bempp().operators.boundary.helmholtz
     opts = _options()
-    return _dense(helm.single_layer(dp0, p1, p1, k, **opts)) + eta * _dense(helm.adjoint_double_layer(dp0, p1, p1, k, **opts))
+    return _dense(helm.single_layer(dp0, p1, p1, k, **opts)) + eta * _dense(
+        helm.adjoint_double_layer(dp0, p1, p1, k, **opts)
+    )
 
 
 MEDIUM = Medium(343.0, 1.2)
@@ -97,7 +99,9 @@ def test_velocity_operators_are_bempp_cl_to_round_off(body):
 
 
 def _far_field(monkeypatch, mesh, f, x0, **rules):
-    monkeypatch.setattr(bem_system, "burton_miller_matrix", functools.partial(bem_assembly.burton_miller_matrix, **rules))
+    monkeypatch.setattr(
+        bem_system, "burton_miller_matrix", functools.partial(bem_assembly.burton_miller_matrix, **rules)
+    )
     return solve_frequency(mesh, f, MEDIUM, [x0], DIRECTIONS).far_field[:, 0]
 
 
@@ -117,5 +121,7 @@ def test_fast_rules_give_the_field_of_bempp_cl_rules(monkeypatch):
     assert np.abs(20 * np.log10(np.abs(fast / slow))).max() < 0.002
     assert np.degrees(np.abs(np.angle(fast / slow))).max() < 0.02
     ka = 2 * np.pi * f / MEDIUM.speed_of_sound
-    exact = series.far_field_ratio(ka, 2.0, THETA) * freefield.far_field_matrix(f, MEDIUM, [[0, 0, 0]], DIRECTIONS)[:, 0]
+    exact = (
+        series.far_field_ratio(ka, 2.0, THETA) * freefield.far_field_matrix(f, MEDIUM, [[0, 0, 0]], DIRECTIONS)[:, 0]
+    )
     assert np.abs(20 * np.log10(np.abs(fast / exact))).max() < 0.1

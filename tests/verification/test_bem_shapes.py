@@ -56,7 +56,9 @@ def monopole_velocity(mesh, x0, frequency):
 def errors(mesh, x0, frequency, points, coupling=None):
     """Worst level [dB] and phase [deg] error of far field and points against the monopole."""
     v = monopole_velocity(mesh, x0, frequency)
-    sol = solve_frequency(mesh, frequency, MEDIUM, np.zeros((0, 3)), DIRECTIONS, points, velocities=v, power=False, coupling=coupling)
+    sol = solve_frequency(
+        mesh, frequency, MEDIUM, np.zeros((0, 3)), DIRECTIONS, points, velocities=v, power=False, coupling=coupling
+    )
     far = sol.far_field[:, 0] / freefield.far_field_matrix(frequency, MEDIUM, [x0], DIRECTIONS)[:, 0]
     near = sol.points[:, 0] / freefield.transfer_matrix(frequency, MEDIUM, [x0], points)[:, 0]
     e = np.concatenate([far, near])

@@ -49,8 +49,12 @@ def run_pair(zp=0.3, xc=0.15, zc=0.3, world=image_response, check_scale=None):
     bem = [world(f, case.medium, x, d.unit, np.zeros((0, 3))) for f in case.frequencies]
     if check_scale is None:
         return case, combine(case, d, free, bem)
-    check = [FieldResponse(r.frequency, r.far_field * check_scale, r.points, r.impedance * check_scale,
-                           r.power_matrix * check_scale) for r in bem]
+    check = [
+        FieldResponse(
+            r.frequency, r.far_field * check_scale, r.points, r.impedance * check_scale, r.power_matrix * check_scale
+        )
+        for r in bem
+    ]
     return case, combine(case, d, free, bem, check, np.full(len(bem), 1.5))
 
 
@@ -58,6 +62,7 @@ def test_no_scatterer_means_no_departure():
     """With the 'scattered' world equal to free field (no bodies) every departure is
     exactly zero, no trust limit is found and as designed = re-optimised = predicted
     (identity; the issue's own acceptance check)."""
+
     def same(f, medium, x, d, pts):
         from bemcheck.solvers.response import free_response
 

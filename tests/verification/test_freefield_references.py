@@ -87,9 +87,7 @@ def test_spl_round_trip_monopole_relation():
     assert freefield.spl_from_pressure(p) == pytest.approx(94.0, abs=1e-9)
 
 
-positions = st.lists(
-    st.tuples(*[st.floats(-0.5, 0.5, allow_nan=False)] * 3), min_size=2, max_size=6, unique=True
-)
+positions = st.lists(st.tuples(*[st.floats(-0.5, 0.5, allow_nan=False)] * 3), min_size=2, max_size=6, unique=True)
 
 
 def _separated(x, gap=1e-3):

@@ -27,10 +27,8 @@ from bemcheck.mesh.checks import check_surface
 from tests.support.bell_solid import reference
 
 SHORT = Bell(mouth_radius=0.1, throat_radius=0.02, length=0.3, flare=0.8, rim_radius=0.005)
-RECESSED = Bell(mouth_radius=0.1, throat_radius=0.02, length=0.3, flare=0.8, rim_radius=0.005,
-                cap_depth=0.03)
-TRUMPET_LIKE = Bell(mouth_radius=0.062, throat_radius=0.008, length=0.45, flare=0.7,
-                    rim_radius=0.004)
+RECESSED = Bell(mouth_radius=0.1, throat_radius=0.02, length=0.3, flare=0.8, rim_radius=0.005, cap_depth=0.03)
+TRUMPET_LIKE = Bell(mouth_radius=0.062, throat_radius=0.008, length=0.45, flare=0.7, rim_radius=0.004)
 
 
 def measure(mesh):
@@ -61,8 +59,7 @@ def test_reference_sees_the_recess():
     assert v1 < v0 - math.pi * 0.08**2 * 0.02 and a1 > a0
 
 
-@pytest.mark.parametrize("bell", [SHORT, RECESSED, TRUMPET_LIKE],
-                         ids=["flat cap", "recessed cap", "long neck"])
+@pytest.mark.parametrize("bell", [SHORT, RECESSED, TRUMPET_LIKE], ids=["flat cap", "recessed cap", "long neck"])
 def test_coarsest_band_keeps_the_volume(bell, cache):
     """100 Hz at 6 elements per wavelength (h = 0.57 m): the geometry sets the size."""
     h = 343.0 / 100.0 / 6.0
@@ -96,13 +93,16 @@ def test_elements_within_target_and_wall_resolved(cache):
     assert edges[near].max() <= 2 * RECESSED.rim_radius
 
 
-@pytest.mark.parametrize("change, words", [
-    ({"rim_radius": 0.2}, "rim_radius"),
-    ({"throat_radius": 0.2}, "mouth_radius"),
-    ({"flare": -1.0}, "flare"),
-    ({"cap_depth": 0.295}, "cap_depth"),
-    ({"cap_depth": 0.0001}, "cap_depth"),
-])
+@pytest.mark.parametrize(
+    "change, words",
+    [
+        ({"rim_radius": 0.2}, "rim_radius"),
+        ({"throat_radius": 0.2}, "mouth_radius"),
+        ({"flare": -1.0}, "flare"),
+        ({"cap_depth": 0.295}, "cap_depth"),
+        ({"cap_depth": 0.0001}, "cap_depth"),
+    ],
+)
 def test_impossible_bells_are_refused(change, words, cache):
     fields = {**SHORT.__dict__, **change}
     with pytest.raises(GeometryError, match=words) as info:

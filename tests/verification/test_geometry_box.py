@@ -22,7 +22,7 @@ from bemcheck.errors import GeometryError
 from bemcheck.mesh.bodies import mesh_body
 from bemcheck.mesh.checks import check_surface
 
-SIZE = (0.12, 0.2, 0.3)   # depth (z), width (x), height (y)
+SIZE = (0.12, 0.2, 0.3)  # depth (z), width (x), height (y)
 
 
 def _measure(mesh, mask=None):
@@ -58,8 +58,7 @@ def test_steiner_formula_reduces_to_the_box():
     assert steiner((1.0, 1.0, 1.0), 0.5) == pytest.approx((math.pi, math.pi / 6))
 
 
-@pytest.mark.parametrize("h, rel", [(0.02, 0.005), (343.0 / 100 / 6, 0.01)],
-                         ids=["2.4 kHz band", "coarsest band"])
+@pytest.mark.parametrize("h, rel", [(0.02, 0.005), (343.0 / 100 / 6, 0.01)], ids=["2.4 kHz band", "coarsest band"])
 def test_rounded_box_follows_steiner(tmp_path, h, rel):
     r = 0.02
     mesh = mesh_body(Body("cab", Box(SIZE, r)), h, tmp_path)
@@ -69,8 +68,7 @@ def test_rounded_box_follows_steiner(tmp_path, h, rel):
     assert area == pytest.approx(ref_area, rel=rel)
     assert volume == pytest.approx(ref_volume, rel=rel)
     driver = mesh.parts == mesh.part_names.index("driver")
-    assert _measure(mesh, driver)[0] == pytest.approx((SIZE[1] - 2 * r) * (SIZE[2] - 2 * r),
-                                                      rel=1e-9)
+    assert _measure(mesh, driver)[0] == pytest.approx((SIZE[1] - 2 * r) * (SIZE[2] - 2 * r), rel=1e-9)
     edges = np.linalg.norm(np.diff(mesh.vertices[mesh.triangles][:, [0, 1, 2, 0]], axis=1), axis=2)
     assert edges.max() <= min(h, SIZE[0] / 2)
 

@@ -19,8 +19,9 @@ from bemcheck.mesh.bodies import mesh_body
 from bemcheck.mesh.checks import check_surface
 
 H = 0.06
-FUZZ = settings(max_examples=8, deadline=None, derandomize=True,
-                suppress_health_check=[HealthCheck.function_scoped_fixture])
+FUZZ = settings(
+    max_examples=8, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 
 
 def _valid(mesh, bound):
@@ -33,9 +34,14 @@ def _valid(mesh, bound):
 
 
 @FUZZ
-@given(mouth=st.floats(0.05, 0.2), throat_fraction=st.floats(0.05, 0.4),
-       length=st.floats(0.1, 0.6), flare=st.floats(0.3, 1.5), rim=st.floats(0.001, 0.02),
-       cap=st.sampled_from([0.0, 0.0, 0.01, 0.05]))
+@given(
+    mouth=st.floats(0.05, 0.2),
+    throat_fraction=st.floats(0.05, 0.4),
+    length=st.floats(0.1, 0.6),
+    flare=st.floats(0.3, 1.5),
+    rim=st.floats(0.001, 0.02),
+    cap=st.sampled_from([0.0, 0.0, 0.01, 0.05]),
+)
 def test_bells(tmp_path, mouth, throat_fraction, length, flare, rim, cap):
     bell = Bell(mouth, mouth * throat_fraction, length, flare, rim, cap)
     try:
@@ -47,8 +53,10 @@ def test_bells(tmp_path, mouth, throat_fraction, length, flare, rim, cap):
 
 
 @FUZZ
-@given(size=st.tuples(st.floats(0.03, 0.5), st.floats(0.03, 0.5), st.floats(0.03, 0.5)),
-       round_fraction=st.sampled_from([0.0, 0.001]) | st.floats(0.0, 0.6))
+@given(
+    size=st.tuples(st.floats(0.03, 0.5), st.floats(0.03, 0.5), st.floats(0.03, 0.5)),
+    round_fraction=st.sampled_from([0.0, 0.001]) | st.floats(0.0, 0.6),
+)
 def test_boxes(tmp_path, size, round_fraction):
     box = Box(size, round_fraction * min(size))
     try:

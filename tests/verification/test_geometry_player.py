@@ -48,8 +48,10 @@ def test_mesh_keeps_area_and_volume_closed_and_outward(tmp_path, size):
 
 
 def test_case_file_reads_a_player_with_defaults_and_refuses_a_wide_neck():
-    head = '[case]\ntitle = "t"\n[frequencies]\nlist = [100.0]\n[[source]]\nname = "p"\nrole = "primary"\n' \
-           'at = [1.0, 0.0, 1.0]\nstrength = 1e-3\n[[body]]\nname = "me"\nkind = "player"\n'
+    head = (
+        '[case]\ntitle = "t"\n[frequencies]\nlist = [100.0]\n[[source]]\nname = "p"\nrole = "primary"\n'
+        'at = [1.0, 0.0, 1.0]\nstrength = 1e-3\n[[body]]\nname = "me"\nkind = "player"\n'
+    )
     case = parse_case(head)
     assert case.bodies[0].shape == Player()
     with pytest.raises(Exception, match=r"body\[0\]\.neck_radius: expected less than head_radius"):
@@ -58,9 +60,11 @@ def test_case_file_reads_a_player_with_defaults_and_refuses_a_wide_neck():
 
 def test_ears_are_observer_points_beside_the_head():
     """`ear = "me.left"` puts the point STANDOFF outside the head at +y of the body frame, carried into the scene."""
-    text = ('[case]\ntitle = "t"\n[frequencies]\nlist = [100.0]\n[[source]]\nname = "p"\nrole = "primary"\n'
-            'at = [1.0, 0.0, 1.0]\nstrength = 1e-3\n[[body]]\nname = "me"\nkind = "player"\nat = [0.0, 2.0, 0.0]\n'
-            '[observers]\npoints = [{ name = "L", ear = "me.left" }, { name = "R", ear = "me.right" }]\n')
+    text = (
+        '[case]\ntitle = "t"\n[frequencies]\nlist = [100.0]\n[[source]]\nname = "p"\nrole = "primary"\n'
+        'at = [1.0, 0.0, 1.0]\nstrength = 1e-3\n[[body]]\nname = "me"\nkind = "player"\nat = [0.0, 2.0, 0.0]\n'
+        '[observers]\npoints = [{ name = "L", ear = "me.left" }, { name = "R", ear = "me.right" }]\n'
+    )
     left, right = (p.at for p in parse_case(text).observers.points)
     shape = Player()
     assert left == pytest.approx((0.0, 2.0 + shape.head_radius + 0.02, shape.head_height))

@@ -39,8 +39,9 @@ from tests.support.bell_solid import reference
 MEDIUM = Medium(343.0, 1.2)
 EPW = 6.0
 WITHIN_DB = 30.0
-FUZZ = settings(max_examples=10, deadline=None, derandomize=True,
-                suppress_health_check=[HealthCheck.function_scoped_fixture])
+FUZZ = settings(
+    max_examples=10, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 
 
 def _measure(mesh):
@@ -52,26 +53,31 @@ def _measure(mesh):
 
 def _off_profile(bell, vertices):
     """Distance [m] of each vertex from the bell's section, revolved."""
-    sec = section(bell.mouth_radius, bell.throat_radius, bell.length, bell.flare, bell.rim_radius,
-                  bell.cap_depth)
+    sec = section(bell.mouth_radius, bell.throat_radius, bell.length, bell.flare, bell.rim_radius, bell.cap_depth)
     r, z, _, _ = profile_samples(sec, n=40000)
     d, _ = cKDTree(np.column_stack([r, z])).query(
-        np.column_stack([np.hypot(vertices[:, 0], vertices[:, 1]), vertices[:, 2]]))
+        np.column_stack([np.hypot(vertices[:, 0], vertices[:, 1]), vertices[:, 2]])
+    )
     return d
 
 
 @FUZZ
-@given(mouth=st.floats(0.05, 0.2), throat_fraction=st.floats(0.05, 0.4),
-       length=st.floats(0.1, 0.6), flare=st.floats(0.3, 1.5), rim=st.floats(0.001, 0.02),
-       cap=st.sampled_from([0.0, 0.0, 0.01, 0.05]), top=st.floats(60.0, 2000.0),
-       coarse=st.sampled_from([1.0, 1.5]))
-def test_every_band_keeps_the_bell(tmp_path, mouth, throat_fraction, length, flare, rim, cap, top,
-                                   coarse):
+@given(
+    mouth=st.floats(0.05, 0.2),
+    throat_fraction=st.floats(0.05, 0.4),
+    length=st.floats(0.1, 0.6),
+    flare=st.floats(0.3, 1.5),
+    rim=st.floats(0.001, 0.02),
+    cap=st.sampled_from([0.0, 0.0, 0.01, 0.05]),
+    top=st.floats(60.0, 2000.0),
+    coarse=st.sampled_from([1.0, 1.5]),
+)
+def test_every_band_keeps_the_bell(tmp_path, mouth, throat_fraction, length, flare, rim, cap, top, coarse):
     bell = Bell(mouth, mouth * throat_fraction, length, flare, rim, cap)
     size = coarse * MEDIUM.speed_of_sound / top / EPW
     try:
         with warnings.catch_warnings():
-            warnings.simplefilter("ignore")   # a notice would show as a failed bound below
+            warnings.simplefilter("ignore")  # a notice would show as a failed bound below
             mesh = mesh_body(Body("bell", bell), size, tmp_path)
     except GeometryError as exc:
         assert str(exc).startswith("body 'bell' (bell): ")
@@ -106,8 +112,10 @@ def _worst(ratio, reference_field):
     """Largest level [dB] and phase [deg] departure of ``ratio`` where the field is within 30 dB of its peak."""
     level = 20 * np.log10(np.abs(reference_field))
     loud = level >= level.max() - WITHIN_DB
-    return (float(np.abs(20 * np.log10(np.abs(ratio[loud]))).max()),
-            float(np.abs(np.degrees(np.angle(ratio[loud]))).max()))
+    return (
+        float(np.abs(20 * np.log10(np.abs(ratio[loud]))).max()),
+        float(np.abs(np.degrees(np.angle(ratio[loud]))).max()),
+    )
 
 
 @pytest.mark.parametrize("frequency", [100.0, 1000.0], ids=["geometry sets the size", "wavelength sets it"])
@@ -141,7 +149,11 @@ def test_bell_far_field_matches_a_finer_mesh(tmp_path, frequency):
     band = mesh_scene(case, size, cache_dir=tmp_path)
     fine = mesh_scene(case, size, cache_dir=tmp_path, refine=2.0)
     assert fine.n_triangles > 1.5 * band.n_triangles
-    fields = [solve_frequency(m, frequency, MEDIUM, np.zeros((0, 3)), _directions(), pistons=("bell.mouth",),
-                              power=False).far_field[:, 0] for m in (band, fine)]
+    fields = [
+        solve_frequency(
+            m, frequency, MEDIUM, np.zeros((0, 3)), _directions(), pistons=("bell.mouth",), power=False
+        ).far_field[:, 0]
+        for m in (band, fine)
+    ]
     level, phase = _worst(fields[0] / fields[1], fields[1])
     assert level <= 0.25 and phase <= 3.0

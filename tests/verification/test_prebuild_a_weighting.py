@@ -9,8 +9,18 @@ from bemcheck.prebuild.safety import A_1000, A_POLES
 
 @pytest.mark.parametrize(
     ("nominal", "table_db"),
-    [(31.5, -39.4), (63, -26.2), (100, -19.1), (250, -8.6), (500, -3.2), (1000, 0.0),
-     (2000, 1.2), (4000, 1.0), (8000, -1.1), (16000, -6.6)],
+    [
+        (31.5, -39.4),
+        (63, -26.2),
+        (100, -19.1),
+        (250, -8.6),
+        (500, -3.2),
+        (1000, 0.0),
+        (2000, 1.2),
+        (4000, 1.0),
+        (8000, -1.1),
+        (16000, -6.6),
+    ],
 )
 def test_table_values(nominal, table_db):
     """IEC 61672-1:2013, Table 3, A-weighting at nominal frequencies, given to

@@ -43,7 +43,7 @@ def closed_form_db(s2, gain_db, phase_rad, n=N, seed=2024):
     rng = np.random.default_rng(seed)
     g = 10 ** (rng.uniform(-gain_db, gain_db, n) / 20)
     phi = rng.uniform(-phase_rad, phase_rad, n)
-    return -10 * np.log10(1 - s2 * (2 * g * np.cos(phi) - g ** 2))
+    return -10 * np.log10(1 - s2 * (2 * g * np.cos(phi) - g**2))
 
 
 def layout(f):

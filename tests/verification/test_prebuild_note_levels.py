@@ -66,8 +66,16 @@ points = [ {{ name = "ear", at = [0.0, 0.3, 0.05] }} ]
 def stored(solution, mesh, positions):
     """A sweep's StoredSolve from a BemSolution whose columns are the case's sources."""
     n = len(positions)
-    return StoredSolve(solution.frequency, solution.monopoles, solution.impedance, solution.surface_pressure,
-                       solution.normal_velocity, mesh, np.arange(n), np.asarray(positions, dtype=float))
+    return StoredSolve(
+        solution.frequency,
+        solution.monopoles,
+        solution.impedance,
+        solution.surface_pressure,
+        solution.normal_velocity,
+        mesh,
+        np.arange(n),
+        np.asarray(positions, dtype=float),
+    )
 
 
 @pytest.fixture(scope="module")
@@ -87,7 +95,7 @@ def test_without_bodies_the_bem_route_is_the_monopole():
     at 2.5 m, azimuth 30°, elevation 20°, to round-off."""
     text = CASE.format(elevation=20.0).replace("direction = [0.0, 20.0]", "direction = [30.0, 20.0]")
     text = text.replace("distance = 1.2", "distance = 2.5")
-    text = text[:text.index("[[body]]")] + text[text.index("[[source]]"):]
+    text = text[: text.index("[[body]]")] + text[text.index("[[source]]") :]
     case = parse_case(text)
     note = case.played[0]
     assert np.linalg.norm(np.subtract(note.at, case.sources[0].position)) == pytest.approx(2.5)
@@ -119,8 +127,9 @@ def test_strength_beside_a_sphere_against_the_series(beside):
     x = np.array([s.position for s in case.sources])
     rows = note_strengths(case, note, lambda f, pts: solves[f].field_at(case.medium, pts))
     for row, level in zip(rows, note.spl_at_1m):
-        exact = sphere_response(row.frequency, case.medium, (0, 0, 0), RADIUS, x, np.array([[1.0, 0, 0]]),
-                                np.array([note.at])).points[0, 0]
+        exact = sphere_response(
+            row.frequency, case.medium, (0, 0, 0), RADIUS, x, np.array([[1.0, 0, 0]]), np.array([note.at])
+        ).points[0, 0]
         q_exact = float(strength_for_level(level, exact))
         assert row.route == BEM
         assert abs(20 * np.log10(row.bem_m3s / q_exact)) < 0.3
@@ -149,6 +158,7 @@ def test_the_check_uses_the_bem_strength_and_says_so(beside):
     assert used == pytest.approx([r.bem_m3s for r in rows], rel=1e-12)
     assert np.abs(build.dataset["q_required_designed"].sel(source="p").values) == pytest.approx(used, rel=1e-12)
     assert any("primary strength from the BEM's field" in line for line in build.lines)
+
     def exact_at(f):
         return sphere_response(f, case.medium, (0, 0, 0), RADIUS, x, d.unit, ears)
 
@@ -156,8 +166,12 @@ def test_the_check_uses_the_bem_strength_and_says_so(beside):
     assert with_bem.summary["ears"][0]["models"] == [MODEL_BEM, MODEL_BEM]
     ds = with_bem.dataset
     total = ds["p_points_total"].values
-    np.testing.assert_allclose(ds["p_points_instrument"].values + ds["p_points_controls"].values, total,
-                               rtol=1e-12, atol=1e-12 * np.abs(total).max())
+    np.testing.assert_allclose(
+        ds["p_points_instrument"].values + ds["p_points_controls"].values,
+        total,
+        rtol=1e-12,
+        atol=1e-12 * np.abs(total).max(),
+    )
     q = ds["q_required_designed"].values
     for i, f in enumerate((800.0, 1600.0)):
         exact = exact_at(f).points

@@ -66,7 +66,10 @@ def test_moved_impedances_beside_a_sphere_against_the_series():
     z_one = perturbed_impedance(sol, mesh, medium, one)
     ref_one = z_series(f, one, a=1.0, medium=medium)
     pair = [(1, 0), (1, 2), (0, 1), (2, 1)]  # one end moved: exact up to reciprocity and the mesh
-    err = max(abs(z_one[i, j] - ref_one[i, j]) for i, j in pair) / np.abs(ref_one - freefield.impedance_matrix(f, medium, one)).max()
+    err = (
+        max(abs(z_one[i, j] - ref_one[i, j]) for i, j in pair)
+        / np.abs(ref_one - freefield.impedance_matrix(f, medium, one)).max()
+    )
     assert err < 1.2 * e0
     e1 = scattered_error(perturbed_impedance(sol, mesh, medium, x + step), x + step)
     e2 = scattered_error(perturbed_impedance(sol, mesh, medium, x + 2 * step), x + 2 * step)
@@ -138,8 +141,17 @@ def test_scattered_spread_against_the_series(sphere):
     for i, row in enumerate(ps["rows"]):
         f = row["frequency_hz"]
         q = ds["q_required_designed"].values[i]
-        exact = placement_spread(lambda at, f=f: z_series(f, at), x[:1], q[:1], x[1:], q[1:], ps["tolerance_m"],
-                                 trials=case.build.trials, rng=0, weights=weights)
+        exact = placement_spread(
+            lambda at, f=f: z_series(f, at),
+            x[:1],
+            q[:1],
+            x[1:],
+            q[1:],
+            ps["tolerance_m"],
+            trials=case.build.trials,
+            rng=0,
+            weights=weights,
+        )
         got = row["scattered"]
         assert row["scattered_spread"] and row["reason"] == ""
         assert got["designed_db"] == pytest.approx(exact.designed_db, abs=0.05)
@@ -164,8 +176,18 @@ def test_scattered_tolerance_needed_against_the_series(sphere):
     row = ps["rows"][1]
     q = ds["q_required_designed"].values[1]
     got = row["scattered"]
-    exact = tolerance_for_loss(lambda at: z_series(row["frequency_hz"], at), x[:1], q[:1], x[1:], q[1:], 1.0,
-                               trials=case.build.trials, rng=0, weights=[1.0, 0.5], search_up_to=0.03)
+    exact = tolerance_for_loss(
+        lambda at: z_series(row["frequency_hz"], at),
+        x[:1],
+        q[:1],
+        x[1:],
+        q[1:],
+        1.0,
+        trials=case.build.trials,
+        rng=0,
+        weights=[1.0, 0.5],
+        search_up_to=0.03,
+    )
     assert got["search_up_to_m"] > 0.03
     assert got["tolerance_needed_found"] and exact.found
     assert got["tolerance_needed_m"] == pytest.approx(exact.tolerance, rel=0.1)

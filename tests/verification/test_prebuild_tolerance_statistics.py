@@ -32,8 +32,18 @@ def z_at(x):
 
 
 def run(tol, distribution, trials=4000, seed=3, percentiles=(5.0, 50.0)):
-    return placement_spread(z_at, [[0, 0, 0]], [1.0], [[D, 0, 0]], [-S], tol,
-                            trials=trials, rng=seed, distribution=distribution, percentiles=percentiles)
+    return placement_spread(
+        z_at,
+        [[0, 0, 0]],
+        [1.0],
+        [[D, 0, 0]],
+        [-S],
+        tol,
+        trials=trials,
+        rng=seed,
+        distribution=distribution,
+        percentiles=percentiles,
+    )
 
 
 def power_ratio(d_moved):
@@ -47,9 +57,12 @@ def attenuation(d_moved):
 def lens_volume(r, radius, dist):
     """Volume common to spheres of radii r and ``radius`` whose centres are ``dist`` apart
     (E. W. Weisstein, MathWorld, "Sphere-Sphere Intersection", eq. 16)."""
-    return np.pi * (radius + r - dist) ** 2 * (
-        dist**2 + 2 * dist * r - 3 * r**2 + 2 * dist * radius + 6 * r * radius - 3 * radius**2
-    ) / (12 * dist)
+    return (
+        np.pi
+        * (radius + r - dist) ** 2
+        * (dist**2 + 2 * dist * r - 3 * r**2 + 2 * dist * radius + 6 * r * radius - 3 * radius**2)
+        / (12 * dist)
+    )
 
 
 def distance_quantile_ball(q, tol):
@@ -109,11 +122,8 @@ def test_percentiles_match_distance_distribution(distribution):
 def test_tolerance_for_one_db_loss():
     """Tolerance (uniform ball) at which 95 % of builds lose at most 1 dB, against
     the same found from the closed-form distance distribution by root finding."""
-    need = tolerance_for_loss(z_at, [[0, 0, 0]], [1.0], [[D, 0, 0]], [-S], 1.0,
-                              trials=4000, rng=3, search_up_to=0.15)
-    exact = optimize.brentq(
-        lambda t: attenuation(D) - attenuation(distance_quantile_ball(0.95, t)) - 1.0, 1e-4, 0.15
-    )
+    need = tolerance_for_loss(z_at, [[0, 0, 0]], [1.0], [[D, 0, 0]], [-S], 1.0, trials=4000, rng=3, search_up_to=0.15)
+    exact = optimize.brentq(lambda t: attenuation(D) - attenuation(distance_quantile_ball(0.95, t)) - 1.0, 1e-4, 0.15)
     assert need.found
     assert need.tolerance == pytest.approx(exact, rel=0.02)
     assert need.loss_db <= 1.0

@@ -19,8 +19,12 @@ from bemcheck.results.cf import DECIBEL
 from bemcheck.results.schema import EXPLORE, RESULTS
 from tests.support.probe_runs import probe_runs
 
-FILES = {"free": ("results.nc", RESULTS), "both": ("results.nc", RESULTS), "explore": ("explore.nc", EXPLORE),
-         "example": ("results.nc", RESULTS)}
+FILES = {
+    "free": ("results.nc", RESULTS),
+    "both": ("results.nc", RESULTS),
+    "explore": ("explore.nc", EXPLORE),
+    "example": ("results.nc", RESULTS),
+}
 # CF 1.10 sec. 3.5: flag meanings are words of alphanumerics and _ - . + @
 FLAG_WORD = re.compile(r"^[A-Za-z0-9_.+@-]+$")
 # CF 1.10 sec. 2.3: names begin with a letter and hold letters, digits and underscores

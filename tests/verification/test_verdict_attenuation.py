@@ -88,8 +88,9 @@ def test_a_better_attenuation_than_predicted_is_reported_not_failed():
 def sphere_bem(tmp_path_factory):
     """The pair beside a 0.1 m sphere 0.25 m away, solved by bemcheck's BEM at 200, 400, 800 Hz."""
     root = tmp_path_factory.mktemp("sphere-pair")
-    case = parse_case(PAIR.format(frequencies="list = [200.0, 400.0, 800.0]", octaves=4,
-                                  body=SPHERE.format(x=0.25, a=0.1)))
+    case = parse_case(
+        PAIR.format(frequencies="list = [200.0, 400.0, 800.0]", octaves=4, body=SPHERE.format(x=0.25, a=0.1))
+    )
     out = run_case(case, root / "run", quiet=True, cache_dir=root / "cache")
     import bemcheck
 
@@ -122,8 +123,15 @@ def test_subset_run_gives_the_same_numbers_bit_for_bit(sphere_bem, tmp_path):
     import bemcheck
 
     sub = bemcheck.load_results(out.folder)
-    for name in ("p_bem", "z_bem", "attenuation_as_designed_db", "attenuation_as_designed_error_db",
-                 "level_error_db", "directional_attenuation_as_designed_db", "status"):
+    for name in (
+        "p_bem",
+        "z_bem",
+        "attenuation_as_designed_db",
+        "attenuation_as_designed_error_db",
+        "level_error_db",
+        "directional_attenuation_as_designed_db",
+        "status",
+    ):
         assert np.array_equal(sub[name].values[0], full[name].sel(frequency=400.0).values), name
 
 
@@ -135,8 +143,13 @@ def test_no_bodies_means_zero_departures_pass_and_zero_decomposition(tmp_path):
     import bemcheck
 
     ds = bemcheck.load_results(out.folder)
-    for name in ("level_departure_db", "source_model_level_db", "other_bodies_level_db", "numerical_error_db",
-                 "attenuation_as_designed_error_db"):
+    for name in (
+        "level_departure_db",
+        "source_model_level_db",
+        "other_bodies_level_db",
+        "numerical_error_db",
+        "attenuation_as_designed_error_db",
+    ):
         np.testing.assert_allclose(ds[name].values, 0.0, atol=1e-9, err_msg=name)
     assert out.summary["verdict"]["outcome"] == "PASS"
 
@@ -237,8 +250,9 @@ def test_decomposition_on_two_spheres(tmp_path):
         err = ds["level_error_db"].values[i, 0]
         assert (np.abs(got - series_db) <= 2.0 * err + 0.05).all(), f
     total = ds["level_departure_db"].sel(signal="p").values
-    np.testing.assert_allclose(ds["source_model_level_db"].values[:, 0] + ds["other_bodies_level_db"].values[:, 0],
-                               total, atol=1e-9)
+    np.testing.assert_allclose(
+        ds["source_model_level_db"].values[:, 0] + ds["other_bodies_level_db"].values[:, 0], total, atol=1e-9
+    )
     assert np.abs(ds["other_bodies_level_db"].values).max() > 0.1  # the other sphere does scatter
 
 

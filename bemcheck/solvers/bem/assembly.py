@@ -32,6 +32,7 @@ import numba
 import numpy as np
 
 from bemcheck.settings import NUMERICS
+from bemcheck.solvers.bem.colouring import colour_triangles
 from bemcheck.solvers.bem.kernel import cis, surface_curls
 from bemcheck.solvers.bem.quadrature import gauss
 from bemcheck.solvers.bem.touching import add_touching_pairs, add_touching_velocity
@@ -41,69 +42,6 @@ FAR_RATIO, NEAR_ORDER, FAR_ORDER = NUMERICS.far_ratio, NUMERICS.near_order, NUME
 SINGULAR_ORDER = NUMERICS.singular_order
 
 
-def colour_triangles(triangles):
-    """Group triangles so that no two of a group share a vertex.
-
-    Triangles of one group write to disjoint rows of the matrix, so a group
-    can be assembled in parallel without locks.
-
-    Parameters
-    ----------
-    triangles : (nt, 3) array_like of int
-
-    Returns
-    -------
-    list of (n_c,) ndarray of int
-        Triangle indices per colour, every triangle exactly once.
-
-    Examples
-    --------
-    >>> groups = colour_triangles([[0, 1, 2], [1, 2, 3], [4, 5, 6]])
-    >>> [g.tolist() for g in groups]
-    [[0, 2], [1]]
-    """
-    triangles = np.asarray(triangles, dtype=np.int64).reshape(-1, 3)
-    if not len(triangles):
-        return []
-    # triangles through each vertex, as compressed rows
-    corner_owner = np.repeat(np.arange(len(triangles)), 3)
-    by_vertex = np.argsort(triangles.reshape(-1), kind="stable")
-    indptr = np.searchsorted(triangles.reshape(-1)[by_vertex], np.arange(triangles.max() + 2))
-    colours = _greedy_colours(triangles, indptr, corner_owner[by_vertex])
-    order = np.argsort(colours, kind="stable")
-    cuts = np.flatnonzero(np.diff(colours[order])) + 1
-    return np.split(order, cuts)
-
-
-@numba.njit
-def _greedy_colours(triangles, indptr, through):
-    """Smallest colour not taken by an already coloured triangle sharing a vertex.
-
-    A triangle has at most 3·(m - 1) such neighbours where m triangles meet
-    at a vertex, so 3·m + 1 colours always suffice (a fan of a hundred
-    triangles round one vertex included).
-    """
-    most = 0
-    for v in range(len(indptr) - 1):
-        most = max(most, indptr[v + 1] - indptr[v])
-    stamp = np.full(3 * most + 1, -1, dtype=np.int64)
-    colours = np.full(len(triangles), -1, dtype=np.int64)
-    for t in range(len(triangles)):
-        for a in range(3):
-            v = triangles[t, a]
-            for i in range(indptr[v], indptr[v + 1]):
-                c = colours[through[i]]
-                if c >= 0:
-                    stamp[c] = t
-        c = 0
-        while stamp[c] == t:
-            c += 1
-        colours[t] = c
-    return colours
-
-
-# Trial triangles whose far-rule kernels are evaluated together, in loops
-# over the block that the compiler turns into vector instructions.
 _BLOCK = 128
 
 
@@ -236,8 +174,29 @@ def _add_pair(ahead, behind, t, s, sums, j, triangles, normals, areas, curls, k2
 
 
 @numba.njit(parallel=True, fastmath=True, error_model="numpy")
-def _regular(ahead, behind, triangles, normals, areas, sizes, centroids, curls, near_x, near_phi, near_w,
-             far_x, far_phi, far_w, fx, nrm, members, k, eta_re, eta_im, far_ratio):
+def _regular(
+    ahead,
+    behind,
+    triangles,
+    normals,
+    areas,
+    sizes,
+    centroids,
+    curls,
+    near_x,
+    near_phi,
+    near_w,
+    far_x,
+    far_phi,
+    far_w,
+    fx,
+    nrm,
+    members,
+    k,
+    eta_re,
+    eta_im,
+    far_ratio,
+):
     """Add the regular part of -K + ηW for the pairs (t, s) of test triangles t in ``members``.
 
     Each unordered pair is visited once, from the triangle whose partners
@@ -280,8 +239,25 @@ def _regular(ahead, behind, triangles, normals, areas, sizes, centroids, curls, 
 
 
 @numba.njit(parallel=True, fastmath=True, error_model="numpy")
-def _regular_velocity(out, support, triangles, normals, areas, sizes, centroids, near_x, near_phi, near_w,
-                      far_x, far_phi, far_w, k, eta_re, eta_im, far_ratio):
+def _regular_velocity(
+    out,
+    support,
+    triangles,
+    normals,
+    areas,
+    sizes,
+    centroids,
+    near_x,
+    near_phi,
+    near_w,
+    far_x,
+    far_phi,
+    far_w,
+    k,
+    eta_re,
+    eta_im,
+    far_ratio,
+):
     """Add the regular part of V + ηK' for a constant trial function on each support triangle.
 
     Column j belongs to triangle support[j]; columns are independent, so the
@@ -342,8 +318,25 @@ def add_regular_part(out, surface, k, eta, far_ratio=FAR_RATIO):
     fx = np.ascontiguousarray(far[0].transpose(1, 2, 0))
     nrm = np.ascontiguousarray(surface.normals.T)
     for members in colour_triangles(triangles):
-        _regular(out, behind, triangles, surface.normals, surface.areas, surface.sizes, centroids, curls,
-                 *near, *far, fx, nrm, members, float(k), float(np.real(eta)), float(np.imag(eta)), float(far_ratio))
+        _regular(
+            out,
+            behind,
+            triangles,
+            surface.normals,
+            surface.areas,
+            surface.sizes,
+            centroids,
+            curls,
+            *near,
+            *far,
+            fx,
+            nrm,
+            members,
+            float(k),
+            float(np.real(eta)),
+            float(np.imag(eta)),
+            float(far_ratio),
+        )
     out += behind.T
 
 
@@ -380,8 +373,21 @@ def velocity_matrix(surface, grid, support, k, eta, far_ratio=FAR_RATIO, singula
     support = np.ascontiguousarray(support, dtype=np.int64)
     out = np.zeros((surface.n_vertices, len(support)), dtype=np.complex128)
     triangles, centroids, near, far = _points(surface)
-    _regular_velocity(out, support, triangles, surface.normals, surface.areas, surface.sizes, centroids,
-                      *near, *far, float(k), float(np.real(eta)), float(np.imag(eta)), float(far_ratio))
+    _regular_velocity(
+        out,
+        support,
+        triangles,
+        surface.normals,
+        surface.areas,
+        surface.sizes,
+        centroids,
+        *near,
+        *far,
+        float(k),
+        float(np.real(eta)),
+        float(np.imag(eta)),
+        float(far_ratio),
+    )
     add_touching_velocity(out, surface, grid, support, k, eta, singular_order)
     return out
 

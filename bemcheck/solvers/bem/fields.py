@@ -92,7 +92,9 @@ def check_targets(mom, positions, key, gap=0.0):
     bad = np.flatnonzero(mom.inside)
     if bad.size:
         i = int(bad[0])
-        raise GeometryError(f"{key}[{i}] at {positions[i].round(4).tolist()} m is inside a body; expected a point in the air")
+        raise GeometryError(
+            f"{key}[{i}] at {positions[i].round(4).tolist()} m is inside a body; expected a point in the air"
+        )
     close = np.flatnonzero(mom.gap < gap)
     if close.size:
         i = int(close[0])

@@ -319,7 +319,17 @@ def far_field_moments(surface, directions, k, p0_support=None):
     support = np.zeros(0, dtype=np.int64) if p0_support is None else np.asarray(p0_support, dtype=np.int64)
     out_d = np.zeros((len(d), surface.n_vertices), complex)
     out_s = np.zeros((len(d), len(support)), complex)
-    _far_field(out_d, out_s, d, y, w, np.ascontiguousarray(surface.normals), np.ascontiguousarray(surface.triangles, dtype=np.int64),
-               np.ascontiguousarray(base.bary), support, float(k))
+    _far_field(
+        out_d,
+        out_s,
+        d,
+        y,
+        w,
+        np.ascontiguousarray(surface.normals),
+        np.ascontiguousarray(surface.triangles, dtype=np.int64),
+        np.ascontiguousarray(base.bary),
+        support,
+        float(k),
+    )
     out_s = None if p0_support is None else out_s
     return out_d, out_s

@@ -80,5 +80,3 @@ def surface_curls(vertices, triangles, normals):
     twice_area = np.linalg.norm(np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]), axis=1)
     grads = np.cross(normals[:, None, :], edges) / twice_area[:, None, None]
     return np.cross(normals[:, None, :], grads)
-
-

@@ -82,7 +82,7 @@ class ImpedanceUpdate:
         block = max(1, PAIRS_PER_BLOCK // (m * max(len(self._u), 1)))
         rows = []
         for start in range(0, t, block):
-            flat = moved[start:start + block].reshape(-1, 3)
+            flat = moved[start : start + block].reshape(-1, 3)
             mom = self._fields.moments(flat)
             check_targets(mom, flat, "moved", NUMERICS.source_gap)
             rows.append(self._fields.scattered(mom, self._u))

@@ -55,7 +55,11 @@ def first_solve_guard():
     Only the main thread of a POSIX process can do this; elsewhere it does
     nothing.
     """
-    if _state["assembled"] or threading.current_thread() is not threading.main_thread() or not hasattr(signal, "pthread_sigmask"):
+    if (
+        _state["assembled"]
+        or threading.current_thread() is not threading.main_thread()
+        or not hasattr(signal, "pthread_sigmask")
+    ):
         yield
         return
     # Ctrl-C is noted, not raised, while the kernels compile, and raised here

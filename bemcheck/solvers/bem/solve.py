@@ -120,8 +120,19 @@ class BemSolution:
 
 
 def solve_frequency(
-    mesh, frequency, medium, monopoles, directions=None, points=None, pistons=(), velocities=None, *, power=True, coupling=None,
-    alone=(), floor=None
+    mesh,
+    frequency,
+    medium,
+    monopoles,
+    directions=None,
+    points=None,
+    pistons=(),
+    velocities=None,
+    *,
+    power=True,
+    coupling=None,
+    alone=(),
+    floor=None,
 ):
     """Solve the rigid-body scattering of every source at one frequency.
 
@@ -339,6 +350,14 @@ def perturbed_impedance(solution, mesh, medium, moved):
     m = len(solution.monopoles)
     if x_new.shape != (m, 3):
         raise GeometryError(f"moved: expected ({m}, 3) positions, one per monopole; got {x_new.shape}")
-    update = ImpedanceUpdate(solution.frequency, medium, mesh, solution.monopoles, solution.impedance,
-                             solution.surface_pressure, solution.normal_velocity, floor=solution.floor)
+    update = ImpedanceUpdate(
+        solution.frequency,
+        medium,
+        mesh,
+        solution.monopoles,
+        solution.impedance,
+        solution.surface_pressure,
+        solution.normal_velocity,
+        floor=solution.floor,
+    )
     return update.many(x_new[None])[0]

@@ -164,8 +164,10 @@ def assemble(surface, k, coupling=None, blocks=(), floor=None):
         add_image_part(a, surface, k, eta, floor)
     t1 = time.perf_counter()
     # the blocks are copied out before the whole matrix is factorised in place
-    kept = tuple((np.asarray(b), lu_factor(a[np.ix_(b, b)].T, overwrite_a=True, check_finite=False))
-                 for b in (np.asarray(b, dtype=np.intp) for b in blocks))
+    kept = tuple(
+        (np.asarray(b), lu_factor(a[np.ix_(b, b)].T, overwrite_a=True, check_finite=False))
+        for b in (np.asarray(b, dtype=np.intp) for b in blocks)
+    )
     lu = lu_factor(a.T, overwrite_a=True, check_finite=False)
     t2 = time.perf_counter()
     note_assembly()

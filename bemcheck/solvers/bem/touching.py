@@ -33,12 +33,32 @@ def _rule(grid, order, test_support, trial_support):
 @numba.njit(inline="always", fastmath=True, error_model="numpy")
 def _point(corners, e, u, v, out):
     for i in range(3):
-        out[i] = corners[e, 0, i] + u * (corners[e, 1, i] - corners[e, 0, i]) + v * (corners[e, 2, i] - corners[e, 0, i])
+        out[i] = (
+            corners[e, 0, i] + u * (corners[e, 1, i] - corners[e, 0, i]) + v * (corners[e, 2, i] - corners[e, 0, i])
+        )
 
 
 @numba.njit(parallel=True, fastmath=True, error_model="numpy")
-def _pairs(corners, normals, areas, curls, test_points, trial_points, weights, test_elements, trial_elements,
-           test_offsets, trial_offsets, weight_offsets, counts, k, eta_re, eta_im, with_curls, result):
+def _pairs(
+    corners,
+    normals,
+    areas,
+    curls,
+    test_points,
+    trial_points,
+    weights,
+    test_elements,
+    trial_elements,
+    test_offsets,
+    trial_offsets,
+    weight_offsets,
+    counts,
+    k,
+    eta_re,
+    eta_im,
+    with_curls,
+    result,
+):
     """Per pair p, result[p, a, b] = (-K + ηW)(t, s)[a, b] for P1 test a and P1 trial b;
     without curls (``with_curls`` False) result[p, a, 0] = (V + ηK')(t, s)[a] for a
     constant trial function instead."""
@@ -93,7 +113,11 @@ def _pairs(corners, normals, areas, curls, test_points, trial_points, weights, t
             nn = normals[t, 0] * normals[s, 0] + normals[t, 1] * normals[s, 1] + normals[t, 2] * normals[s, 2]
             for a in range(3):
                 for b in range(3):
-                    cc = curls[t, a, 0] * curls[s, b, 0] + curls[t, a, 1] * curls[s, b, 1] + curls[t, a, 2] * curls[s, b, 2]
+                    cc = (
+                        curls[t, a, 0] * curls[s, b, 0]
+                        + curls[t, a, 1] * curls[s, b, 1]
+                        + curls[t, a, 2] * curls[s, b, 2]
+                    )
                     result[p, a, b] = scale * (eta * (cc * s0 - k2 * nn * s_ab[a, b]) - ks_ab[a, b])
         else:
             for a in range(3):
@@ -108,10 +132,26 @@ def _evaluate(surface, grid, order, k, eta, trial_support, with_curls):
     corners = np.ascontiguousarray(surface.vertices[surface.triangles])
     curls = np.ascontiguousarray(surface_curls(surface.vertices, surface.triangles, surface.normals))
     result = np.zeros((len(test_el), 3, 3), dtype=np.complex128)
-    _pairs(corners, surface.normals, surface.areas, curls, test_points, trial_points, weights,
-           test_el.astype(np.int64), trial_el.astype(np.int64), test_off.astype(np.int64),
-           trial_off.astype(np.int64), w_off.astype(np.int64), counts.astype(np.int64),
-           float(k), float(np.real(eta)), float(np.imag(eta)), with_curls, result)
+    _pairs(
+        corners,
+        surface.normals,
+        surface.areas,
+        curls,
+        test_points,
+        trial_points,
+        weights,
+        test_el.astype(np.int64),
+        trial_el.astype(np.int64),
+        test_off.astype(np.int64),
+        trial_off.astype(np.int64),
+        w_off.astype(np.int64),
+        counts.astype(np.int64),
+        float(k),
+        float(np.real(eta)),
+        float(np.imag(eta)),
+        with_curls,
+        result,
+    )
     return test_el, trial_el, result
 
 

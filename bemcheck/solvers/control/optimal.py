@@ -51,7 +51,9 @@ def _regularised_solve(a, b, what):
     w, v = np.linalg.eigh(a)
     top = float(np.max(np.abs(w))) if w.size else 0.0
     if top == 0.0:
-        warnings.warn(f"{what}: the control sources have no effect; strengths set to zero", ConditioningWarning, stacklevel=3)
+        warnings.warn(
+            f"{what}: the control sources have no effect; strengths set to zero", ConditioningWarning, stacklevel=3
+        )
         return np.zeros(b.shape, dtype=complex)
     floor = top / CONDITION_LIMIT
     if np.min(w) < floor:

@@ -1,0 +1,195 @@
+"""The before-build checks' variables of results.nc: drives, amplifiers, notes, ears, placement, channels, catalogue."""
+
+from bemcheck.results.cf import BOOLEAN, Variable
+from bemcheck.results.cf import DECIBEL as DB
+from bemcheck.results.schema_choices import CHANNEL, DEMAND, DRIVE, PART, PLACEMENT, H, P, S
+
+_BEFORE_BUILD = (
+    Variable(
+        "q_required_{demand}",
+        (H, S),
+        "volume velocity (peak) asked {demand} at each harmonic",
+        "m^3/s",
+        choices=(DEMAND,),
+    ),
+    Variable(
+        "q_available_excursion", (H, S), "largest volume velocity within xmax, Sd xmax omega (0: no driver)", "m^3/s"
+    ),
+    Variable("q_available_rated_power", (H, S), "volume velocity at the driver's rated power (0: no driver)", "m^3/s"),
+    Variable("harmonic_scattered", (H,), "the BEM was solved at this harmonic", flags=BOOLEAN),
+    Variable(
+        "spl_points_without_control",
+        (H, P),
+        "sound pressure level re 20 uPa at the observer points, primaries alone",
+        DB,
+    ),
+    Variable(
+        "spl_points_with_control",
+        (H, P),
+        "sound pressure level re 20 uPa at the observer points, with the controls as designed",
+        DB,
+    ),
+    Variable("attenuation_harmonic_as_designed_db", (H,), "power attenuation of the design at each harmonic", DB),
+    Variable(
+        "placement_{placement}_computed",
+        (H,),
+        "the placement spread was computed ({placement})",
+        flags=BOOLEAN,
+        choices=(PLACEMENT,),
+    ),
+    Variable(
+        "placement_{placement}_db",
+        (H, "placement_percentile"),
+        "power attenuation at these percentiles of random builds ({placement}; 0: not computed)",
+        DB,
+        choices=(PLACEMENT,),
+    ),
+    Variable(
+        "placement_{placement}_designed_db",
+        (H,),
+        "power attenuation with the controls where designed ({placement})",
+        DB,
+        choices=(PLACEMENT,),
+    ),
+    Variable(
+        "placement_{placement}_tolerance_needed_m",
+        (H,),
+        "largest position tolerance keeping the 5 % loss within max_loss_db ({placement}; 0: not computed)",
+        "m",
+        choices=(PLACEMENT,),
+    ),
+    Variable(
+        "placement_{placement}_tolerance_found",
+        (H,),
+        "false when even the largest tolerance searched keeps the loss within max_loss_db ({placement})",
+        flags=BOOLEAN,
+        choices=(PLACEMENT,),
+    ),
+    Variable(
+        "placement_scattered_moves",
+        (S,),
+        "control moved in the placement study with scattering (the others move with a body and are held)",
+        flags=BOOLEAN,
+    ),
+    Variable("placement_tolerance_m", (), "largest position tolerance of the controls", "m"),
+    Variable("p_points_{part}", (H, P), "pressure (peak) at the observer points from {part}", "Pa", choices=(PART,)),
+    Variable("spl_points_{part}_db", (H, P), "sound pressure level re 20 uPa from {part}", DB, choices=(PART,)),
+    Variable(
+        "dba_points_{part}",
+        (H, P),
+        "A-weighted sound pressure level re 20 uPa of the harmonic from {part}",
+        DB,
+        choices=(PART,),
+    ),
+    Variable("points_model", (H,), "model the levels at the points come from"),
+    Variable("drive_volume_velocity_peak_m3s", DRIVE, "volume velocity asked of the loudspeaker (peak)", "m^3/s"),
+    Variable("drive_voltage_rms_v", DRIVE, "drive voltage (RMS)", "V"),
+    Variable("drive_current_rms_a", DRIVE, "drive current (RMS)", "A"),
+    Variable("drive_excursion_peak_m", DRIVE, "cone excursion (peak)", "m"),
+    Variable("drive_electrical_power_w", DRIVE, "real electrical power, Re(V I*)/2", "W"),
+    Variable("drive_nominal_power_w", DRIVE, "V_rms^2/Re, the quantity the power rating limits", "W"),
+    Variable("drive_excursion_margin_db", DRIVE, "margin to xmax (negative: over)", DB),
+    Variable("drive_power_margin_db", DRIVE, "margin to the rated power (negative: over)", DB),
+    Variable("drive_checked", (S,), "the control's loudspeaker was checked (a driver is named)", flags=BOOLEAN),
+    Variable(
+        "drive_amplifier_voltage_margin_db",
+        DRIVE,
+        "margin to the rated RMS voltage of the amplifier channel "
+        "feeding the control (negative: over; 0: no amplifier)",
+        DB,
+    ),
+    Variable(
+        "drive_amplifier_current_margin_db",
+        DRIVE,
+        "margin to the rated RMS current of the amplifier channel "
+        "feeding the control (negative: over; 0: no amplifier)",
+        DB,
+    ),
+    Variable(
+        "drive_amplifier_checked",
+        (S,),
+        "the control is fed by an [[amplifier]] (its margins are checked)",
+        flags=BOOLEAN,
+    ),
+    Variable(
+        "catalogue_worst_margin_db",
+        (S, "catalogue_driver"),
+        "worst margin of each catalogue driver at each "
+        "control position over every note, harmonic, demand and limit (negative: over)",
+        DB,
+    ),
+    Variable(
+        "catalogue_worst_margin_by_demand_db",
+        (S, "catalogue_driver", "demand"),
+        "worst margin over the designed demands and over the re-optimised ones (negative: over)",
+        DB,
+    ),
+    Variable(
+        "catalogue_passes_every_note",
+        (S, "catalogue_driver"),
+        "the catalogue driver passes every note at that position",
+        flags=BOOLEAN,
+    ),
+    Variable(
+        "catalogue_first_limit",
+        (S, "catalogue_driver"),
+        "limit met first at the worst demand: excursion, rated power, amplifier voltage or amplifier current",
+    ),
+    Variable("catalogue_ranked", (S,), "the catalogue was ranked at this control position", flags=BOOLEAN),
+    Variable(
+        "channel_spread_{channel}_computed",
+        (H,),
+        "the channel-error spread was computed ({channel})",
+        flags=BOOLEAN,
+        choices=(CHANNEL,),
+    ),
+    Variable(
+        "channel_spread_{channel}_db",
+        (H, "channel_percentile"),
+        "power attenuation at these percentiles of builds with channel errors ({channel}; 0: not computed)",
+        DB,
+        choices=(CHANNEL,),
+    ),
+    Variable(
+        "channel_designed_{channel}_db",
+        (H,),
+        "power attenuation with exact channels ({channel})",
+        DB,
+        choices=(CHANNEL,),
+    ),
+    Variable(
+        "channel_gain_needed_{channel}_db",
+        (H,),
+        "gain tolerance (phase exact) keeping 95 % of builds within max_loss_db ({channel})",
+        DB,
+        choices=(CHANNEL,),
+    ),
+    Variable(
+        "channel_phase_needed_{channel}_deg",
+        (H,),
+        "phase tolerance (gain exact) keeping 95 % of builds within max_loss_db ({channel})",
+        "degree",
+        choices=(CHANNEL,),
+    ),
+    Variable("primary_strength_route", (H,), "how the note's level became the primary strength: bem or monopole"),
+    Variable("primary_strength_used_m3s", (H,), "total primary strength used (peak)", "m^3/s"),
+    Variable(
+        "primary_strength_monopole_m3s",
+        (H,),
+        "primary strength of a free-field monopole giving the note's level at the measurement distance (peak)",
+        "m^3/s",
+    ),
+    Variable(
+        "primary_strength_bem_m3s",
+        (H,),
+        "primary strength giving the note's level in the BEM's field at the measurement point (peak; 0: not computed)",
+        "m^3/s",
+    ),
+    Variable("primary_strength_bem_computed", (H,), "the BEM gave the primary strength", flags=BOOLEAN),
+    Variable(
+        "primary_strength_bem_minus_monopole_db",
+        (H,),
+        "20 log10 of the BEM's over the monopole's primary strength (0: not computed)",
+        DB,
+    ),
+)
