@@ -165,7 +165,7 @@ def candidate_points(spec, meshes=(), file="<case>"):
     return np.round(np.concatenate(x), 9), np.concatenate(ij)
 
 
-def screen(spec, meshes, occupied, file="<case>", floor=None):
+def screen(spec, meshes, occupied, floor=None, file="<case>"):
     """Keep the candidates every model can hold.
 
     Parameters

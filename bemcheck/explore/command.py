@@ -50,7 +50,7 @@ def _candidates(case, meshes):
     """Screen the candidates; refuse an exploration left with too few."""
     file = case.path or "<case>"
     occupied = [s.position for s in base_sources(case)]
-    kept = screen(case.explore, [m for triple in meshes.values() for m in triple[:2]], occupied, file, case.floor)
+    kept = screen(case.explore, [m for triple in meshes.values() for m in triple[:2]], occupied, case.floor, file)
     key = (
         "explore.grid"
         if case.explore.grid is not None

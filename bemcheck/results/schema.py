@@ -218,6 +218,7 @@ EXPLORE = Schema(
             "alpha",
             ("alpha",),
             "weight of the sector's mean-square pressure against the radiated power (0 power, 1 sector)",
+            "1",
             coordinate=True,
         ),
         Variable(

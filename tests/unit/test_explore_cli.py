@@ -196,7 +196,9 @@ def test_candidates_around_a_body_and_check_prints_the_table(tmp_path, capsys):
     assert "around body 'ball', 0.06 m off its surface, 0.07 m apart" in capsys.readouterr().out
     c = load_case(case)
     meshes = band_meshes(c, tmp_path / "cache")
-    kept = screen(c.explore, [m for t in meshes.values() for m in t[:2]], [s.position for s in c.sources], str(case))
+    kept = screen(
+        c.explore, [m for t in meshes.values() for m in t[:2]], [s.position for s in c.sources], file=str(case)
+    )
     r = np.linalg.norm(kept.positions, axis=1)
     assert len(kept.positions) > 20 and np.allclose(r, 0.16, rtol=0.02)
     gaps = np.linalg.norm(kept.positions[:, None] - kept.positions[None], axis=2) + np.eye(len(r))
