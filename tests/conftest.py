@@ -5,7 +5,7 @@ from typing import NamedTuple
 import pytest
 
 from bemcheck.cli import main
-from bemcheck.report.browser import CHROMIUM, chromium_path
+from tests.support.browser import CHROMIUM, chromium_path
 
 
 def pytest_terminal_summary(terminalreporter):

@@ -16,8 +16,8 @@ from PIL import Image
 
 from bemcheck.report import html as report_html
 from bemcheck.report import tables, write_report
-from bemcheck.report.browser import CHROMIUM, check_page, chromium_path, print_pdf
 from bemcheck.results.verdict_summary import verdict_summary
+from tests.support.browser import CHROMIUM, check_page, chromium_path, print_pdf
 from tests.unit.test_report_figures import cube_mesh, floor_run, free_run
 
 pytestmark = pytest.mark.skipif(chromium_path() is None, reason=f"{CHROMIUM} not installed (Debian package 'chromium')")

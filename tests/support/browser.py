@@ -6,7 +6,7 @@ its scripts ran and ``--enable-logging=stderr`` prints console messages as
 ``CONSOLE`` lines (a blocked resource shows up there as a
 Content-Security-Policy violation).
 
-Run ``python -m bemcheck.report.browser RUN/report.html [--screenshot shot.png]``
+Run ``python -m tests.support.browser RUN/report.html [--screenshot shot.png]``
 for the same check by hand.  Needs the Debian package ``chromium``.
 """
 
@@ -178,7 +178,7 @@ def print_pdf(html_path, pdf_path, timeout=120.0):
 
 def main(argv=None):
     """Command-line check of one report page; exit status 0 when it passes."""
-    p = argparse.ArgumentParser(prog="python -m bemcheck.report.browser", description=__doc__.splitlines()[0])
+    p = argparse.ArgumentParser(prog="python -m tests.support.browser", description=__doc__.splitlines()[0])
     p.add_argument("page", type=Path, help="report.html")
     p.add_argument("--screenshot", type=Path, help="save a screenshot PNG here")
     p.add_argument("--pdf", type=Path, help="also print the page to this PDF (the print stylesheet applies)")
