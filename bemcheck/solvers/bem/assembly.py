@@ -238,6 +238,28 @@ def _regular(
             remaining -= n
 
 
+@numba.njit(inline="always", fastmath=True, error_model="numpy")
+def _velocity_pair(t, s, xq, phi, w, normals, k, eta_re, eta_im, v):
+    """Fill v (3,) with the P1 test moments on triangle t of V + ηK' from a constant on triangle s (per unit areas)."""
+    inv4pi = 1.0 / (4.0 * np.pi)
+    v[:] = 0.0
+    for p in range(w.shape[0]):
+        total = 0.0 + 0.0j
+        for q in range(w.shape[0]):
+            r0 = xq[s, q, 0] - xq[t, p, 0]
+            r1 = xq[s, q, 1] - xq[t, p, 1]
+            r2 = xq[s, q, 2] - xq[t, p, 2]
+            r = np.sqrt(r0 * r0 + r1 * r1 + r2 * r2)
+            co, si = cis(k * r)
+            g = complex(co, si) * (w[q] * inv4pi / r)
+            # V: G;  K': ∂G/∂n_x = -G (ikr - 1)/r² (y - x)·n_t
+            rt = r0 * normals[t, 0] + r1 * normals[t, 1] + r2 * normals[t, 2]
+            dn = -g * complex(-1.0, k * r) * rt / (r * r)
+            total += g + complex(eta_re, eta_im) * dn
+        for a in range(3):
+            v[a] += w[p] * phi[p, a] * total
+
+
 @numba.njit(parallel=True, fastmath=True, error_model="numpy")
 def _regular_velocity(
     out,
@@ -264,7 +286,6 @@ def _regular_velocity(
     support triangles are shared out among the threads.
     """
     nt = triangles.shape[0]
-    inv4pi = 1.0 / (4.0 * np.pi)
     for j in numba.prange(support.shape[0]):
         s = support[j]
         v = np.zeros(3, dtype=np.complex128)
@@ -275,22 +296,7 @@ def _regular_velocity(
                 xq, phi, w = far_x, far_phi, far_w
             else:
                 xq, phi, w = near_x, near_phi, near_w
-            v[:] = 0.0
-            for p in range(w.shape[0]):
-                total = 0.0 + 0.0j
-                for q in range(w.shape[0]):
-                    r0 = xq[s, q, 0] - xq[t, p, 0]
-                    r1 = xq[s, q, 1] - xq[t, p, 1]
-                    r2 = xq[s, q, 2] - xq[t, p, 2]
-                    r = np.sqrt(r0 * r0 + r1 * r1 + r2 * r2)
-                    co, si = cis(k * r)
-                    g = complex(co, si) * (w[q] * inv4pi / r)
-                    # V: G;  K': ∂G/∂n_x = -G (ikr - 1)/r² (y - x)·n_t
-                    rt = r0 * normals[t, 0] + r1 * normals[t, 1] + r2 * normals[t, 2]
-                    dn = -g * complex(-1.0, k * r) * rt / (r * r)
-                    total += g + complex(eta_re, eta_im) * dn
-                for a in range(3):
-                    v[a] += w[p] * phi[p, a] * total
+            _velocity_pair(t, s, xq, phi, w, normals, k, eta_re, eta_im, v)
             for a in range(3):
                 out[triangles[t, a], j] += areas[t] * areas[s] * v[a]
 

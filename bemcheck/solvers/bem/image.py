@@ -33,9 +33,10 @@ from bemcheck.solvers.bem.assembly import (
     _far_block,
     _pair_sums,
     _points,
+    _velocity_pair,
     colour_triangles,
 )
-from bemcheck.solvers.bem.kernel import cis, surface_curls
+from bemcheck.solvers.bem.kernel import surface_curls
 
 _FLIP = np.array([1.0, 1.0, -1.0])
 
@@ -191,7 +192,6 @@ def _image_velocity(
     triangles their images nt + s, every pair.
     """
     nt = triangles.shape[0] // 2
-    inv4pi = 1.0 / (4.0 * np.pi)
     for j in numba.prange(support.shape[0]):
         s = nt + support[j]
         v = np.zeros(3, dtype=np.complex128)
@@ -200,21 +200,7 @@ def _image_velocity(
                 xq, phi, w = xq_far, far_phi, far_w
             else:
                 xq, phi, w = xq_near, near_phi, near_w
-            v[:] = 0.0
-            for p in range(w.shape[0]):
-                total = 0.0 + 0.0j
-                for q in range(w.shape[0]):
-                    r0 = xq[s, q, 0] - xq[t, p, 0]
-                    r1 = xq[s, q, 1] - xq[t, p, 1]
-                    r2 = xq[s, q, 2] - xq[t, p, 2]
-                    r = np.sqrt(r0 * r0 + r1 * r1 + r2 * r2)
-                    co, si = cis(k * r)
-                    g = complex(co, si) * (w[q] * inv4pi / r)
-                    rt = r0 * normals[t, 0] + r1 * normals[t, 1] + r2 * normals[t, 2]
-                    dn = -g * complex(-1.0, k * r) * rt / (r * r)
-                    total += g + complex(eta_re, eta_im) * dn
-                for a in range(3):
-                    v[a] += w[p] * phi[p, a] * total
+            _velocity_pair(t, s, xq, phi, w, normals, k, eta_re, eta_im, v)
             for a in range(3):
                 out[triangles[t, a], j] += areas[t] * areas[s] * v[a]
 
