@@ -61,3 +61,27 @@ def place(points, at, axis):
     """
     p = np.atleast_2d(np.asarray(points, dtype=float))
     return p @ rotation_to(axis).T + np.asarray(at, dtype=float)
+
+
+def unplace(points, at, axis):
+    """Map points from the scene into a body's own frame: the inverse of :func:`place`.
+
+    Parameters
+    ----------
+    points : (N, 3) array_like
+        Scene coordinates [m].
+    at, axis : (3,) array_like
+        As for :func:`place`.
+
+    Returns
+    -------
+    (N, 3) ndarray
+        Points in the body frame [m].
+
+    Examples
+    --------
+    >>> unplace([[1, 3, 3]], at=[1, 2, 3], axis=[0, 1, 0]).round(12).tolist()
+    [[0.0, 0.0, 1.0]]
+    """
+    p = np.atleast_2d(np.asarray(points, dtype=float))
+    return (p - np.asarray(at, dtype=float)) @ rotation_to(axis)

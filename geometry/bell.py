@@ -41,7 +41,7 @@ import numpy as np
 from scipy.optimize import brentq
 from scipy.spatial import cKDTree
 
-from bemcheck.geometry_scripts._sizing import grade, local_size, mean_radius
+from bemcheck.geometry_scripts._sizing import grade, local_size, mean_radius, set_background
 from bemcheck.geometry_scripts._standalone import write_msh
 
 WALL_FRACTION = 0.7
@@ -289,13 +289,15 @@ def _measures(sec):
     return area, volume
 
 
-def build(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.0, size=0.02, scale=1.0):
+def build(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.0, size=0.02, scale=1.0, refinements=()):
     """Add the bell to the current gmsh model, with physical groups and mesh sizes.
 
     Parameters are those of the module docstring, in metres; ``size`` is the
     largest element size wanted [m].  Raises ValueError if the parameters do not
     make a valid solid.  ``scale`` multiplies the allowed deviation from the
-    solid (``_sizing.py``).  Call ``gmsh.model.mesh.generate(2)`` afterwards.
+    solid (``_sizing.py``); ``refinements`` (``_sizing.Refinement``, body
+    frame) ask for finer elements round points close to the surface.  Call
+    ``gmsh.model.mesh.generate(2)`` afterwards.
 
     Returns
     -------
@@ -357,6 +359,8 @@ def build(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.0,
     gmsh.model.mesh.setSizeCallback(
         lambda dim, tag, x, y, zz, lc: min(lc, float(h[tree.query((math.hypot(x, y), zz))[1]]))
     )
+    # the callback receives the background size as lc, so the two combine
+    set_background(gmsh, (), refinements)
     return sec
 
 

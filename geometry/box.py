@@ -17,7 +17,7 @@ Distance -> Threshold background field.  Run ``python geometry/box.py --help``.
 import argparse
 import math
 
-from bemcheck.geometry_scripts._sizing import allowed_deviation, mean_radius, sagitta_size
+from bemcheck.geometry_scripts._sizing import allowed_deviation, mean_radius, sagitta_size, set_background
 from bemcheck.geometry_scripts._standalone import write_msh
 
 ROUND_FRACTION = 0.8
@@ -49,7 +49,7 @@ def solid_measures(depth, width, height, edge_radius=0.0):
     return area, volume
 
 
-def build(depth, width, height, edge_radius=0.0, size=0.05, scale=1.0):
+def build(depth, width, height, edge_radius=0.0, size=0.05, scale=1.0, refinements=()):
     """Add the cabinet to the current gmsh model, with physical groups and mesh sizes.
 
     Parameters
@@ -62,6 +62,8 @@ def build(depth, width, height, edge_radius=0.0, size=0.05, scale=1.0):
         Largest element size wanted [m].
     scale : float
         Factor on the allowed deviation of the rounded edges (``_sizing.py``).
+    refinements : sequence of _sizing.Refinement
+        Finer elements round points close to the surface (body frame).
 
     Returns
     -------
@@ -105,6 +107,7 @@ def build(depth, width, height, edge_radius=0.0, size=0.05, scale=1.0):
         body = mean_radius(*solid_measures(depth, width, height, edge_radius))
         deviation = allowed_deviation(size, 1.0 / edge_radius, 0.5 * smallest, body, scale)
         h_round = min(h, max(float(sagitta_size(deviation, 1.0 / edge_radius)), scale * ROUND_FRACTION * edge_radius))
+    own = []
     if rounds and h_round < h:
         fields = gmsh.model.mesh.field
         dist = fields.add("Distance")
@@ -116,7 +119,8 @@ def build(depth, width, height, edge_radius=0.0, size=0.05, scale=1.0):
         fields.setNumber(ramp, "SizeMax", h)
         fields.setNumber(ramp, "DistMin", 0.0)
         fields.setNumber(ramp, "DistMax", (h - h_round) / GRADING)
-        fields.setAsBackgroundMesh(ramp)
+        own.append(ramp)
+    set_background(gmsh, own, refinements)
     return h
 
 

@@ -13,7 +13,7 @@ import argparse
 import math
 
 from bemcheck.case.shapes import Player
-from bemcheck.geometry_scripts._sizing import local_size, mean_radius
+from bemcheck.geometry_scripts._sizing import local_size, mean_radius, set_background
 from bemcheck.geometry_scripts._standalone import write_msh
 
 
@@ -63,7 +63,7 @@ def _check(head_radius, neck_radius, neck_length, torso_radius, torso_height):
         )
 
 
-def build(head_radius, neck_radius, neck_length, torso_radius, torso_height, size=0.05, scale=1.0):
+def build(head_radius, neck_radius, neck_length, torso_radius, torso_height, size=0.05, scale=1.0, refinements=()):
     """Add the player to the current gmsh model, with its physical group and mesh sizes.
 
     Parameters
@@ -74,6 +74,8 @@ def build(head_radius, neck_radius, neck_length, torso_radius, torso_height, siz
         Largest element size wanted [m].
     scale : float
         Factor on the allowed deviation from the solid (``_sizing.py``).
+    refinements : sequence of _sizing.Refinement
+        Finer elements round points close to the surface (body frame).
 
     Returns
     -------
@@ -116,7 +118,7 @@ def build(head_radius, neck_radius, neck_length, torso_radius, torso_height, siz
         parts.append(f)
     smallest = fields.add("Min")
     fields.setNumbers(smallest, "FieldsList", parts)
-    fields.setAsBackgroundMesh(smallest)
+    set_background(gmsh, [smallest], refinements)
     for name in ("MeshSizeFromPoints", "MeshSizeFromCurvature", "MeshSizeExtendFromBoundary"):
         gmsh.option.setNumber("Mesh." + name, 0)
     gmsh.option.setNumber("Mesh.MeshSizeMax", max(sizes.values()))

@@ -3,7 +3,7 @@
 import importlib
 import inspect
 import warnings
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 import numpy as np
@@ -148,7 +148,7 @@ def straddle(vertices, triangles, parts):
     return vertices + depth[:, None] * normal
 
 
-def _generate(body, element_size, refine=1.0):
+def _generate(body, element_size, refine=1.0, refinements=()):
     label = f"body '{body.name}' ({body.kind})"
     script, params = _script(body.shape.SCRIPT), body.shape.script_args()
     try:
@@ -157,13 +157,17 @@ def _generate(body, element_size, refine=1.0):
         raise GeometryError(f"{label}: {exc}") from exc
     factor, scale = GMSH_SIZE_FACTOR, 1.0
     target = element_size / refine
+    # gmsh overshoots a local size as it does the band's
+    asked = tuple(replace(r, size=r.size * GMSH_SIZE_FACTOR) for r in refinements)
     # A uniformly refined (or coarsened) mesh keeps the band mesh's geometry
     # error scaled as its sizes squared (P1 facets err as h²κ): an error-check
     # mesh 1.5× coarser must be that much coarser in its geometry too, or the
     # two meshes would agree where the geometry sets the sizes.
     within = _sizing.CHECKED_WITHIN / refine**2
     for _ in range(RETRIES + GEOMETRY_RETRIES + 1):
-        vertices, triangles, group, names = _run_script(script, params, body, element_size * factor, scale, refine)
+        vertices, triangles, group, names = _run_script(
+            script, params, body, element_size * factor, scale, refine, asked
+        )
         vertices = straddle(vertices, triangles, group)
         got = _measure(vertices, triangles, exact)
         long_edge = got.longest > target
@@ -190,16 +194,23 @@ def _generate(body, element_size, refine=1.0):
             MeshNotice,
             stacklevel=3,
         )
+    if refinements:
+        warnings.warn(
+            f"{label}: finer elements round {len(refinements)} monopole(s) close to its surface, "
+            f"down to {min(r.size for r in refinements) / refine:.3g} m",
+            MeshNotice,
+            stacklevel=3,
+        )
     triangles = check_surface(vertices, triangles, label)
     part_names = tuple("" if n == "wall" else n for n in names)
     return vertices, triangles, group, part_names
 
 
-def _run_script(script, params, body, gmsh_size, scale, refine=1.0):
+def _run_script(script, params, body, gmsh_size, scale, refine=1.0, refinements=()):
     label = f"body '{body.name}' ({body.kind})"
     with session(body.name) as gmsh:
         try:
-            script.build(*params, gmsh_size, scale)
+            script.build(*params, gmsh_size, scale, refinements=refinements)
             # A uniform refinement scales every size the script set, the
             # geometric bounds included, so a self-check mesh is finer everywhere.
             gmsh.option.setNumber("Mesh.MeshSizeFactor", 1.0 / refine)
@@ -221,8 +232,8 @@ def _file_path(shape, base_dir):
     return path
 
 
-def mesh_key(body, element_size, base_dir=None, refine=1.0):
-    """Cache key of ``body`` meshed at ``element_size`` and ``refine`` (a hex string)."""
+def mesh_key(body, element_size, base_dir=None, refine=1.0, refinements=()):
+    """Cache key of ``body`` meshed at ``element_size``, ``refine`` and ``refinements`` (a hex string)."""
     if body.shape.SCRIPT is None:
         path = _file_path(body.shape, base_dir)
         try:
@@ -241,10 +252,12 @@ def mesh_key(body, element_size, base_dir=None, refine=1.0):
     }
     if refine != 1.0:
         extra["refine"] = float(refine)
+    if refinements:
+        extra["refinements"] = [[*map(float, r.centre), float(r.reach), float(r.size)] for r in refinements]
     return cache.digest(body.kind, body.shape, element_size, sources, extra)
 
 
-def mesh_body(body, element_size, cache_dir=None, base_dir=None, refine=1.0):
+def mesh_body(body, element_size, cache_dir=None, base_dir=None, refine=1.0, refinements=()):
     """Mesh one body in its own frame, or take it from the cache.
 
     Parameters
@@ -259,13 +272,16 @@ def mesh_body(body, element_size, cache_dir=None, base_dir=None, refine=1.0):
     refine : float
         Uniform refinement: every element size, the geometric bounds
         included, divided by it (file bodies are used as they are).
+    refinements : sequence of bemcheck.geometry_scripts._sizing.Refinement
+        Finer elements round points close to the surface, in the body's
+        frame (scripted bodies only; see :mod:`bemcheck.mesh.refine`).
 
     Returns
     -------
     BodyMesh
     """
     cache_dir = cache.default_cache_dir() if cache_dir is None else Path(cache_dir)
-    key = mesh_key(body, element_size, base_dir, refine)
+    key = mesh_key(body, element_size, base_dir, refine, refinements)
     stored = cache.load(cache_dir, key)
     if stored is not None:
         mesh = BodyMesh(
@@ -285,7 +301,7 @@ def mesh_body(body, element_size, cache_dir=None, base_dir=None, refine=1.0):
             vertices, triangles = read_mesh_file(path, body.shape.scale, f"body '{body.name}'")
             parts, part_names = np.zeros(len(triangles), dtype=np.int64), ("",)
         else:
-            vertices, triangles, parts, part_names = _generate(body, element_size, refine)
+            vertices, triangles, parts, part_names = _generate(body, element_size, refine, refinements)
     notices = []
     for w in caught:
         if issubclass(w.category, MeshNotice):

@@ -12,12 +12,16 @@ from bemcheck.mesh.bodies import mesh_body
 from bemcheck.mesh.distance import nearest_on_surface, winding_number
 from bemcheck.mesh.estimate import check_mesh_size
 from bemcheck.mesh.floor import check_floor_clearance
+from bemcheck.mesh.refine import local_refinements
 from bemcheck.mesh.surface import SurfaceMesh
 from bemcheck.settings import NUMERICS
 
 # Sources closer to a surface than this fraction of the nearest element's
 # longest edge are refused, before any solve (the solver's own limit).
 SOURCE_MARGIN = NUMERICS.source_gap
+# Meshes made round close monopoles, each measuring the distance again on
+# the finer facets (the first, on the band's facets, errs by their sagitta).
+REFINE_ROUNDS = 3
 
 
 def _fmt(p):
@@ -51,7 +55,14 @@ def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     GeometryError
         No bodies, a body that cannot be meshed, a file body too coarse for
         the case (fewer than REFUSED_BELOW elements per wavelength at its
-        highest frequency), or a clearance check failing.
+        highest frequency), a monopole closer to a body than
+        ``NUMERICS.closest_source``, or a clearance check failing.
+
+    Notes
+    -----
+    A scripted body gets finer elements round each monopole that stands
+    closer to it than ``NUMERICS.refine_below`` elements
+    (:func:`~bemcheck.mesh.refine.local_refinements`).
     """
     if not case.bodies:
         raise GeometryError(f"{case.path or case.title}: no bodies to mesh")
@@ -60,7 +71,9 @@ def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     vertices, triangles, domains, groups = [], [], [], {}
     offset = 0
     for body in case.bodies:
-        bm = mesh_body(body, element_size, cache_dir, base_dir, refine)
+        spots, bm = _refinements(case, body, element_size, cache_dir, base_dir)
+        if refine != 1.0:
+            bm = mesh_body(body, element_size, cache_dir, base_dir, refine, spots)
         if body.shape.SCRIPT is None:
             _check_resolution(case, body, bm)
         tags = []
@@ -76,6 +89,25 @@ def mesh_scene(case, element_size, cache_dir=None, check=True, refine=1.0):
     if check:
         check_clearances(case, mesh, element_size)
     return mesh
+
+
+def _refinements(case, body, element_size, cache_dir, base_dir):
+    """The body's refinements round close monopoles and its band mesh made with them.
+
+    Decided on the band mesh (``refine`` 1), so that the error check's
+    coarser mesh is refined round the same points.
+    """
+    spots = ()
+    bm = mesh_body(body, element_size, cache_dir, base_dir)
+    if body.shape.SCRIPT is None:
+        return spots, bm
+    for _ in range(REFINE_ROUNDS):
+        more = local_refinements(case, body, bm, spots)
+        if [r.size for r in more] == [r.size for r in spots]:
+            break
+        spots = more
+        bm = mesh_body(body, element_size, cache_dir, base_dir, 1.0, spots)
+    return spots, bm
 
 
 def check_file_bodies(case, cache_dir=None):
@@ -156,11 +188,11 @@ def check_clearances(case, mesh, element_size, source_margin=None):
     surfaces = {b.name: _body_surface(mesh, b.name) for b in case.bodies}
     for a, b in combinations(case.bodies, 2):
         _check_pair(a.name, b.name, v, surfaces[a.name], surfaces[b.name], element_size)
-    for src in case.sources:
+    for i, src in enumerate(case.sources):
         if src.radiator == "piston":
             continue
         for name, tri in surfaces.items():
-            _check_point(f"source '{src.name}'", src.position, name, v, tri, source_margin)
+            _check_point(f"{case.path}: source[{i}].at: source '{src.name}'", src.position, name, v, tri, source_margin)
     for obs in case.observers.points:
         for name, tri in surfaces.items():
             if _inside([obs.at], v, tri)[0]:
@@ -236,6 +268,12 @@ def _check_point(label, position, body, v, tri, margin):
     d, which = nearest_on_surface(p, v, tri, reach=longest if margin is None else margin)
     if which[0] < 0:
         return
+    if d[0] < NUMERICS.closest_source:
+        raise GeometryError(
+            f"{label} at {_fmt(p[0])} is {1e3 * d[0]:.3g} mm from the surface of body '{body}'; expected at "
+            f"least {1e3 * NUMERICS.closest_source:g} mm (a monopole stands for a driver, whose radiating surface "
+            "is larger than that): move it out, or make it a piston on the body's face"
+        )
     c = corners[which[0]]
     need = margin if margin is not None else SOURCE_MARGIN * float(np.linalg.norm(c[[1, 2, 0]] - c, axis=1).max())
     if d[0] < need:
@@ -243,4 +281,5 @@ def _check_point(label, position, body, v, tri, margin):
         raise GeometryError(
             f"{label} at {_fmt(p[0])} is {d[0]:.3g} m from the surface of body "
             f"'{body}', closer than the margin {need:.3g} m{why}; move it out"
+            + ("" if margin is not None else ", or give the body finer elements there (a mesh file is used as drawn)")
         )

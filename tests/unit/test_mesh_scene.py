@@ -73,9 +73,13 @@ def test_sources_and_observers(tmp_path):
     inside = Source("p", "primary", (0.02, 0, 0), strength=1e-3)
     with pytest.raises(GeometryError, match="source 'p' .* inside body 'head'"):
         mesh_scene(scene(body, [inside]), H, tmp_path)
+    # 1.5 mm off: the sphere is meshed finer round it; 0.4 mm off: below the stated limit
     grazing = Source("c", "control", (0.1015, 0, 0))
-    with pytest.raises(GeometryError, match="source 'c' .* closer than the margin"):
-        mesh_scene(scene(body, [grazing]), H, tmp_path)
+    plain, refined = mesh_scene(scene(body, []), H, tmp_path), mesh_scene(scene(body, [grazing]), H, tmp_path)
+    assert refined.sizes.min() < 0.5 * plain.sizes.min()
+    touching = Source("c", "control", (0.1004, 0, 0))
+    with pytest.raises(GeometryError, match=r"source\[0\]\.at: source 'c' .* mm from the surface .* at least 1 mm"):
+        mesh_scene(scene(body, [touching]), H, tmp_path)
     piston = Source("bell", "primary", (0.1, 0, 0), radiator="piston", strength=1e-3)
     clear = Source("c", "control", (0.2, 0, 0))
     mesh_scene(scene(body, [piston, clear]), H, tmp_path)

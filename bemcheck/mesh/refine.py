@@ -1,0 +1,101 @@
+"""Finer elements round monopoles that stand close to a body: where, and how fine.
+
+The band's elements cannot follow the peak of a close monopole's field on
+the surface: its self impedance and radiated power err by 0.2-3.7 % when it
+stands 0.05-0.5 elements off (``NUMERICS.source_gap``, measured beside a
+sphere).  Rather than refuse such a layout, a scripted body is meshed again
+with elements of about the monopole's distance round its nearest surface
+point (``NUMERICS.refined_gap``), graded back to the band's size
+(``_sizing.SOURCE_GRADING``).  Only a monopole inside a body, or closer than
+``NUMERICS.closest_source`` to it, is refused (by the clearance check of
+``bemcheck.mesh.scene``); file bodies keep the mesh they were drawn with.
+"""
+
+import numpy as np
+
+from bemcheck.frames import unplace
+from bemcheck.geometry_scripts._sizing import Refinement
+from bemcheck.mesh.distance import nearest_on_surface, winding_number
+from bemcheck.settings import NUMERICS
+
+# relative change of a refinement's size below which a mesh is not made again
+SAME_WITHIN = 0.1
+
+
+def local_refinements(case, body, mesh, previous=()):
+    """Refinements that ``body``'s mesh needs round the case's monopoles.
+
+    Parameters
+    ----------
+    case : bemcheck.case.model.Case
+    body : bemcheck.case.model.Body
+        A scripted body of ``case``.
+    mesh : bemcheck.mesh.bodies.BodyMesh
+        Its mesh in its own frame: the band mesh, or one already refined
+        by ``previous``.
+    previous : tuple of Refinement
+        The refinements ``mesh`` was made with.
+
+    Returns
+    -------
+    tuple of Refinement
+        One per monopole closer to the surface of ``mesh`` than
+        ``NUMERICS.refine_below`` of the nearest element's longest edge, or
+        refined before, in the body's frame.  The element size asked for is
+        the distance (no less than ``NUMERICS.closest_source``) over
+        ``NUMERICS.refined_gap``.  A mesh's facets cut the surface, so the
+        distance seen on a coarse mesh is off by up to its sagitta: it is
+        measured again on the refined one, and a size within
+        ``SAME_WITHIN`` of the one before is kept (the meshes have settled).
+        Monopoles inside the body, deeper than ``NUMERICS.snap_inside`` of
+        an element, are left to the clearance check, which names them.
+
+    Examples
+    --------
+    >>> from bemcheck.case.load import parse_case
+    >>> from bemcheck.mesh.bodies import BodyMesh
+    >>> case = parse_case('''
+    ... [case]
+    ... title = "refine (doctest)"
+    ... [frequencies]
+    ... list = [100.0]
+    ... [[body]]
+    ... name = "ball"
+    ... kind = "sphere"
+    ... radius = 0.1
+    ... [[source]]
+    ... name = "p"
+    ... role = "primary"
+    ... at = [0.1, 0.1, 0.1]
+    ... strength = 1e-3
+    ... ''')
+    >>> v = np.array([[0.0, 0, 0], [1, 0, 0], [0, 1, 0], [0, 0, 1]]) * 0.3 - 0.05
+    >>> t = np.array([[0, 2, 1], [0, 1, 3], [0, 3, 2], [1, 2, 3]])
+    >>> mesh = BodyMesh(v, t, np.zeros(4, int), ("",))
+    >>> [(round(r.reach, 4), round(r.size, 4)) for r in local_refinements(case, case.bodies[0], mesh)]
+    [(0.0866, 0.0866)]
+    """
+    monopoles = [s.position for s in case.sources if s.radiator != "piston"]
+    if not monopoles or not len(mesh.triangles):
+        return ()
+    points = unplace(monopoles, body.at, body.axis)
+    corners = mesh.vertices[mesh.triangles]
+    longest = np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max(axis=1)
+    distance, which = nearest_on_surface(points, mesh.vertices, mesh.triangles, NUMERICS.refine_below * longest.max())
+    before = {r.centre: r.size for r in previous}
+    centres = [tuple(float(c) for c in p) for p in points]
+    close = (which >= 0) & (distance < NUMERICS.refine_below * longest[np.maximum(which, 0)])
+    close |= np.array([c in before for c in centres])
+    inside = np.zeros(len(points), dtype=bool)
+    if close.any():
+        inside[close] = winding_number(points[close], mesh.vertices, mesh.triangles) > 0.5
+    # inside the facets by less than their sagitta may still be outside the solid: the finer mesh decides
+    shallow = inside & (distance < NUMERICS.snap_inside * longest[np.maximum(which, 0)])
+    out = []
+    for j in np.flatnonzero(close & (~inside | shallow)):
+        d = float(distance[j]) if which[j] >= 0 else float(NUMERICS.refine_below * longest.max())
+        size = max(d, NUMERICS.closest_source) / NUMERICS.refined_gap
+        if abs(size - before.get(centres[j], np.inf)) <= SAME_WITHIN * size:
+            size = before[centres[j]]
+        out.append(Refinement(centres[j], d, size))
+    return tuple(out)
