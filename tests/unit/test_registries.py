@@ -20,7 +20,7 @@ def test_every_body_kind_has_its_script(kind):
     script = importlib.import_module(f"bemcheck.geometry_scripts.{shape.SCRIPT}")
     assert callable(script.build) and callable(script.solid_measures)
     # the script takes the shape's arguments, then the mesh size and a geometric-tolerance scale
-    assert list(inspect.signature(script.build).parameters)[-2:] == ["size", "scale"]
+    assert list(inspect.signature(script.build).parameters)[-3:] == ["size", "scale", "refinements"]
 
 
 @pytest.mark.parametrize("kind", sorted(OBJECTIVES))
