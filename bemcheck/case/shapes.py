@@ -266,13 +266,16 @@ class Player(Shape):
         """Height of the head's centre above the waist [m]; the neck meets the head at its own radius."""
         return self.torso_height + self.neck_length + math.sqrt(self.head_radius**2 - self.neck_radius**2)
 
-    def ears(self, standoff=STANDOFF):
-        """Left and right ear positions [m], body frame: ``standoff`` outside the head at ±y.
+    def ears(self, standoff=0.0):
+        """Left and right ear positions [m], body frame: on the head at ±y, or ``standoff`` outside it.
+
+        On the surface the solver takes the surface pressure itself (the
+        pressure at a blocked ear canal's entrance).
 
         Examples
         --------
         >>> [round(v, 4) for v in Player().ears()[0]]
-        [0.0, 0.1075, 0.6781]
+        [0.0, 0.0875, 0.6781]
         """
         y = self.head_radius + standoff
         return ((0.0, y, self.head_height), (0.0, -y, self.head_height))

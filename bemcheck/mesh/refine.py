@@ -1,4 +1,4 @@
-"""Finer elements round monopoles that stand close to a body: where, and how fine.
+"""Finer elements round monopoles and observer points close to a body: where, and how fine.
 
 The band's elements cannot follow the peak of a close monopole's field on
 the surface: its self impedance and radiated power err by 0.2-3.7 % when it
@@ -9,6 +9,10 @@ point (``NUMERICS.refined_gap``), graded back to the band's size
 (``_sizing.SOURCE_GRADING``).  Only a monopole inside a body, or closer than
 ``NUMERICS.closest_source`` to it, is refused (by the clearance check of
 ``bemcheck.mesh.scene``); file bodies keep the mesh they were drawn with.
+
+An observer point on or near a surface (an ear on a head) takes the surface
+pressure, a P1 interpolation between vertices: it gets elements a fraction
+of its distance to the nearest source, the scale on which that field varies.
 """
 
 import numpy as np
@@ -23,7 +27,7 @@ SAME_WITHIN = 0.1
 
 
 def local_refinements(case, body, mesh, previous=()):
-    """Refinements that ``body``'s mesh needs round the case's monopoles.
+    """Refinements that ``body``'s mesh needs round the case's monopoles and observer points.
 
     Parameters
     ----------
@@ -39,11 +43,14 @@ def local_refinements(case, body, mesh, previous=()):
     Returns
     -------
     tuple of Refinement
-        One per monopole closer to the surface of ``mesh`` than
-        ``NUMERICS.refine_below`` of the nearest element's longest edge, or
-        refined before, in the body's frame.  The element size asked for is
-        the distance (no less than ``NUMERICS.closest_source``) over
-        ``NUMERICS.refined_gap``.  A mesh's facets cut the surface, so the
+        One per monopole or observer point closer to the surface of
+        ``mesh`` than ``NUMERICS.refine_below`` of the nearest element's
+        longest edge, or refined before, in the body's frame.  The element
+        size asked for is, for a monopole, its distance (no less than
+        ``NUMERICS.closest_source``) over ``NUMERICS.refined_gap``; for an
+        observer point, ``NUMERICS.observer_source_ratio`` times its
+        distance to the nearest source, where that is finer than the mesh
+        there.  A mesh's facets cut the surface, so the
         distance seen on a coarse mesh is off by up to its sagitta: it is
         measured again on the refined one, and a size within
         ``SAME_WITHIN`` of the one before is kept (the meshes have settled).
@@ -76,25 +83,35 @@ def local_refinements(case, body, mesh, previous=()):
     [(0.0866, 0.0866)]
     """
     monopoles = [s.position for s in case.sources if s.radiator != "piston"]
-    if not monopoles or not len(mesh.triangles):
+    observers = [o.at for o in case.observers.points]
+    if not (monopoles or observers) or not len(mesh.triangles):
         return ()
-    points = unplace(monopoles, body.at, body.axis)
+    points = unplace(monopoles + observers, body.at, body.axis)
     corners = mesh.vertices[mesh.triangles]
     longest = np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max(axis=1)
     distance, which = nearest_on_surface(points, mesh.vertices, mesh.triangles, NUMERICS.refine_below * longest.max())
+    local = longest[np.maximum(which, 0)]
     before = {r.centre: r.size for r in previous}
     centres = [tuple(float(c) for c in p) for p in points]
-    close = (which >= 0) & (distance < NUMERICS.refine_below * longest[np.maximum(which, 0)])
+    close = (which >= 0) & (distance < NUMERICS.refine_below * local)
     close |= np.array([c in before for c in centres])
     inside = np.zeros(len(points), dtype=bool)
     if close.any():
         inside[close] = winding_number(points[close], mesh.vertices, mesh.triangles) > 0.5
     # inside the facets by less than their sagitta may still be outside the solid: the finer mesh decides
-    shallow = inside & (distance < NUMERICS.snap_inside * longest[np.maximum(which, 0)])
+    shallow = inside & (distance < NUMERICS.snap_inside * local)
+    sources = unplace([s.position for s in case.sources], body.at, body.axis) if case.sources else np.zeros((0, 3))
     out = []
     for j in np.flatnonzero(close & (~inside | shallow)):
         d = float(distance[j]) if which[j] >= 0 else float(NUMERICS.refine_below * longest.max())
-        size = max(d, NUMERICS.closest_source) / NUMERICS.refined_gap
+        if j < len(monopoles):
+            size = max(d, NUMERICS.closest_source) / NUMERICS.refined_gap
+        else:
+            # the field varies on the scale of the distance to the nearest source
+            reach = float(np.linalg.norm(sources - points[j], axis=1).min(initial=np.inf))
+            size = NUMERICS.observer_source_ratio * max(reach, NUMERICS.closest_source)
+            if size >= local[j] and centres[j] not in before:
+                continue
         if abs(size - before.get(centres[j], np.inf)) <= SAME_WITHIN * size:
             size = before[centres[j]]
         out.append(Refinement(centres[j], d, size))

@@ -195,7 +195,7 @@ def check_clearances(case, mesh, element_size, source_margin=None):
             _check_point(f"{case.path}: source[{i}].at: source '{src.name}'", src.position, name, v, tri, source_margin)
     for obs in case.observers.points:
         for name, tri in surfaces.items():
-            if _inside([obs.at], v, tri)[0]:
+            if _inside([obs.at], v, tri)[0] and not _on_surface(obs.at, v, tri):
                 raise GeometryError(
                     f"observer point '{obs.name}' at {_fmt(obs.at)} is inside "
                     f"body '{name}'; expected a point in the air"
@@ -210,6 +210,19 @@ def check_clearances(case, mesh, element_size, source_margin=None):
                     f"measured at ({note.distance:g} m from the primary along {key}.direction) "
                     f"at {_fmt(note.at)} is inside body '{name}'; expected a point in the air"
                 )
+
+
+def _on_surface(point, v, tri):
+    """A point inside the facets by less than ``NUMERICS.snap_inside`` of an element is on the solid's surface.
+
+    Flat facets cut a curved surface, so a point on the solid (an ear on a
+    head) may lie just inside them; the solver takes the surface pressure
+    there.
+    """
+    corners = v[tri]
+    longest = np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max(axis=1)
+    d, which = nearest_on_surface([point], v, tri, reach=NUMERICS.snap_inside * float(longest.max()))
+    return bool(which[0] >= 0 and d[0] <= NUMERICS.snap_inside * longest[which[0]])
 
 
 def _check_pair(a, b, v, ta, tb, h):

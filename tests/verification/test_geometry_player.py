@@ -59,7 +59,7 @@ def test_case_file_reads_a_player_with_defaults_and_refuses_a_wide_neck():
 
 
 def test_ears_are_observer_points_beside_the_head():
-    """`ear = "me.left"` puts the point STANDOFF outside the head at +y of the body frame, carried into the scene."""
+    """`ear = "me.left"` puts the point on the head at +y of the body frame, carried into the scene."""
     text = (
         '[case]\ntitle = "t"\n[frequencies]\nlist = [100.0]\n[[source]]\nname = "p"\nrole = "primary"\n'
         'at = [1.0, 0.0, 1.0]\nstrength = 1e-3\n[[body]]\nname = "me"\nkind = "player"\nat = [0.0, 2.0, 0.0]\n'
@@ -67,7 +67,7 @@ def test_ears_are_observer_points_beside_the_head():
     )
     left, right = (p.at for p in parse_case(text).observers.points)
     shape = Player()
-    assert left == pytest.approx((0.0, 2.0 + shape.head_radius + 0.02, shape.head_height))
-    assert right == pytest.approx((0.0, 2.0 - shape.head_radius - 0.02, shape.head_height))
+    assert left == pytest.approx((0.0, 2.0 + shape.head_radius, shape.head_height))
+    assert right == pytest.approx((0.0, 2.0 - shape.head_radius, shape.head_height))
     with pytest.raises(Exception, match=r"observers\.points\[0\]\.ear: expected '<player>\.left'"):
         parse_case(text.replace('ear = "me.left"', 'ear = "you.left"'))
