@@ -5,7 +5,9 @@ A note's level is measured at one point: ``distance`` from the primary along
 pressure at that point per unit strength.  With bodies, H is the BEM's field
 of the primaries (the bell's directivity and the scattering included); the
 free-field monopole, |H| = ωρ/(4πr), is computed beside it for comparison
-and used wherever the BEM did not run.  Several primaries share a note in
+and used wherever the BEM did not run; over a ``[floor]`` the monopole's
+field at the point includes its image (Morse & Ingard 1968, sec. 7.4, from
+memory).  Several primaries share a note in
 proportion to their given strengths, and H is then their summed field.
 
 Strengths are peak volume-velocity amplitudes [m³/s]; levels RMS, dB re 20 µPa.
@@ -15,6 +17,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from bemcheck.solvers import halfspace
 from bemcheck.solvers.freefield import P_REF, volume_velocity_from_spl
 
 BEM = "bem"
@@ -141,6 +144,17 @@ def note_strengths(case, spectrum, field_at):
     levels = np.asarray(spectrum.spl_at_1m, dtype=float)
     freqs = np.asarray(spectrum.harmonics, dtype=float)
     mono = volume_velocity_from_spl(freqs, case.medium, levels, spectrum.distance)
+    if case.floor is not None and spectrum.at is not None:
+        # over a floor the monopole model hears its image too
+        at = [case.sources[i].position for i in primary]
+        mono = np.array(
+            [
+                strength_for_level(
+                    level, halfspace.transfer_matrix(f, case.medium, at, [spectrum.at], case.floor)[0] @ w
+                )
+                for f, level in zip(freqs, levels)
+            ]
+        )
     out = []
     for h, (f, level) in enumerate(zip(freqs, levels)):
         field = field_at(float(f), np.asarray([spectrum.at])) if spectrum.at is not None else "no measurement point"

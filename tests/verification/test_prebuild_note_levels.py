@@ -181,3 +181,30 @@ def test_the_check_uses_the_bem_strength_and_says_so(beside):
     assert [r["route"] for r in half.summary["note_levels"]] == [BEM, MONOPOLE]
     assert half.summary["note_levels"][1]["reason"] == "not stored here"
     assert half.summary["note_levels"][1]["bem_minus_monopole_db"] is None
+
+
+def test_over_a_floor_the_monopole_route_hears_the_image():
+    """Over a rigid floor the monopole's pressure at the measurement point is the direct wave
+    plus its image's: |H| = (ωρ/4π) |e^{ikr}/r + e^{ikr'}/r'|, r' to the mirrored source
+    (Morse & Ingard 1968, Theoretical Acoustics, sec. 7.4, from memory); no bodies, so the
+    BEM route answers the same field (free solve with the floor's image terms)."""
+    from dataclasses import replace
+
+    from bemcheck.case.floor import Floor
+
+    text = CASE.format(elevation=20.0).replace("distance = 1.2", "distance = 2.5")
+    text = text[: text.index("[[body]]")] + text[text.index("[[source]]") :]
+    base = parse_case(text)
+    x0 = np.array(base.sources[0].position)
+    floor = Floor(float(x0[2]) - 0.7)
+    case = replace(base, floor=floor)
+    note = case.played[0]
+    rows = note_strengths(case, note, lambda f, points: "no solve")
+    r = np.linalg.norm(np.subtract(note.at, x0))
+    r_image = np.linalg.norm(np.subtract(note.at, floor.mirror(x0)))
+    for row, level in zip(rows, note.spl_at_1m):
+        omega = 2 * np.pi * row.frequency
+        k = omega / case.medium.speed_of_sound
+        h = omega * case.medium.density / (4 * np.pi) * abs(np.exp(1j * k * r) / r + np.exp(1j * k * r_image) / r_image)
+        assert row.route == MONOPOLE
+        assert row.monopole_m3s == pytest.approx(np.sqrt(2) * 20e-6 * 10 ** (level / 20) / h, rel=1e-12)
