@@ -15,6 +15,9 @@ limit with the smallest margin is the first one the drive meets.
 
 import numpy as np
 
+from bemcheck.case.model import Medium
+from bemcheck.prebuild.drivers import drive_for
+
 EXCURSION = "excursion"
 RATED_POWER = "rated power"
 AMPLIFIER_VOLTAGE = "amplifier voltage"
@@ -74,3 +77,40 @@ def first_limit(margins):
     """
     name = min((n for n in LIMITS if n in margins), key=lambda n: margins[n])
     return name, float(margins[name])
+
+
+def volume_velocity_at_amplifier(driver, amplifier, frequency, medium=Medium()):
+    """Largest volume velocity a channel of ``amplifier`` can drive ``driver`` to [m³/s, peak].
+
+    The drive grows in proportion to the volume velocity, so the channel
+    runs out where the voltage or the current for a unit volume velocity,
+    scaled up, meets √2 times the rated RMS value, whichever comes first.
+
+    Parameters
+    ----------
+    driver : bemcheck.case.drivers.Driver
+    amplifier : bemcheck.case.amplifiers.Amplifier
+    frequency : float or (F,) array_like
+        [Hz], positive.
+    medium : Medium
+
+    Returns
+    -------
+    float or (F,) ndarray
+
+    Examples
+    --------
+    >>> from bemcheck.case.amplifiers import Amplifier
+    >>> from bemcheck.case.drivers import Driver
+    >>> d = Driver("demo", 6.0, 7.0, 0.020, 1e-3, 1.5, 0.0133, 5e-3, 0.020, 50.0)
+    >>> a = Amplifier("amp", 20.0, 5.0, ("c",))
+    >>> q = volume_velocity_at_amplifier(d, a, 200.0)
+    >>> drive = drive_for(d, 200.0, q)
+    >>> round(min(float(m) for m in amplifier_margins(a, drive.voltage, drive.current)), 9)
+    0.0
+    """
+    unit = drive_for(driver, frequency, np.ones(np.shape(frequency)), medium)
+    root2 = np.sqrt(2.0)
+    by_voltage = root2 * amplifier.rated_voltage_rms / np.abs(unit.voltage)
+    by_current = root2 * amplifier.rated_current_rms / np.abs(unit.current)
+    return np.minimum(by_voltage, by_current)

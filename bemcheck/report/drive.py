@@ -2,6 +2,8 @@
 
 import numpy as np
 
+from bemcheck.case.amplifiers import amplifier_of
+from bemcheck.prebuild.amplifiers import volume_velocity_at_amplifier
 from bemcheck.prebuild.drivers import excursion_limited_volume_velocity, volume_velocity_at_rated_power
 from bemcheck.report import style
 
@@ -17,27 +19,33 @@ def driven_controls(ds):
 
 
 def _available_curves(ds, case, j, grid):
-    """(frequencies, Q within xmax, Q at rated power) for source j: from its driver over ``grid``
-    when the case is at hand, else through the values stored at the harmonics."""
+    """(frequencies, Q within xmax, Q at rated power, Q from the amplifier channel or None) for source j:
+    from its driver over ``grid`` when the case is at hand, else through the values stored at the harmonics
+    (no amplifier curve then)."""
     source = case.sources[j] if case is not None and j < len(case.sources) else None
     driver = next((d for d in case.drivers if source is not None and d.name == source.driver), None) if case else None
     if driver is not None:
+        amplifier = amplifier_of(case.amplifiers).get(source.name)
         return (
             grid,
             excursion_limited_volume_velocity(driver, grid),
             volume_velocity_at_rated_power(driver, grid, case.medium),
+            None if amplifier is None else volume_velocity_at_amplifier(driver, amplifier, grid, case.medium),
         )
     f = ds["harmonic_frequency"].values
     order = np.argsort(f, kind="stable")
-    return (f[order], ds["q_available_excursion"].values[order, j], ds["q_available_rated_power"].values[order, j])
+    stored = ds["q_available_excursion"].values[order, j], ds["q_available_rated_power"].values[order, j]
+    return (f[order], *stored, None)
 
 
 def volume_velocity_figure(ds, case=None):
     """Volume velocity each control loudspeaker must give at every harmonic, against what it can give.
 
     One panel per control source with a driver: the excursion limit
-    Q_max = Sd·xmax·ω and the volume velocity at rated power (closed box,
-    Small 1972) as curves over frequency, shaded above the lower of the two;
+    Q_max = Sd·xmax·ω, the volume velocity at rated power (closed box,
+    Small 1972) and, for a control fed by an ``[[amplifier]]``, the volume
+    velocity at the channel's rated voltage or current, as curves over
+    frequency, shaded above the lowest;
     the required |q| of every note's harmonics as designed (filled) and
     re-optimised with scattering (open), one marker shape per note.
 
@@ -71,14 +79,16 @@ def volume_velocity_figure(ds, case=None):
     for ax in axes[len(controls) :]:
         ax.set_visible(False)
     for ax, j in zip(axes, controls, strict=False):
-        f_c, q_x, q_w = _available_curves(ds, case, j, grid)
-        shown = [designed[:, j], reopt[:, j], q_x, q_w]
+        f_c, q_x, q_w, q_a = _available_curves(ds, case, j, grid)
+        shown = [designed[:, j], reopt[:, j], q_x, q_w] + ([] if q_a is None else [q_a])
         top = 3.0 * max(float(np.max(v)) for v in shown)
-        ax.fill_between(
-            f_c, np.minimum(q_x, q_w), top, color=style.SCATTERED, alpha=0.10, lw=0, label="beyond the loudspeaker"
-        )
+        limit = np.minimum(q_x, q_w) if q_a is None else np.minimum(np.minimum(q_x, q_w), q_a)
+        beyond = "beyond the loudspeaker" if q_a is None else "beyond the loudspeaker or its amplifier channel"
+        ax.fill_between(f_c, limit, top, color=style.SCATTERED, alpha=0.10, lw=0, label=beyond)
         ax.plot(f_c, q_x, color=style.INK, lw=1.6, label="available within xmax (Sd·xmax·ω)")
         ax.plot(f_c, q_w, color=style.MUTED, lw=1.4, ls=(0, (5, 2)), label="available at rated power")
+        if q_a is not None:
+            ax.plot(f_c, q_a, color=style.INK, lw=1.2, ls=(0, (1, 1.5)), label="available from the amplifier channel")
         for k, note in enumerate(dict.fromkeys(notes)):
             sel = np.array([n == note for n in notes]) & (designed[:, j] > 0)
             marker = _NOTE_MARKERS[k % len(_NOTE_MARKERS)]

@@ -274,3 +274,22 @@ def test_required_and_available_volume_velocity_plot(tmp_path):
     assert (tmp_path / "figures" / "volume_velocity.png").stat().st_size > 0
     assert (tmp_path / "figures" / "volume_velocity.svg").stat().st_size > 0
     assert "Placement tolerance" in section and "<td>scattered</td>" in section
+
+
+def test_volume_velocity_figure_draws_the_amplifier_channel(tmp_path):
+    """A control fed by an [[amplifier]] gets the channel's curve: on it the drive meets the rated RMS
+    voltage or current (peak = √2 × RMS) and neither is exceeded."""
+    from bemcheck.prebuild.drivers import drive_for
+
+    amplifier = '[[amplifier]]\nname = "amp"\nrated_voltage_rms = 2.0\nrated_current_rms = 0.3\ncontrols = ["c"]\n'
+    text = LAYOUT.format(bodies="", controls=TINY + amplifier).replace("at = [0.0, 0.0, 0.3]", "at = [0.1, 0.2, 0.0]")
+    case = parse_case(text)
+    run_case(case, tmp_path, model="free", report=False)
+    ds = bemcheck.load_results(tmp_path)
+    with styled():
+        fig = volume_velocity_figure(ds, case)
+    lines = {ln.get_label(): ln for ln in fig.axes[0].get_lines() if isinstance(ln, Line2D)}
+    f, q_amp = lines["available from the amplifier channel"].get_data()
+    drive = drive_for(case.drivers[0], f, q_amp, case.medium)
+    use = np.maximum(np.abs(drive.voltage) / (np.sqrt(2) * 2.0), np.abs(drive.current) / (np.sqrt(2) * 0.3))
+    np.testing.assert_allclose(use, 1.0, rtol=1e-12)
