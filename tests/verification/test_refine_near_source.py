@@ -123,3 +123,28 @@ def test_observer_on_the_surface_takes_the_surface_pressure(tmp_path):
     ratio = sol.points[:, 0] / exact
     assert np.abs(20 * np.log10(np.abs(ratio))).max() < 0.1
     assert np.abs(np.degrees(np.angle(ratio))).max() < 1.0
+
+
+@pytest.mark.parametrize("ka", [1.0, 3.0])
+def test_error_check_on_refined_meshes_bounds_the_true_error(ka, tmp_path):
+    """The error check's mesh (1.5 times coarser, refined round the same point) gives a Richardson
+    estimate that bounds the true far-field error against the series: true ≤ 2 × estimate (the
+    verdict's criterion), with the source 0.05 band elements off."""
+    from bemcheck.compare.errors import amplitude_error, richardson
+    from bemcheck.run.tasks import check_mesh
+
+    size, h = _band_edge(ka, tmp_path)
+    gap = 0.05 * h
+    case, f = _case(ka, gap, tmp_path)
+    x = [case.sources[0].position]
+    main = solve_frequency(mesh_scene(case, size, cache_dir=tmp_path), f, case.medium, x, DIRECTIONS)
+    coarse_mesh, ratio = check_mesh(case, size, cache_dir=tmp_path)
+    coarse = solve_frequency(coarse_mesh, f, case.medium, x, DIRECTIONS)
+    exact = -1j * 2 * np.pi * f * RHO / (4 * np.pi) * series.far_field_ratio(ka, 1.0 + gap / A, THETA)
+    true = np.abs(main.far_field[:, 0] - exact).max()
+    estimate = amplitude_error(main.far_field[:, 0], coarse.far_field[:, 0], ratio, axis=0)[0]
+    assert true <= 2.0 * estimate, (true, estimate)
+    k = ka / A
+    true_power = abs(main.impedance[0, 0].real - RHO * C * k**2 / (4 * np.pi) * series.power_ratio_far(ka, 1 + gap / A))
+    estimate_power = richardson(main.impedance[0, 0].real, coarse.impedance[0, 0].real, ratio)
+    assert true_power <= 2.0 * estimate_power, (true_power, estimate_power)
