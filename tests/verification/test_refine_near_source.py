@@ -125,6 +125,38 @@ def test_observer_on_the_surface_takes_the_surface_pressure(tmp_path):
     assert np.abs(np.degrees(np.angle(ratio))).max() < 1.0
 
 
+def test_observers_near_the_surface_against_the_series(tmp_path):
+    """Observer points 0.02, 0.05 and 0.2 band elements off the sphere at γ = 0 and 90°, source
+    0.5 a off, ka 1: total field = free field + scattered series G_s (Morse & Ingard 1968, sec. 7.2,
+    from memory; tests/support/sphere_series.scattered_green), within 0.1 dB and 1°."""
+    from bemcheck.case.load import parse_case
+
+    ka, r0 = 1.0, 1.5 * A
+    f = ka * C / (2 * np.pi * A)
+    size, h = _band_edge(ka, tmp_path)
+    gamma = np.radians([0.0, 90.0])
+    r = A + np.array([0.02, 0.05, 0.2]) * h
+    rr, gg = np.meshgrid(r, gamma)
+    near = np.stack([rr * np.sin(gg), 0 * rr, rr * np.cos(gg)], axis=-1).reshape(-1, 3)
+    points = ", ".join(f'{{ name = "n{i}", at = {[float(c) for c in p]} }}' for i, p in enumerate(near))
+    source = f'[[source]]\nname = "p"\nrole = "primary"\nat = [0.0, 0.0, {r0!r}]\nstrength = 1e-3\n'
+    text = case_text(
+        "near points", f"list = [{f!r}]", bodies=BALL, sources=source, observers=f"[observers]\npoints = [{points}]\n"
+    )
+    case = parse_case(text, tmp_path / "near_points.toml")
+    mesh = mesh_scene(case, size, cache_dir=tmp_path)
+    x0 = case.sources[0].position
+    sol = solve_frequency(mesh, f, case.medium, [x0], DIRECTIONS, points=near, power=False)
+    k = ka / A
+    dist = np.linalg.norm(near - np.asarray(x0), axis=1)
+    free = np.exp(1j * k * dist) / (4 * np.pi * dist)
+    scattered = np.array([series.scattered_green(ka, ri, gi, r0, a=A)[0] for ri, gi in zip(rr.ravel(), gg.ravel())])
+    exact = -1j * 2 * np.pi * f * RHO * (free + scattered)
+    ratio = sol.points[:, 0] / exact
+    assert np.abs(20 * np.log10(np.abs(ratio))).max() < 0.1
+    assert np.abs(np.degrees(np.angle(ratio))).max() < 1.0
+
+
 @pytest.mark.parametrize("ka", [1.0, 3.0])
 def test_error_check_on_refined_meshes_bounds_the_true_error(ka, tmp_path):
     """The error check's mesh (1.5 times coarser, refined round the same point) gives a Richardson
