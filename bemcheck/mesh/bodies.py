@@ -196,7 +196,7 @@ def _generate(body, element_size, refine=1.0, refinements=()):
         )
     if refinements:
         warnings.warn(
-            f"{label}: finer elements round {len(refinements)} monopole(s) close to its surface, "
+            f"{label}: finer elements round {len(refinements)} source or observer point(s) close to its surface, "
             f"down to {min(r.size for r in refinements) / refine:.3g} m",
             MeshNotice,
             stacklevel=3,
