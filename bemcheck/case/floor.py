@@ -86,16 +86,35 @@ def check_floor(case):
                 f"{file}: note[{i}].distance: the point the levels of '{note.name}' were measured at",
                 above,
             )
-    unit = for_observers(case.observers.far_field).unit
-    below = np.flatnonzero(unit[:, 2] < -1e-12)
-    if below.size:
-        ff = case.observers.far_field
-        asked = f"sphere = true, degree = {ff.degree}" if ff.sphere else f'plane = "{ff.plane}"'
-        raise CaseError(
-            f"{file}: observers.far_field: {asked} holds {below.size} direction(s) below the floor "
-            f"(floor.z = {floor.z:g} m), e.g. {unit[below[0]].round(4).tolist()}; expected directions "
-            'above it only: plane = "xy" (the floor\'s own plane, grazing)'
-        )
+    _directions_above(case.observers.far_field, floor, file)
+
+
+def _directions_above(far_field, floor, file):
+    """Refuse far-field entries with directions below the floor, naming each and the fix."""
+    held = []
+    for f in far_field:
+        unit = for_observers(f).unit
+        below = np.flatnonzero(unit[:, 2] < -1e-12)
+        if below.size:
+            held.append((f, below.size, unit[below[0]]))
+    if not held:
+        return
+    what = "; ".join(f"{_asked(f)} holds {n} direction(s) below it, e.g. {u.round(4).tolist()}" for f, n, u in held)
+    fix = 'ask for plane = "xy" (the floor\'s own plane, grazing) and leave out ' + ", ".join(
+        _asked(f) for f, _, _ in held
+    )
+    raise CaseError(
+        f"{file}: observers.far_field: below the floor (floor.z = {floor.z:g} m): {what}; "
+        f"expected directions above it only: {fix}"
+    )
+
+
+def _asked(f):
+    if f.sphere:
+        return f"the sphere (degree {f.degree})"
+    if f.normal is None:
+        return f'plane = "{f.plane}"'
+    return f"plane '{f.plane}' (normal {list(f.normal)})"
 
 
 def _above(floor, point, what, expected):

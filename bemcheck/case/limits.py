@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 from bemcheck.errors import CaseError
 from bemcheck.memory import available_memory
-from bemcheck.observers import for_observers, in_sector
+from bemcheck.observers import for_observers, sector_mask
 
 
 @dataclass(frozen=True)
@@ -121,23 +121,29 @@ def check_case(case):
                     f"source '{s.name}' ({gap:g} m apart); expected a point at least "
                     f"{COINCIDENT:g} m from every source (the field at a source is infinite)"
                 )
-    far = case.observers.far_field
-    directions = for_observers(far)
-    spacing = (
-        f"observers.far_field.degree = {far.degree}: {len(directions)} directions"
-        if far.sphere
-        else f"observers.far_field.step_deg = {far.step_deg:g}: a direction every {360.0 / len(directions):g}°"
-    )
+    directions = for_observers(case.observers.far_field)
     sectors = [(f"tolerance.sectors[{i}]", s) for i, s in enumerate(case.tolerance.sectors)]
     sectors.extend(case.control.sectors())
     for key, s in sectors:
-        if not in_sector(directions.azimuth_deg, s.from_deg, s.to_deg).any():
+        if not sector_mask(directions.plane, directions.azimuth_deg, s).any():
             raise CaseError(
-                f"{file}: {key}: sector '{s.name}' ({s.from_deg:g}° to {s.to_deg:g}°) holds no "
-                f"far-field direction ({spacing}); expected a sector holding at least one direction: "
-                "widen it or make the directions finer"
+                f"{file}: {key}: sector '{s.name}' ({s.from_deg:g}° to {s.to_deg:g}° in {s.plane or 'the first plane'}) "
+                f"holds no far-field direction ({_spacing(case.observers.far_field, s.plane)}); expected a sector "
+                "holding at least one direction: widen it or make the directions finer"
             )
     _check_result_size(case, len(directions), file)
+
+
+def _spacing(far_field, plane):
+    """How the directions of the plane labelled ``plane`` (None: the first) are spaced, in words."""
+    keys = (
+        [f"observers.far_field[{i}]" for i in range(len(far_field))] if len(far_field) > 1 else ["observers.far_field"]
+    )
+    i = next((i for i, f in enumerate(far_field) if f.label == plane), 0)
+    far, key = far_field[i], keys[i]
+    if far.sphere:
+        return f"{key}.degree = {far.degree}: {len(for_observers(far))} directions"
+    return f"{key}.step_deg = {far.step_deg:g}: a direction every {360.0 / round(360.0 / far.step_deg):g}°"
 
 
 def _check_result_size(case, n_directions, file):

@@ -10,13 +10,13 @@ from bemcheck.case import limits
 from bemcheck.case.amplifiers import read_amplifiers
 from bemcheck.case.drivers import Driver, check_driver
 from bemcheck.case.explore import read_explore
+from bemcheck.case.farfield import read_far_field
 from bemcheck.case.floor import check_floor, read_floor
 from bemcheck.case.limits import COINCIDENT, COORDINATE, DIRECTION, FREQUENCY
 from bemcheck.case.model import (
     Body,
     BuildChecks,
     Case,
-    FarField,
     Medium,
     MeshSettings,
     ObserverPoint,
@@ -26,12 +26,11 @@ from bemcheck.case.model import (
 )
 from bemcheck.case.objectives import OBJECTIVES, MinimumPower
 from bemcheck.case.reader import TableReader
-from bemcheck.case.sector import read_sector
+from bemcheck.case.sector import place_sector, read_sector
 from bemcheck.case.shapes import SHAPES
 from bemcheck.case.spectra import measured_at, read_note, read_spectrum
 from bemcheck.errors import CaseError
 from bemcheck.frames import place
-from bemcheck.observers import PLANES, lebedev_degrees
 
 ROLES = ("primary", "control")
 
@@ -110,9 +109,8 @@ def parse_case(text, path=Path("<case>")):
     _unique([s.name for s in sources], "source", file)
     _check_sources(sources, file)
     observers = _observers(top.sub("observers", None), by_name)
-    control = _control(top.sub("control", None), sources, file)
-    control.check_observers(observers.far_field, file)
-    tolerance = _tolerance(top.sub("tolerance", None))
+    control = _control(top.sub("control", None), sources, file).placed(observers.far_field, file)
+    tolerance = _tolerance(top.sub("tolerance", None), observers.far_field)
     drivers = tuple(_driver(r) for r in top.subs("driver"))
     _unique([d.name for d in drivers], "driver", file)
     _check_driver_refs(sources, drivers, file)
@@ -292,29 +290,7 @@ def _check_sources(sources, file):
 def _observers(r, bodies):
     if r is None:
         return Observers()
-    ff = r.sub("far_field", None)
-    if ff is None:
-        far = FarField()
-    else:
-        plane = ff.string("plane", "xy", choices=PLANES)
-        if ff.has("sphere"):
-            if not ff.boolean("sphere"):
-                ff.fail("sphere", "true (or leave it out for a circle)", False)
-            far = FarField(plane=plane, sphere=True, degree=ff.integer("degree", 17, low=3))
-            if ff.has("step_deg"):
-                ff.fail("step_deg", "no step with sphere = true (the Lebedev degree sets the directions)")
-        else:
-            far = FarField(plane=plane, step_deg=ff.number("step_deg", 5.0, positive=True, high=90.0))
-            if round(360.0 / far.step_deg) > limits.MAX_DIRECTIONS:
-                ff.fail(
-                    "step_deg",
-                    f"at most {limits.MAX_DIRECTIONS:,} directions (a step ≥ "
-                    f"{360.0 / limits.MAX_DIRECTIONS:g}°); this step gives {round(360.0 / far.step_deg):,}",
-                    far.step_deg,
-                )
-        ff.done()
-        if far.sphere:
-            _check_lebedev(ff, far.degree)
+    far = read_far_field(r)
     points = []
     for p in r.subs("points"):
         points.append(ObserverPoint(p.string("name"), _observer_at(p, bodies)))
@@ -346,12 +322,6 @@ def _observer_at(p, bodies):
     return tuple(float(v) for v in place([local], b.at, b.axis)[0])
 
 
-def _check_lebedev(reader, degree):
-    available = lebedev_degrees()
-    if degree not in available:
-        reader.fail("degree", "a Lebedev degree available: " + ", ".join(map(str, available)), degree)
-
-
 def _control(r, sources, file):
     if r is None:
         return MinimumPower()
@@ -364,14 +334,20 @@ def _control(r, sources, file):
     return objective
 
 
-def _tolerance(r):
+def _tolerance(r, far_field):
+    labels = tuple(f.label for f in far_field)
     if r is None:
-        return Tolerance()
+        return replace(
+            Tolerance(), sectors=tuple(place_sector(s, "tolerance", labels, "") for s in Tolerance().sectors)
+        )
     level = r.number("level_db", Tolerance.level_db, positive=True)
     phase = r.number("phase_deg", Tolerance.phase_deg, positive=True, high=180.0)
     target = r.number("attenuation_target_db", Tolerance.attenuation_target_db, positive=True, high=60.0)
     shortfall = r.number("attenuation_db", Tolerance.attenuation_db, positive=True, high=60.0)
-    sectors = tuple(read_sector(s) for s in r.subs("sectors")) or Tolerance().sectors
+    sectors = tuple(read_sector(s) for s in r.subs("sectors"))
+    sectors = tuple(place_sector(s, f"tolerance.sectors[{i}]", labels, r.file) for i, s in enumerate(sectors)) or tuple(
+        place_sector(s, "tolerance", labels, r.file) for s in Tolerance().sectors
+    )
     _unique([s.name for s in sectors], "tolerance.sectors", r.file)
     r.done()
     return Tolerance(

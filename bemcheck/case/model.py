@@ -13,6 +13,7 @@ from bemcheck.case.floor import Floor
 from bemcheck.case.objectives import MinimumPower, Objective
 from bemcheck.case.sector import Sector
 from bemcheck.case.shapes import Shape, Vec3
+from bemcheck.observers import SPHERE
 
 
 @dataclass(frozen=True)
@@ -107,12 +108,31 @@ class Source:
 
 @dataclass(frozen=True)
 class FarField:
-    """Far-field directions: a circle in ``plane`` every ``step_deg``, or a Lebedev sphere of ``degree``."""
+    """One set of far-field directions: a circle every ``step_deg``, or a Lebedev sphere of ``degree``.
+
+    A circle lies in the named plane ``plane`` ("xy", "xz", "yz"), or, with
+    ``normal``, in the plane of that normal called ``plane`` (azimuth zero
+    the projection of ``zero``, or by default of the coordinate axis most
+    nearly in the plane; :func:`bemcheck.observers.plane_frame`).  A
+    sphere's angles are in the frame of the named ``plane``.
+
+    Examples
+    --------
+    >>> FarField("tilted", normal=(1.0, 0.0, 1.0)).label, FarField(sphere=True, degree=17).label
+    ('tilted', 'sphere')
+    """
 
     plane: str = "xy"
     step_deg: float = 5.0
     sphere: bool = False
     degree: int = 0
+    normal: Vec3 | None = None
+    zero: Vec3 | None = None
+
+    @property
+    def label(self):
+        """How results, sectors and figures name these directions: the plane's name, or "sphere"."""
+        return SPHERE if self.sphere else self.plane
 
 
 @dataclass(frozen=True)
@@ -125,7 +145,9 @@ class ObserverPoint:
 
 @dataclass(frozen=True)
 class Observers:
-    far_field: FarField = field(default_factory=FarField)
+    """The far-field directions (one or more planes and/or a sphere, in the order given) and the field points."""
+
+    far_field: tuple[FarField, ...] = (FarField(),)
     points: tuple[ObserverPoint, ...] = ()
 
 

@@ -27,13 +27,11 @@ Adding an objective is a class here and a function there::
     STRENGTHS[PointPressure] = _point_pressure
 """
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import ClassVar
 
 from bemcheck.case import limits
-from bemcheck.case.sector import Sector, read_sector
-from bemcheck.errors import CaseError
-from bemcheck.observers import PLANES
+from bemcheck.case.sector import Sector, place_sector, read_sector
 
 OBJECTIVES = {}
 
@@ -66,8 +64,12 @@ class Objective:
         """``(key, Sector)`` pairs whose far-field directions the objective needs."""
         return ()
 
-    def check_observers(self, far_field, file):
-        """Refuse far-field observers the objective cannot work with (CaseError)."""
+    def placed(self, far_field, file):
+        """The objective with its sectors in the case's far-field planes ``far_field`` (a tuple of FarField).
+
+        Refuses (CaseError) far-field observers the objective cannot work with.
+        """
+        return self
 
 
 @register
@@ -82,13 +84,12 @@ class MinimumPower(Objective):
 @register
 @dataclass(frozen=True)
 class SectorPressure(Objective):
-    """Minimum mean-square far-field pressure in ``sector`` (azimuths in ``plane``),
-    with ``effort`` weighting |q_c|² against it."""
+    """Minimum mean-square far-field pressure in ``sector`` (azimuths in its plane, one of the
+    observers' circles), with ``effort`` weighting |q_c|² against it."""
 
     KIND: ClassVar[str] = "sector"
 
     sector: Sector
-    plane: str = "xy"
     effort: float = 0.0
 
     @classmethod
@@ -96,23 +97,27 @@ class SectorPressure(Objective):
         sector_r = r.sub("sector", None)
         if sector_r is None:
             r.fail("sector", 'a table { from_deg, to_deg } for objective = "sector"')
-        plane = sector_r.string("plane", "xy", choices=PLANES)
         sector = read_sector(sector_r, "target")
-        return cls(sector=sector, plane=plane, effort=r.number("effort", 0.0, non_negative=True))
+        return cls(sector=sector, effort=r.number("effort", 0.0, non_negative=True))
+
+    @property
+    def plane(self):
+        """The label of the plane the target sector lies in (None before the case placed it)."""
+        return self.sector.plane
 
     def describe(self):
         s = self.sector
-        return f"objective {self.KIND}: {s.from_deg:g} to {s.to_deg:g} deg in {self.plane}, effort {self.effort:g}"
+        plane = s.plane or "the first plane"
+        return f"objective {self.KIND}: {s.from_deg:g} to {s.to_deg:g} deg in {plane}, effort {self.effort:g}"
 
     def sectors(self):
         return (("control.sector", self.sector),)
 
-    def check_observers(self, far_field, file):
-        if far_field.sphere or self.plane != far_field.plane:
-            raise CaseError(
-                f"{file}: control.sector.plane: expected the plane of observers.far_field "
-                f"('{far_field.plane}', a circle): the sector's target directions are the observers' directions"
-            )
+    def placed(self, far_field, file):
+        # The target directions are the observers' own: a circle of them, weighted by angle.
+        labels = tuple(f.label for f in far_field)
+        circles = tuple(f.label for f in far_field if not f.sphere)
+        return replace(self, sector=place_sector(self.sector, "control.sector", labels, file, allowed=circles))
 
 
 @register

@@ -4,6 +4,7 @@ import dataclasses
 import tomllib
 
 from bemcheck.mesh import plan_bands
+from bemcheck.observers import plane_frame
 from bemcheck.prebuild.catalogue import catalogue_drivers
 
 _DRIVER_UNITS = (
@@ -160,7 +161,6 @@ def case_lines(case, directions):
     >>> any(line.lstrip().startswith("mesh") for line in lines)  # no bodies, no mesh
     False
     """
-    ff = case.observers.far_field
     lines = [_row("notes", case.notes)] if case.notes else []
     lines.append(_row("medium", f"c = {case.medium.speed_of_sound:g} m/s, rho = {case.medium.density:g} kg/m^3"))
     lines += _frequency_lines(case)
@@ -177,13 +177,12 @@ def case_lines(case, directions):
             )
         )
     lines += [_source_line(s) for s in case.sources]
-    kind = f"sphere, Lebedev degree {ff.degree}" if ff.sphere else f"circle in {ff.plane}, every {ff.step_deg:g} deg"
-    lines.append(_row("far field", f"{len(directions)} directions ({kind})"))
+    lines += _far_field_lines(case.observers.far_field, directions)
     lines += [_row("point", f"{p.name} at {_vec(p.at)}") for p in case.observers.points]
     if case.controls:
         lines.append(_row("control", case.control.describe()))
     tol = case.tolerance
-    sectors = "; ".join(f"{s.name} {s.from_deg:g} to {s.to_deg:g} deg" for s in tol.sectors)
+    sectors = "; ".join(f"{s.name} {s.from_deg:g} to {s.to_deg:g} deg in {s.plane}" for s in tol.sectors)
     lines.append(_row("tolerance", f"each source {tol.level_db:g} dB, {tol.phase_deg:g} deg; sectors: {sectors}"))
     if case.controls:
         lines.append(
@@ -195,3 +194,27 @@ def case_lines(case, directions):
         )
     lines += [_row("explore", line) for line in case.explore.describe()] if case.explore else []
     return lines + _build_lines(case)
+
+
+def _far_field_lines(far_field, directions):
+    """One line for the far-field directions in all, then one per plane when there are several."""
+    counts = {label: int((directions.plane == label).sum()) for label in directions.planes}
+    kinds = [_far_field_kind(f) for f in far_field]
+    if len(far_field) == 1:
+        return [_row("far field", f"{len(directions)} directions ({kinds[0]})")]
+    head = _row("far field", f"{len(directions)} directions in {len(far_field)} sets:")
+    return [head] + [
+        _row("", f"{f.label}: {counts[f.label]} directions ({k})") for f, k in zip(far_field, kinds, strict=True)
+    ]
+
+
+def _far_field_kind(f):
+    if f.sphere:
+        return f"sphere, Lebedev degree {f.degree}, angles in the {f.plane} frame"
+    if f.normal is None:
+        return f"circle in {f.plane}, every {f.step_deg:g} deg"
+    frame = plane_frame(normal=f.normal, zero=f.zero)
+    return (
+        f"circle normal to {_vec(frame.normal)}, azimuth 0 along {_vec(frame.first)}, "
+        f"90 along {_vec(frame.second)}, every {f.step_deg:g} deg"
+    )

@@ -16,7 +16,7 @@ import xarray as xr
 from bemcheck.compare.attenuation import attenuation, mean_square_db
 from bemcheck.compare.errors import amplitude_error, level_error_db, phase_error_deg, richardson
 from bemcheck.compare.trust import significant
-from bemcheck.observers import in_sector
+from bemcheck.observers import sector_mask
 from bemcheck.solvers.control.strengths import control_strengths, full_strengths, source_indices
 
 CONTROLLED = "controlled"
@@ -186,6 +186,7 @@ def compare(case, directions, models):
             "direction": np.arange(len(directions)),
             "azimuth_deg": ("direction", directions.azimuth_deg),
             "elevation_deg": ("direction", directions.elevation_deg),
+            "plane": ("direction", directions.plane.astype(str)),
             "point": [p.name for p in case.observers.points],
             "sector": [s.name for s in case.tolerance.sectors],
         }
@@ -236,7 +237,7 @@ def _sector_attenuations(out, case, directions, worlds):
     names = [w for w in WORLDS if worlds.get(w) is not None]
     att = np.zeros((len(case.frequencies), len(sectors), len(names)))
     for s, sector in enumerate(sectors):
-        w = np.where(in_sector(directions.azimuth_deg, sector.from_deg, sector.to_deg), directions.weights, 0.0)
+        w = np.where(sector_mask(directions.plane, directions.azimuth_deg, sector), directions.weights, 0.0)
         for i, world in enumerate(names):
             a = worlds[world]
             att[:, s, i], error = mean_square_db(

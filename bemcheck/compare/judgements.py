@@ -67,7 +67,7 @@ class SectorAttenuation:
 
 @dataclass(frozen=True)
 class SectorJudgement:
-    """The verdict in one tolerance sector (azimuths ``from_deg`` to ``to_deg`` [deg]).
+    """The verdict in one tolerance sector (azimuths ``from_deg`` to ``to_deg`` [deg] in the far-field ``plane``).
 
     ``fields``: each source's monopole field (:class:`FieldTrust`), in the
     case's source order.  ``attenuation_*``: the controlled system's
@@ -86,6 +86,18 @@ class SectorJudgement:
     field_departs: bool
     field_not_resolved_at_hz: tuple
     mean_square: SectorAttenuation | None = None
+    plane: str | None = None
+
+    @property
+    def where(self):
+        """The sector in words: its name and, when known, its plane.
+
+        Examples
+        --------
+        >>> SectorJudgement("front", -30.0, 30.0, (), None, None, (), False, (), plane="xz").where
+        'front (xz)'
+        """
+        return self.sector if self.plane is None else f"{self.sector} ({self.plane})"
 
     def trusted_fields(self):
         """The fields with a trust limit in the band, as (limit [Hz], source, set by), lowest first.

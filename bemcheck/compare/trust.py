@@ -13,7 +13,7 @@ both models put a deep null are left out (no level ratio means anything there).
 import numpy as np
 import xarray as xr
 
-from bemcheck.observers import in_sector
+from bemcheck.observers import planes_of, sector_mask
 
 AGREES, NOT_RESOLVED, DEPARTS = 0, 1, 2
 # Directions more than this far below the signal's loudest direction in both
@@ -210,7 +210,7 @@ def trust_tables(cmp, tolerance):
     set_by = np.full((n_s, n_g), "", dtype=object)
     rms, worst, worst_az, unresolved = (np.zeros((n_f, n_s, n_g)) for _ in range(4))
     for s, sector in enumerate(tolerance.sectors):
-        inside = in_sector(az, sector.from_deg, sector.to_deg)
+        inside = sector_mask(planes_of(cmp), az, sector)
         for g in range(n_g):
             m = mask[:, g, :] & inside
             per_dir = np.where(m, metric[:, g, :], -np.inf)

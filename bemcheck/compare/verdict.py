@@ -32,7 +32,7 @@ from bemcheck.compare.judgements import (
     Verdict,
 )
 from bemcheck.compare.trust import DEPARTS, NOT_RESOLVED, crossing_frequency
-from bemcheck.observers import in_sector
+from bemcheck.observers import planes_of, sector_mask
 from bemcheck.solvers.control.strengths import source_indices
 
 
@@ -109,8 +109,7 @@ def _first(freqs, status):
 
 def _sector(ds, s, sector, freqs):
     """The verdict of one sector: attenuation as designed, and each source's field."""
-    az = ds["azimuth_deg"].values
-    inside = in_sector(az, sector.from_deg, sector.to_deg)
+    inside = sector_mask(planes_of(ds), ds["azimuth_deg"].values, sector)
     signals = [str(g) for g in ds["signal"].values]
     status = ds["status"].values[:, :, inside]
     limits, found = ds["trust_limit_hz"].values[s], ds["trust_limit_found"].values[s]
@@ -136,6 +135,7 @@ def _sector(ds, s, sector, freqs):
         field_departs=bool((status[:, :-1, :] == DEPARTS).any()),
         field_not_resolved_at_hz=_floats(freqs[(status[:, :-1, :] == NOT_RESOLVED).any(axis=(1, 2))]),
         mean_square=_sector_attenuation(ds, s),
+        plane=sector.plane,
     )
 
 
@@ -211,18 +211,18 @@ def verdict(case, ds):
     attenuation = _power(ds, freqs) if controls else None
     if controls:
         judged_by = "attenuation"
-        candidates = [(s.attenuation_departs_from_hz, f"attenuation as designed in sector {s.sector}") for s in sectors]
+        candidates = [(s.attenuation_departs_from_hz, f"attenuation as designed in sector {s.where}") for s in sectors]
         candidates.append((attenuation.as_designed.departs_from_hz, "power attenuation as designed"))
         unresolved = (
             any(s.attenuation_not_resolved_at_hz for s in sectors) or attenuation.as_designed.not_resolved_at_hz
         )
     else:
         judged_by = "field"
-        az = ds["azimuth_deg"].values
+        az, planes = ds["azimuth_deg"].values, planes_of(ds)
         candidates = [
             (
-                _first(freqs, ds["status"].values[:, :-1, in_sector(az, t.from_deg, t.to_deg)].max(axis=(1, 2))),
-                f"a source's field in sector {s.sector}",
+                _first(freqs, ds["status"].values[:, :-1, sector_mask(planes, az, t)].max(axis=(1, 2))),
+                f"a source's field in sector {s.where}",
             )
             for s, t in zip(sectors, tol.sectors, strict=True)
         ]
@@ -314,7 +314,7 @@ def verdict_lines(v):
                 parts.append(f"{f.source} monopole trusted up to {_hz(f.trust_limit_hz)} (set by {f.set_by})")
         if len(parts) == (1 if by_attenuation else 0):
             parts.append("every source's monopole trusted over the band")
-        lines.append(f"  sector {s.sector} ({s.from_deg:g} to {s.to_deg:g} deg): " + "; ".join(parts))
+        lines.append(f"  sector {s.sector} ({s.from_deg:g} to {s.to_deg:g} deg{_in_plane(s)}): " + "; ".join(parts))
         pending = s.attenuation_not_resolved_at_hz if by_attenuation else s.field_not_resolved_at_hz
         if pending:
             at = ", ".join(f"{f:.0f}" for f in pending)
@@ -368,6 +368,11 @@ def _loss_split_lines(v):
         return []
     pred, own, full = ms.predicted[0], ms.own_body[0], ms.as_designed[0]
     return [
-        f"  loss of mean-square attenuation at {_hz(v.frequencies_hz[0])} in sector {s.sector}: "
+        f"  loss of mean-square attenuation at {_hz(v.frequencies_hz[0])} in sector {s.where}: "
         f"{pred - full:.1f} dB, of which {pred - own:.1f} dB source model and {own - full:.1f} dB other bodies"
     ]
+
+
+def _in_plane(s):
+    """The words ' in <plane>' for a sector whose plane is known (older summaries name none)."""
+    return "" if s.plane is None else f" in {s.plane}"

@@ -14,7 +14,7 @@ import numpy as np
 from bemcheck.case.objectives import SectorPressure
 from bemcheck.compare.errors import richardson
 from bemcheck.explore.tradeoff import ALPHAS, attenuations, front, sector_form
-from bemcheck.observers import in_sector
+from bemcheck.observers import sector_mask
 from bemcheck.solvers.control.strengths import control_strengths, source_indices
 from bemcheck.solvers.response import FieldResponse
 
@@ -115,7 +115,7 @@ def case_tradeoff(case, solves, directions, alphas=ALPHAS):
     TradeOff
     """
     sector = tradeoff_sector(case)
-    w = np.where(in_sector(directions.azimuth_deg, sector.from_deg, sector.to_deg), directions.weights, 0.0)
+    w = np.where(sector_mask(directions.plane, directions.azimuth_deg, sector), directions.weights, 0.0)
     cols, n_p = _case_order(solves, case)
     primary, controls = source_indices(case)
     n_f, n_a = len(solves.frequencies), len(alphas)

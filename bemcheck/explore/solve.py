@@ -23,7 +23,7 @@ import numpy as np
 
 from bemcheck.case.model import Source
 from bemcheck.mesh import band_of, mesh_scene, plan_bands
-from bemcheck.observers import Directions, sphere
+from bemcheck.observers import join, sphere
 from bemcheck.run.tasks import check_mesh, solve_case_frequency
 from bemcheck.solvers.control.strengths import primary_strengths
 from bemcheck.solvers.response import free_response
@@ -130,12 +130,7 @@ def case_columns(case, n_candidates):
 def _with_fit(directions):
     """The case's directions followed by the ``FIT_DEGREE`` sphere, as one set."""
     fit = sphere(FIT_DEGREE)
-    return Directions(
-        *(
-            np.concatenate([getattr(directions, a), getattr(fit, a)])
-            for a in ("unit", "azimuth_deg", "elevation_deg", "weights")
-        )
-    )
+    return join(directions, fit)
 
 
 def band_meshes(case, cache_dir=None):

@@ -66,14 +66,16 @@ def layout_figure(mesh, case=None):
     mesh : SurfaceMesh
         Outward-oriented triangles [m]; bodies told apart by ``mesh.groups``.
     case : Case, optional
-        Gives the sources, the observer points and the observers' plane
-        (default plane "xy").
+        Gives the sources, the observer points and the plane to project on:
+        the first named far-field plane (default "xy").
 
     Returns
     -------
     matplotlib.figure.Figure
     """
-    plane = case.observers.far_field.plane if case is not None else "xy"
+    # the first named plane of the far field (a plane by its normal has no coordinate axes to draw on)
+    named = [f.plane for f in case.observers.far_field if f.normal is None] if case is not None else []
+    plane = named[0] if named else "xy"
     a, b = _AXES[plane[0]], _AXES[plane[1]]
     normal = np.cross(np.eye(3)[a], np.eye(3)[b])
     p = mesh.vertices[mesh.triangles]  # (nt, 3, 3)

@@ -96,7 +96,7 @@ def decision_rows(verdict, before_build=None):
         first = limits[0] if limits else None
         rows.append(
             (
-                f"sector {s.sector} ({s.from_deg:g}° to {s.to_deg:g}°)",
+                f"sector {s.sector} ({s.from_deg:g}° to {s.to_deg:g}°{'' if s.plane is None else ' in ' + s.plane})",
                 (
                     _holds(s.attenuation_departs_from_hz, s.attenuation_not_resolved_at_hz)
                     if verdict.attenuation

@@ -21,6 +21,7 @@ def coordinates(case, directions):
         "direction": ("direction", np.arange(len(directions))),
         "azimuth_deg": ("direction", directions.azimuth_deg),
         "elevation_deg": ("direction", directions.elevation_deg),
+        "plane": ("direction", directions.plane.astype(str)),
         "direction_weight": ("direction", directions.weights),
         "point": ("point", [p.name for p in case.observers.points]),
     }
@@ -110,4 +111,8 @@ def sector_coordinates(sectors):
     ([360.0], [[300.0, 420.0]])
     """
     ends = np.array([[s.from_deg, s.to_deg] for s in sectors], dtype=float).reshape(-1, 2)
-    return {"sector_azimuth": ("sector", ends.mean(axis=1))}, (("sector", "nv"), ends)
+    planes = [s.plane or "" for s in sectors]
+    return {"sector_azimuth": ("sector", ends.mean(axis=1)), "sector_plane": ("sector", planes)}, (
+        ("sector", "nv"),
+        ends,
+    )

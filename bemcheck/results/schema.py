@@ -46,12 +46,23 @@ _COORDINATES = (
     Variable(
         "azimuth_deg",
         (D,),
-        "azimuth of the direction in the observers' plane, counter-clockwise from its first axis",
+        "azimuth of the direction in its plane (see plane), counter-clockwise from the plane's first axis",
         "degree",
         coordinate=True,
     ),
     Variable(
-        "elevation_deg", (D,), "elevation of the direction out of the observers' plane", "degree", coordinate=True
+        "elevation_deg",
+        (D,),
+        "elevation of the direction out of its plane, toward the plane's normal",
+        "degree",
+        coordinate=True,
+    ),
+    Variable(
+        "plane",
+        (D,),
+        "far-field plane the direction belongs to: xy, xz, yz, the name of a plane given by its normal, "
+        "or sphere (the Lebedev directions)",
+        coordinate=True,
     ),
     Variable(
         "direction_weight",
@@ -69,6 +80,7 @@ _COORDINATES = (
         coordinate=True,
     ),
     Variable("sector", ("sector",), "tolerance sector name", coordinate=True),
+    Variable("sector_plane", ("sector",), "far-field plane the sector's azimuths are in", coordinate=True),
     Variable(
         "sector_azimuth",
         ("sector",),

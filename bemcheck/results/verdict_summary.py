@@ -126,6 +126,7 @@ def _sector_json(s):
         "sector": s.sector,
         "from_deg": s.from_deg,
         "to_deg": s.to_deg,
+        "plane": s.plane,
         "fields": {
             f.source: {
                 "trust_limit_hz": f.trust_limit_hz,
@@ -183,6 +184,7 @@ def _sector_of(d):
         field_departs=d["field_departs"],
         field_not_resolved_at_hz=tuple(d["field_not_resolved_at_hz"]),
         mean_square=mean_square,
+        plane=d.get("plane"),  # absent from summaries written before sectors named their plane
     )
 
 

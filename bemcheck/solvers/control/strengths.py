@@ -3,7 +3,7 @@
 import numpy as np
 
 from bemcheck.case.objectives import DelayedFeed, MinimumPower, SectorPressure
-from bemcheck.observers import in_sector
+from bemcheck.observers import sector_mask
 from bemcheck.solvers.control import optimal as control
 from bemcheck.solvers.freefield import volume_velocity_from_spl
 
@@ -40,7 +40,7 @@ def _minimum_power(objective, case, response, directions, q_p, primary, controls
 
 def _sector_pressure(objective, case, response, directions, q_p, primary, controls):
     sector = objective.sector
-    mask = in_sector(directions.azimuth_deg, sector.from_deg, sector.to_deg)
+    mask = sector_mask(directions.plane, directions.azimuth_deg, sector)
     f = response.far_field[mask]
     return control.optimal_pressure_control(
         f[:, primary], f[:, controls], q_p, effort=objective.effort, weights=directions.weights[mask]
