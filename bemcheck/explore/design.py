@@ -21,12 +21,13 @@ from bemcheck.solvers.response import FieldResponse
 
 @dataclass(frozen=True)
 class SectorChoice:
-    """The sector of the trade-off: its name, azimuth range [deg] and why it was taken."""
+    """The sector of the trade-off: its name, azimuth range [deg], why it was taken and its far-field plane."""
 
     name: str
     from_deg: float
     to_deg: float
     why: str
+    plane: str | None = None
 
 
 @dataclass(frozen=True)
@@ -72,9 +73,10 @@ def tradeoff_sector(case):
     """
     c = case.control
     if isinstance(c, SectorPressure):
-        return SectorChoice("control", c.sector.from_deg, c.sector.to_deg, "the sector of [control] objective")
-    s = case.tolerance.sectors[0]
-    return SectorChoice(s.name, s.from_deg, s.to_deg, "the first of [tolerance] sectors (the objective names none)")
+        s, why = c.sector, "the sector of [control] objective"
+        return SectorChoice("control", s.from_deg, s.to_deg, why, s.plane)
+    s, why = case.tolerance.sectors[0], "the first of [tolerance] sectors (the objective names none)"
+    return SectorChoice(s.name, s.from_deg, s.to_deg, why, s.plane)
 
 
 def _case_order(solves, case):

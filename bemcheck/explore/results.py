@@ -113,7 +113,11 @@ def add_case_design(ds, tradeoff, centres):
         _put(ds, "tradeoff_as_designed_power_attenuation_db", tradeoff.designed_power_db)
         _put(ds, "tradeoff_as_designed_sector_attenuation_db", tradeoff.designed_sector_db)
         s = tradeoff.sector
-        ds.attrs.update({"tradeoff_sector": f"{s.name}: azimuth {s.from_deg:g} to {s.to_deg:g} deg ({s.why})"})
+        ds.attrs.update(
+            {
+                "tradeoff_sector": f"{s.name}: azimuth {s.from_deg:g} to {s.to_deg:g} deg{'' if s.plane is None else ' in ' + s.plane} ({s.why})"
+            }
+        )
     if centres is not None:
         ds.coords["centred_source"] = ("centred_source", list(centres.names))
         _put(ds, "centre_position", centres.centre)

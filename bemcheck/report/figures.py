@@ -37,11 +37,15 @@ __all__ = [
 
 @dataclass(frozen=True)
 class DrawnFigure:
-    """A figure written to disk: its file name stem, declaration and file (of the first format)."""
+    """A figure written to disk: its file name stem, declaration, file (of the first format) and far-field plane.
+
+    ``plane`` is None for a figure that is not drawn per plane.
+    """
 
     name: str
     spec: registry.FigureSpec
     path: Path
+    plane: str | None = None
 
 
 def _check_formats(formats):
@@ -99,10 +103,10 @@ def draw_figures(inputs, out_dir, formats=style.FORMATS):
     out.mkdir(parents=True, exist_ok=True)
     drawn = []
     with style.styled():
-        for name, spec, signal in registry.planned(inputs):
-            fig = spec.draw(inputs, signal)
+        for name, spec, signal, plane in registry.planned(inputs):
+            fig = spec.draw(registry.on_plane(inputs, plane), signal)
             if fig is not None:
-                drawn.append(DrawnFigure(name, spec, style.save(fig, out, style.file_stem(name), formats)))
+                drawn.append(DrawnFigure(name, spec, style.save(fig, out, style.file_stem(name), formats), plane))
     return drawn
 
 

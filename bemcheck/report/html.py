@@ -18,7 +18,7 @@ from bemcheck.report import prebuild_tables, tables
 from bemcheck.report.catalogue import catalogue_sections
 from bemcheck.report.figures import draw_figures, figure_inputs
 from bemcheck.report.registry import BEFORE_BUILD_SECTION, FIGURES_SECTION
-from bemcheck.report.signals import case_of, has_bem
+from bemcheck.report.signals import case_of, has_bem, plane_words
 from bemcheck.results.files import SUMMARY_FILE, atomic_write_bytes, load_results
 from bemcheck.results.verdict_summary import verdict_from_summary
 
@@ -147,6 +147,8 @@ def _figure(drawn, bem):
     size = _png_size(data)
     dims = f' width="{size[0]}" height="{size[1]}"' if size else ""
     caption = drawn.spec.caption_for(bem)
+    if drawn.plane is not None:
+        caption += f" Directions in {plane_words(drawn.plane)}."
     uri = f"data:{mime};base64,{base64.b64encode(data).decode()}"
     return (
         f'<figure id="fig-{escape(name)}"><img src="{uri}" alt="{escape(name.replace("_", " "))}"{dims}>'

@@ -9,7 +9,7 @@ from bemcheck.compare import CONTROLLED
 from bemcheck.compare.trust import NOT_RESOLVED
 from bemcheck.observers import in_sector
 from bemcheck.report import style
-from bemcheck.report.signals import has_bem, plane_directions, signal_label
+from bemcheck.report.signals import figure_planes, has_bem, plane_directions, plane_words, signal_label
 
 
 def _log_edges(f):
@@ -67,7 +67,7 @@ def _map_values(ds, quantity, signal, tolerance):
     )
 
 
-def departure_map_figure(ds, signal=CONTROLLED, tolerance=None, sectors=(), quantity="level"):
+def departure_map_figure(ds, signal=CONTROLLED, tolerance=None, sectors=(), quantity="level", plane=None):
     """A departure over frequency and azimuth, with the tolerance contour and the masks.
 
     Parameters
@@ -84,13 +84,16 @@ def departure_map_figure(ds, signal=CONTROLLED, tolerance=None, sectors=(), quan
     quantity : {"level", "phase", "shortfall"}
         Level [dB] or phase [°] departure of a signal's field, or the
         controlled system's attenuation shortfall [dB] (what the verdict judges).
+    plane : str, optional
+        The label of the far-field plane drawn (default the first); only
+        the sectors in it are marked.
 
     Returns
     -------
     matplotlib.figure.Figure or None
         None for a free-field run or when no direction lies near the plane.
     """
-    idx = plane_directions(ds)
+    idx = plane_directions(ds, plane)
     if not has_bem(ds) or idx.size == 0:
         return None
     tolerance = Tolerance() if tolerance is None else tolerance
@@ -130,14 +133,16 @@ def departure_map_figure(ds, signal=CONTROLLED, tolerance=None, sectors=(), quan
     levels, styles = ([tol], ["-"]) if one_sided else ([-tol, tol], ["--", "-"])
     if f.size > 1 and judged.any():
         ax.contour(f, yy, zz.T, levels=levels, colors=[style.INK], linewidths=1.0, linestyles=styles)
-    _trust_marks(ax, ds, signal, y_edges, sectors)
+    first = figure_planes(ds)[0]
+    shown_plane = plane if plane is not None else first
+    _trust_marks(ax, ds, signal, y_edges, [s for s in sectors if (s.plane or first) == shown_plane])
     style.frequency_axis(ax, f)
     ax.set_xlim(x_edges[0], x_edges[-1])
     ax.set_ylim(y_edges[0], y_edges[-1])
     ax.set_yticks(np.arange(0.0, 361.0, 45.0))
     ax.grid(False)
-    ax.set_ylabel("azimuth in the observers' plane [°]")
-    ax.set_title(f"{title}: {signal_label(signal)}")
+    ax.set_ylabel(f"azimuth in {plane_words(shown_plane)} [°]")
+    ax.set_title(f"{title}: {signal_label(signal)}, {plane_words(shown_plane)}")
     bar = fig.colorbar(mesh, ax=ax, extend="both" if clipped else "neither", pad=0.01)
     bar.set_ticks(style.departure_ticks(norm.vmax, tol))
     bar.ax.yaxis.set_major_formatter("{x:g}")

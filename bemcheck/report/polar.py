@@ -1,4 +1,4 @@
-"""Polar plots of the far-field level in the observers' plane, in absolute level on one scale for all panels.
+"""Polar plots of the far-field level in each far-field plane, in absolute level on one scale for all panels.
 
 The controlled system is drawn at the case's primary strengths as sound
 pressure level at 1 m (dB re 20 µPa, RMS of the peak amplitudes stored),
@@ -13,7 +13,7 @@ import numpy as np
 
 from bemcheck.compare import CONTROLLED
 from bemcheck.report import style
-from bemcheck.report.signals import plane_directions, signal_fields, signal_label
+from bemcheck.report.signals import figure_planes, plane_directions, plane_words, signal_fields, signal_label
 from bemcheck.solvers.freefield import spl_from_pressure
 
 # Polar plots reach 10 dB below the quietest curve's median level, but span
@@ -44,7 +44,7 @@ def _source_scale(ds, signal, primary_q):
     return 1.0, "per m³/s of volume velocity"
 
 
-def polar_levels(ds, signal, primary_q=None):
+def polar_levels(ds, signal, primary_q=None, plane=None):
     """Levels [dB re 20 µPa, SPL at 1 m] of each curve over all frequencies and plane directions.
 
     Parameters
@@ -54,6 +54,8 @@ def polar_levels(ds, signal, primary_q=None):
         A source name or ``"controlled"``.
     primary_q : (Np,) array_like, optional
         Primary strengths [m^3/s]; needed for ``"controlled"``.
+    plane : str, optional
+        The label of the far-field plane (default the first).
 
     Returns
     -------
@@ -61,7 +63,7 @@ def polar_levels(ds, signal, primary_q=None):
         Curve label -> level on the D' directions near the plane, and how
         the source strengths were set, in words.
     """
-    idx = plane_directions(ds)
+    idx = plane_directions(ds, plane)
     fields = signal_fields(ds, signal, primary_q)
     if signal == CONTROLLED:
         scale, words = 1.0, "the primaries at the case's strengths"
@@ -70,8 +72,8 @@ def polar_levels(ds, signal, primary_q=None):
     return {label: spl_from_pressure(scale * p[:, idx]) for label, p in fields.items()}, words
 
 
-def polar_figure(ds, signal, frequencies, primary_q=None):
-    """Far-field level in the observers' plane, one panel per frequency, each model a curve, one scale.
+def polar_figure(ds, signal, frequencies, primary_q=None, plane=None):
+    """Far-field level in one far-field plane, one panel per frequency, each model a curve, one scale.
 
     Parameters
     ----------
@@ -82,16 +84,18 @@ def polar_figure(ds, signal, frequencies, primary_q=None):
         Solved frequencies to show [Hz] (the nearest solved ones are used).
     primary_q : (Np,) array_like, optional
         Primary strengths [m^3/s]; needed for ``"controlled"``.
+    plane : str, optional
+        The label of the far-field plane drawn (default the first).
 
     Returns
     -------
     matplotlib.figure.Figure or None
         None when fewer than three directions lie near the plane.
     """
-    idx = plane_directions(ds)
+    idx = plane_directions(ds, plane)
     if idx.size < 3:
         return None
-    levels, words = polar_levels(ds, signal, primary_q)
+    levels, words = polar_levels(ds, signal, primary_q, plane)
     f_all = ds["frequency"].values
     rows = [int(np.argmin(np.abs(f_all - freq))) for freq in frequencies]
     loudest = max(float(v[rows].max()) for v in levels.values())
@@ -124,7 +128,8 @@ def polar_figure(ds, signal, frequencies, primary_q=None):
         title=f"one scale for every panel; levels below {floor:.0f} dB are drawn at {floor:.0f} dB",
     )
     fig.suptitle(
-        f"SPL at 1 m in the observers' plane [dB re 20 µPa]: {signal_label(signal)}, {words}",
+        f"SPL at 1 m in {plane_words(plane if plane is not None else figure_planes(ds)[0])} [dB re 20 µPa]: "
+        f"{signal_label(signal)}, {words}",
         x=0.01,
         ha="left",
         fontsize=10,

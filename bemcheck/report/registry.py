@@ -11,11 +11,11 @@ Examples
 >>> [spec.name for spec in FIGURES][:3]
 ['layout', 'shortfall_map', 'departure_map']
 >>> spec_named("polar").needs
-(<Need.PLANE_CIRCLE: 'three far-field directions in the observers plane'>,)
+(<Need.PLANE_CIRCLE: 'three far-field directions in the figure's plane'>,)
 """
 
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from enum import Enum
 
 from bemcheck.compare import CONTROLLED
@@ -24,7 +24,7 @@ from bemcheck.report.drive import driven_controls, volume_velocity_figure
 from bemcheck.report.layout import layout_figure
 from bemcheck.report.maps import departure_map_figure
 from bemcheck.report.polar import polar_figure
-from bemcheck.report.signals import has_bem, has_controls, plane_directions
+from bemcheck.report.signals import figure_planes, has_bem, has_controls, plane_directions
 
 FIGURES_SECTION, BEFORE_BUILD_SECTION = "figures", "before-build"
 
@@ -35,8 +35,8 @@ class Need(Enum):
     BEM = "the BEM ran"
     CONTROLS = "control sources"
     MESH = "the meshed bodies"
-    PLANE = "a far-field direction in the observers plane"
-    PLANE_CIRCLE = "three far-field directions in the observers plane"
+    PLANE = "a far-field direction in the figure's plane"
+    PLANE_CIRCLE = "three far-field directions in the figure's plane"
     DRIVERS = "notes played and a control source with a driver"
 
 
@@ -59,7 +59,8 @@ class FigureInputs:
     the level tolerance [dB] of the sector curves; ``signals``: the signals
     of the departure maps; ``focus``: the signal of the polar plot;
     ``frequencies``: the polar plot's frequencies [Hz]; ``primary_q``: the
-    primaries' strengths [m³/s] or None.
+    primaries' strengths [m³/s] or None; ``plane``: the far-field plane a
+    per-plane figure draws (None: the first).
     """
 
     ds: object
@@ -71,6 +72,7 @@ class FigureInputs:
     focus: str
     frequencies: tuple
     primary_q: object
+    plane: str | None = None
 
 
 @dataclass(frozen=True)
@@ -81,7 +83,9 @@ class FigureSpec:
     nothing to draw after all); ``caption`` is printed under it,
     ``free_caption`` instead when the BEM did not run (None: the same);
     ``needs``: what the run must hold for the figure to apply; ``section``:
-    "figures" or "before-build".
+    "figures" or "before-build"; ``per_plane``: one figure per far-field
+    plane (the first plane's named as declared, the others' with
+    ``_<plane>`` appended), drawn with ``inputs.plane`` set.
     """
 
     name: str
@@ -91,6 +95,7 @@ class FigureSpec:
     per: Per = Per.RUN
     free_caption: str | None = None
     section: str = FIGURES_SECTION
+    per_plane: bool = False
 
     def caption_for(self, bem):
         """The caption when the BEM ran (``bem`` True) or not."""
@@ -101,8 +106,8 @@ _HOLDS = {
     Need.BEM: lambda i: has_bem(i.ds),
     Need.CONTROLS: lambda i: has_controls(i.ds),
     Need.MESH: lambda i: i.mesh is not None,
-    Need.PLANE: lambda i: plane_directions(i.ds).size > 0,
-    Need.PLANE_CIRCLE: lambda i: plane_directions(i.ds).size >= 3,
+    Need.PLANE: lambda i: plane_directions(i.ds, i.plane).size > 0,
+    Need.PLANE_CIRCLE: lambda i: plane_directions(i.ds, i.plane).size >= 3,
     Need.DRIVERS: lambda i: bool(driven_controls(i.ds)),
 }
 
@@ -113,7 +118,7 @@ def applies(spec, inputs):
 
 
 def _map(quantity):
-    return lambda i, g: departure_map_figure(i.ds, g, i.tolerance, i.tolerance.sectors, quantity)
+    return lambda i, g: departure_map_figure(i.ds, g, i.tolerance, i.tolerance.sectors, quantity, i.plane)
 
 
 _HATCH = "Hatched: the departure is within the BEM's own error of the tolerance (refine the mesh to decide). "
@@ -135,6 +140,7 @@ FIGURES = (
         "tell. Black bars: where the attenuation first surely falls short.",
         needs=(Need.BEM, Need.PLANE),
         per=Per.CONTROLLED,
+        per_plane=True,
     ),
     FigureSpec(
         "departure_map",
@@ -145,6 +151,7 @@ FIGURES = (
         "of both models (not judged). " + _HATCH + "Black bars: each sector's trust limit.",
         needs=(Need.BEM, Need.PLANE),
         per=Per.SOURCE,
+        per_plane=True,
     ),
     FigureSpec(
         "phase_map",
@@ -154,6 +161,7 @@ FIGURES = (
         "and black bars as in the level map.",
         needs=(Need.BEM, Need.PLANE),
         per=Per.SOURCE,
+        per_plane=True,
     ),
     FigureSpec(
         "departure_by_sector",
@@ -165,13 +173,14 @@ FIGURES = (
     ),
     FigureSpec(
         "polar",
-        lambda i, g: polar_figure(i.ds, g, i.frequencies, i.primary_q),
-        "Sound pressure level at 1 m in the observers' plane at a few frequencies spread over the band (one near "
+        lambda i, g: polar_figure(i.ds, g, i.frequencies, i.primary_q, i.plane),
+        "Sound pressure level at 1 m in a far-field plane at a few frequencies spread over the band (one near "
         "the trust limit), each model a curve, the primaries at the case's strengths; the dotted curve is the "
         "primaries alone with scattering (no control). One scale for every panel.",
         needs=(Need.PLANE_CIRCLE,),
         per=Per.FOCUS,
-        free_caption="Sound pressure level at 1 m in the observers' plane at a few frequencies spread over the "
+        per_plane=True,
+        free_caption="Sound pressure level at 1 m in a far-field plane at a few frequencies spread over the "
         "band, free-field model only: the controlled system and the primaries alone (no control), "
         "the primaries at the case's strengths. One scale for every panel.",
     ),
@@ -208,20 +217,27 @@ def spec_named(name):
 
 
 def planned(inputs):
-    """The figures ``inputs`` supports, in drawing order, as (file name, spec, signal).
+    """The figures ``inputs`` supports, in drawing order, as (file name, spec, signal, plane).
 
-    Consecutive per-signal declarations are expanded signal by signal, so
-    the maps of one signal sit together.
+    Consecutive per-signal declarations are expanded signal by signal, and
+    within a signal plane by plane, so the maps of one signal sit together;
+    ``plane`` is None for a figure that is not per plane.
     """
     out, block = [], []
+    planes = figure_planes(inputs.ds)
+
+    def each_plane(spec, name, g):
+        for plane in planes if spec.per_plane else (None,):
+            named = name if plane is None or plane == planes[0] else f"{name}_{plane}"
+            out.append((named, spec, g, plane))
 
     def expand():
         for g in inputs.signals:
             for spec in block:
                 if spec.per is Per.CONTROLLED and g == CONTROLLED:
-                    out.append((spec.name, spec, g))
+                    each_plane(spec, spec.name, g)
                 elif spec.per is Per.SOURCE and g != CONTROLLED:
-                    out.append((f"{spec.name}_{g}", spec, g))
+                    each_plane(spec, f"{spec.name}_{g}", g)
         block.clear()
 
     for spec in FIGURES:
@@ -229,8 +245,14 @@ def planned(inputs):
             block.append(spec)
             continue
         expand()
-        out.append(
-            (spec.name, spec, None) if spec.per is Per.RUN else (f"{spec.name}_{inputs.focus}", spec, inputs.focus)
-        )
+        if spec.per is Per.RUN:
+            each_plane(spec, spec.name, None)
+        else:
+            each_plane(spec, f"{spec.name}_{inputs.focus}", inputs.focus)
     expand()
-    return [(name, spec, g) for name, spec, g in out if applies(spec, inputs)]
+    return [(name, spec, g, p) for name, spec, g, p in out if applies(spec, on_plane(inputs, p))]
+
+
+def on_plane(inputs, plane):
+    """``inputs`` for a figure of the far-field plane ``plane`` (None: as they are)."""
+    return inputs if plane is None else replace(inputs, plane=plane)

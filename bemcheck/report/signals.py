@@ -8,6 +8,7 @@ from bemcheck.case import parse_case
 from bemcheck.compare import CONTROLLED
 from bemcheck.compare.departures import designed_strengths
 from bemcheck.errors import BemcheckInputError
+from bemcheck.observers import SPHERE, plane_labels, planes_of
 from bemcheck.solvers.control.strengths import primary_strengths
 
 
@@ -39,16 +40,31 @@ def case_of(ds):
         return None, f"the stored case text could not be read again ({exc})"
 
 
-def plane_directions(ds):
-    """Far-field directions in the observers' plane, by increasing azimuth.
+def figure_planes(ds):
+    """The far-field planes a run's figures are drawn for, in the case's order ((None,) for results without labels).
 
-    On a circle that is every direction; on a Lebedev sphere it is the
-    rule's equatorial points (28 of the 590 of degree 41).
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> figure_planes(xr.Dataset(coords={"plane": ("direction", ["xz", "xz", "sphere"])}))
+    ('xz', 'sphere')
+    """
+    labels = planes_of(ds)
+    return (None,) if labels is None else plane_labels(labels)
+
+
+def plane_directions(ds, plane=None):
+    """Far-field directions in the plane labelled ``plane`` (None: the first), by increasing azimuth.
+
+    On a circle that is every direction of the plane; on a Lebedev sphere it
+    is the rule's equatorial points in its frame (28 of the 590 of degree 41).
 
     Parameters
     ----------
     ds : xarray.Dataset
-        Results with coords ``azimuth_deg`` and ``elevation_deg`` on ``direction``.
+        Results with coords ``azimuth_deg``, ``elevation_deg`` and ``plane`` on ``direction``.
+    plane : str, optional
+        A plane label of ``ds["plane"]``.
 
     Returns
     -------
@@ -57,7 +73,18 @@ def plane_directions(ds):
     """
     az = ds["azimuth_deg"].values % 360.0
     idx = np.nonzero(np.abs(ds["elevation_deg"].values) < 1e-6)[0]
+    labels = planes_of(ds)
+    if labels is not None:
+        label = plane if plane is not None else (plane_labels(labels) or (None,))[0]
+        idx = idx[np.asarray(labels)[idx] == label]
     return idx[np.argsort(az[idx], kind="stable")]
+
+
+def plane_words(plane):
+    """How a figure names its plane: "plane xz", "the sphere's equator", or "the observers' plane" (no label)."""
+    if plane is None:
+        return "the observers' plane"
+    return "the sphere's equator" if plane == SPHERE else f"plane {plane}"
 
 
 def signal_label(signal):

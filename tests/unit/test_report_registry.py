@@ -46,12 +46,12 @@ def test_the_page_embeds_exactly_the_registered_figures_that_apply(run, tmp_path
     plan = registry.planned(figure_inputs(ds, case=case, mesh=mesh))
     page = write_report(tmp_path, ds, summary, mesh=mesh, case=case).read_text(encoding="utf-8")
     on_page = embedded(page)
-    assert list(on_page) == [name for name, _, _ in plan]
-    for name, spec, _ in plan:
+    assert list(on_page) == [name for name, _, _, _ in plan]
+    for name, spec, _, _ in plan:
         assert on_page[name] == spec.section
         block = page.split(f'<figure id="fig-{name}">')[1].split("</figure>")[0]
         assert escape(spec.caption_for(run == "floor"), quote=False) in block, name
-    skipped = {spec.name for spec in registry.FIGURES} - {spec.name for _, spec, _ in plan}
+    skipped = {spec.name for spec in registry.FIGURES} - {spec.name for _, spec, _, _ in plan}
     bem_only = {"shortfall_map", "departure_map", "phase_map", "departure_by_sector"}
     assert skipped == ({"volume_velocity"} if run == "floor" else {"layout", "volume_velocity"} | bem_only)
 
