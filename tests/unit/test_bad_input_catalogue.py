@@ -86,6 +86,14 @@ def _amp(name="a", volts="20.0", amps="5.0", controls='["c"]'):
     return AMP.format(name=name, volts=volts, amps=amps, controls=controls)
 
 
+FF = 'far_field = { plane = "xy", step_deg = 30.0 }'
+
+
+def _planes(*entries):
+    """``far_field`` as a list of ``entries`` (inline tables)."""
+    return "far_field = [ " + ", ".join(entries) + " ]"
+
+
 BOX = '[[body]]\nname = "cab2"\nkind = "box"\nsize = [0.2, 0.2, 0.2]\nat = [{x}, 0.0, 0.0]\n[[source]]\nname = "p"'
 
 
@@ -516,6 +524,98 @@ ROWS = [
         ("{case}", "observers.far_field", 'plane = "xz"', "below the floor", 'plane = "xy"'),
         changes=(("[observers]", FLOOR.format(z=-0.2)), ('plane = "xy"', 'plane = "xz"')),
         why="the xz circle at 30-degree steps holds 5 directions with z < 0",
+    ),
+    # -- far-field planes --------------------------------------------------
+    Row(
+        "unknown plane name in a list of planes",
+        ("{case}", "observers.far_field[1].plane", "'xy', 'xz', 'yz'", "'xw'"),
+        changes=((FF, _planes('{ plane = "xy" }', '{ plane = "xw" }')),),
+    ),
+    Row(
+        "plane with a zero normal",
+        ("{case}", "observers.far_field[1].normal", "a non-zero direction"),
+        changes=((FF, _planes('{ plane = "xy" }', '{ name = "tilt", normal = [0.0, 0.0, 0.0] }')),),
+    ),
+    Row(
+        "plane with an infinite normal",
+        ("{case}", "observers.far_field[0].normal[0]", "a finite number", "inf"),
+        changes=((FF, _planes('{ name = "tilt", normal = [inf, 0.0, 1.0] }')),),
+    ),
+    Row(
+        "plane with a NaN normal",
+        ("{case}", "observers.far_field[0].normal[2]", "a finite number", "nan"),
+        changes=((FF, _planes('{ name = "tilt", normal = [1.0, 0.0, nan] }')),),
+    ),
+    Row(
+        "plane by its normal without a name",
+        ("{case}", "observers.far_field[1].name", "a name for the plane of this normal"),
+        changes=((FF, _planes('{ plane = "xy" }', "{ normal = [1.0, 0.0, 1.0] }")),),
+    ),
+    Row(
+        "azimuth zero along the normal",
+        ("{case}", "observers.far_field[0].zero", "not along the normal", "[0.0, 0.0, -3.0]"),
+        changes=((FF, _planes('{ name = "tilt", normal = [0.0, 0.0, 1.0], zero = [0.0, 0.0, -3.0] }')),),
+    ),
+    Row(
+        "the same plane twice, named and by its normal",
+        ("{case}", "observers.far_field[1]", "'flat'", "'xy'", "parallel", "each plane once"),
+        changes=((FF, _planes('{ plane = "xy" }', '{ name = "flat", normal = [0.0, 0.0, -2.0] }')),),
+        why="the normal of xy is +z; [0, 0, -2] is parallel to it: the same circle of directions",
+    ),
+    Row(
+        "the same named plane twice",
+        ("{case}", "observers.far_field[1]", "'xz' is asked for twice", "each plane once"),
+        changes=((FF, _planes('{ plane = "xz" }', '{ plane = "xz", step_deg = 10.0 }')),),
+    ),
+    Row(
+        "two spheres",
+        ("{case}", "observers.far_field[1]", "'sphere' is asked for twice", "at most one sphere"),
+        changes=((FF, _planes("{ sphere = true, degree = 5 }", "{ sphere = true, degree = 7 }")),),
+    ),
+    Row(
+        "empty list of planes",
+        ("{case}", "observers.far_field", "a non-empty list", "[]"),
+        changes=((FF, "far_field = []"),),
+    ),
+    Row(
+        "tolerance sector in a plane not asked for",
+        ("{case}", "tolerance.sectors[0].plane", "a plane of observers.far_field ('xy', 'xz')", "'yz'"),
+        changes=(
+            (FF, _planes('{ plane = "xy" }', '{ plane = "xz" }')),
+            (
+                "[observers]",
+                '[tolerance]\nsectors = [ { name = "s", from_deg = 0.0, to_deg = 90.0, plane = "yz" } ]\n[observers]',
+            ),
+        ),
+    ),
+    Row(
+        "control sector on the sphere",
+        ("{case}", "control.sector.plane", "a plane of observers.far_field ('xz')", "'sphere'"),
+        changes=(
+            (FF, _planes("{ sphere = true, degree = 7 }", '{ plane = "xz" }')),
+            (
+                "[observers]",
+                '[control]\nobjective = "sector"\nsector = { from_deg = -30.0, to_deg = 30.0 }\n[observers]',
+            ),
+        ),
+        why="the control sector names no plane, so it takes the first, the sphere; its target must be a circle",
+    ),
+    Row(
+        "several planes below the floor",
+        ("{case}", "observers.far_field", 'plane = "xz" holds 5', "the sphere (degree 5) holds", 'plane = "xy"'),
+        changes=(
+            ("[observers]", FLOOR.format(z=-0.2)),
+            (
+                FF,
+                _planes(
+                    '{ plane = "xy", step_deg = 30.0 }',
+                    '{ plane = "xz", step_deg = 30.0 }',
+                    "{ sphere = true, degree = 5 }",
+                ),
+            ),
+        ),
+        why="the xz circle at 30-degree steps holds 5 directions with z < 0; the degree-5 Lebedev rule "
+        "(14 points: 6 axes, 8 cube corners) holds 5 (-z and 4 corners)",
     ),
     # -- control-channel tolerances ----------------------------------------
     Row(
