@@ -147,8 +147,10 @@ class AttenuationJudgement:
 class TermSplit:
     """How far one term moves a source's field: largest |level| [dB] and |phase| [deg] departure.
 
-    ``max_at_hz``, ``max_at_azimuth_deg``: where the level departure is
-    largest; ``within_tolerance_up_to_hz``: None when within it over the band.
+    ``max_at_hz``, ``max_at_azimuth_deg``, ``max_at_plane``: where the
+    level departure is largest (the azimuth in that far-field plane; None
+    in a summary written before directions named their plane);
+    ``within_tolerance_up_to_hz``: None when within it over the band.
     """
 
     max_level_db: float
@@ -156,6 +158,7 @@ class TermSplit:
     max_at_hz: float
     max_at_azimuth_deg: float
     within_tolerance_up_to_hz: float | None
+    max_at_plane: str | None = None
 
 
 @dataclass(frozen=True)

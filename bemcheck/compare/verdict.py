@@ -160,6 +160,7 @@ def _decomposition(ds, tolerance, freqs):
     """Per source: how far the source model and the other bodies move its field, and up to where within tolerance."""
     if "source_model_level_db" not in ds:
         return None
+    planes = planes_of(ds)
     mask = ds["significant"].values[:, :-1, :]
     out = []
     for i, name in enumerate(str(s) for s in ds["source"].values):
@@ -177,6 +178,7 @@ def _decomposition(ds, tolerance, freqs):
                     float(freqs[fi]),
                     float(ds["azimuth_deg"].values[di]),
                     float(limit) if found else None,
+                    None if planes is None else str(planes[di]),
                 )
             )
         out.append(SourceSplit(name, *terms))

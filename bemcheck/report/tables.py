@@ -151,7 +151,7 @@ def decomposition_rows(verdict):
         cells = []
         for t in (row.source_model, row.other_bodies):
             cells += [
-                f"{db(t.max_level_db)}, {t.max_phase_deg:.0f}° ({hz(t.max_at_hz)}, {t.max_at_azimuth_deg:.0f}°)",
+                f"{db(t.max_level_db)}, {t.max_phase_deg:.0f}° ({hz(t.max_at_hz)}, {t.max_at_azimuth_deg:.0f}°{'' if t.max_at_plane is None else ' in ' + t.max_at_plane})",
                 f"up to {hz(t.within_tolerance_up_to_hz)}" if t.within_tolerance_up_to_hz else "over the band",
             ]
         rows.append((row.source, *cells))

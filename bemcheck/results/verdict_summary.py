@@ -30,7 +30,14 @@ from bemcheck.compare.judgements import (
 )
 
 _TOLERANCE = ("level_db", "phase_deg", "attenuation_target_db", "attenuation_db")
-_TERM = ("max_level_db", "max_phase_deg", "max_at_hz", "max_at_azimuth_deg", "within_tolerance_up_to_hz")
+_TERM = (
+    "max_level_db",
+    "max_phase_deg",
+    "max_at_hz",
+    "max_at_azimuth_deg",
+    "within_tolerance_up_to_hz",
+    "max_at_plane",
+)
 _RULE = ("rule", "what", "length_m", "length", "frequency_hz", "in_band", "source")
 _DESIGNS = ("as_designed", "reoptimised")
 
@@ -118,7 +125,7 @@ def _band_of(d):
 
 
 def _term_of(d):
-    return TermSplit(**{k: d[k] for k in _TERM})
+    return TermSplit(**{k: d.get(k) for k in _TERM})  # max_at_plane is absent from older summaries
 
 
 def _sector_json(s):
