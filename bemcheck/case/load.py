@@ -336,18 +336,15 @@ def _control(r, sources, file):
 
 def _tolerance(r, far_field):
     labels = tuple(f.label for f in far_field)
+    default = tuple(place_sector(s, "tolerance", labels, "") for s in Tolerance().sectors)
     if r is None:
-        return replace(
-            Tolerance(), sectors=tuple(place_sector(s, "tolerance", labels, "") for s in Tolerance().sectors)
-        )
+        return replace(Tolerance(), sectors=default)
     level = r.number("level_db", Tolerance.level_db, positive=True)
     phase = r.number("phase_deg", Tolerance.phase_deg, positive=True, high=180.0)
     target = r.number("attenuation_target_db", Tolerance.attenuation_target_db, positive=True, high=60.0)
     shortfall = r.number("attenuation_db", Tolerance.attenuation_db, positive=True, high=60.0)
-    sectors = tuple(read_sector(s) for s in r.subs("sectors"))
-    sectors = tuple(place_sector(s, f"tolerance.sectors[{i}]", labels, r.file) for i, s in enumerate(sectors)) or tuple(
-        place_sector(s, "tolerance", labels, r.file) for s in Tolerance().sectors
-    )
+    given = [read_sector(s) for s in r.subs("sectors")]
+    sectors = tuple(place_sector(s, f"tolerance.sectors[{i}]", labels, r.file) for i, s in enumerate(given)) or default
     _unique([s.name for s in sectors], "tolerance.sectors", r.file)
     r.done()
     return Tolerance(

@@ -11,7 +11,7 @@ Examples
 >>> [spec.name for spec in FIGURES][:3]
 ['layout', 'shortfall_map', 'departure_map']
 >>> spec_named("polar").needs
-(<Need.PLANE_CIRCLE: 'three far-field directions in the figure's plane'>,)
+(<Need.PLANE_CIRCLE: 'three far-field directions in the plane drawn'>,)
 """
 
 from collections.abc import Callable
@@ -35,8 +35,8 @@ class Need(Enum):
     BEM = "the BEM ran"
     CONTROLS = "control sources"
     MESH = "the meshed bodies"
-    PLANE = "a far-field direction in the figure's plane"
-    PLANE_CIRCLE = "three far-field directions in the figure's plane"
+    PLANE = "a far-field direction in the plane drawn"
+    PLANE_CIRCLE = "three far-field directions in the plane drawn"
     DRIVERS = "notes played and a control source with a driver"
 
 
