@@ -116,7 +116,7 @@ def sector_figure(ds, tolerance_db=None):
         ax.yaxis.set_major_formatter(FormatStrFormatter("%g"))
         ax.yaxis.set_minor_locator(NullLocator())
         ax.set_ylabel("|ΔL| [dB]")
-        ax.set_title(f"sector '{sector}'", fontsize=9)
+        ax.set_title(f"sector '{sector}'{_plane_of(ds, sector)}", fontsize=9)
     for ax in axes[:-1]:
         ax.set_xlabel("")
     style_handles = [
@@ -129,3 +129,11 @@ def sector_figure(ds, tolerance_db=None):
     fig.legend(handles=colour_handles + style_handles, loc="outside right upper", fontsize=7.5)
     fig.suptitle("Level departure per sector, BEM vs free field", x=0.01, ha="left", fontsize=10, fontweight="bold")
     return fig
+
+
+def _plane_of(ds, sector):
+    """The words " in <plane>" for a sector whose results name its far-field plane."""
+    if "sector_plane" not in ds.coords:
+        return ""
+    plane = str(ds["sector_plane"].sel(sector=sector).values)
+    return f" in {plane}" if plane else ""
