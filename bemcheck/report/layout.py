@@ -83,6 +83,9 @@ def layout_figure(mesh, case=None):
     n /= np.maximum(np.linalg.norm(n, axis=1, keepdims=True), 1e-300)
     marks = _markers(case)
     cloud = np.vstack([mesh.vertices] + [m[0][None] for m in marks])
+    floor = case.floor if case is not None else None
+    if floor is not None:
+        cloud = np.vstack([cloud, [[cloud[0, 0], cloud[0, 1], floor.z]]])
     lo, hi = cloud.min(axis=0), cloud.max(axis=0)
     pad = 0.06 * max(float((hi - lo).max()), 1e-3)
     lo, hi = lo - pad, hi + pad
@@ -96,6 +99,11 @@ def layout_figure(mesh, case=None):
     )
     for pos, mark, _label in marks:
         ax3.scatter(*pos, depthshade=False, **mark)
+    if floor is not None:
+        corners = [(lo[0], lo[1]), (hi[0], lo[1]), (hi[0], hi[1]), (lo[0], hi[1])]
+        ax3.add_collection3d(
+            Poly3DCollection([[(x, y, floor.z) for x, y in corners]], facecolors=FLOOR_COLOUR, edgecolors=style.MUTED)
+        )
     ax3.set_xlim(lo[0], hi[0])
     ax3.set_ylim(lo[1], hi[1])
     ax3.set_zlim(lo[2], hi[2])
@@ -120,12 +128,14 @@ def layout_figure(mesh, case=None):
     )
     for pos, mark, _label in marks:
         ax2.scatter(pos[a], pos[b], zorder=3, **mark)
+    # a case with a floor observes in its own plane only (every other plane dips below it)
+    floor_note = "" if floor is None else f"; rigid floor at z = {floor.z:g} m, parallel"
     ax2.set_xlim(lo[a], hi[a])
     ax2.set_ylim(lo[b], hi[b])
     ax2.set_aspect("equal")
     ax2.set_xlabel(f"{plane[0]} [m]")
     ax2.set_ylabel(f"{plane[1]} [m]")
-    ax2.set_title(f"Seen across the observers' plane ({plane})")
+    ax2.set_title(f"Seen across the observers' plane ({plane}){floor_note}")
     handles = [Line2D([], [], ls="none", marker="s", ms=8, color=c, label=name) for name, c in base.items()]
     handles += [
         Line2D([], [], ls="none", marker=PRIMARY_MARK["marker"], ms=10, color=PRIMARY_MARK["color"], label="primary"),
@@ -146,6 +156,10 @@ def layout_figure(mesh, case=None):
         for ax, anchors in ((ax3, on3), (ax2, on2)):
             name_points(ax, anchors, renderer)
     return fig
+
+
+# The rigid floor, drawn as a translucent plane (RGBA).
+FLOOR_COLOUR = (0.55, 0.45, 0.35, 0.18)
 
 
 # Where a name may sit beside its point [pt], tried in this order.

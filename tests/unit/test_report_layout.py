@@ -190,3 +190,20 @@ def test_points_on_one_spot_share_one_tag():
         fig = layout_figure(mesh, case)
         plane_tags = [t.get_text() for t in _names(fig) if t.axes is fig.axes[1]]
     assert "primary_far_right, control_left" in plane_tags
+
+
+def test_the_rigid_floor_is_drawn():
+    """With a [floor] (far field in its own plane only), the perspective shows the floor's plane at its
+    height, within the axes, and the projection's title gives its height."""
+    from bemcheck.report.layout import FLOOR_COLOUR
+
+    plane, mesh, primary, control, ear = LAYOUTS["wide xy"]
+    floor_z = min(float(mesh.vertices[:, 2].min()), primary[2], control[2], ear[2]) - 0.05
+    text = CASE.format(plane=plane, primary=primary, control=control, ear=ear) + f"[floor]\nz = {floor_z}\n"
+    with style.styled():
+        fig = layout_figure(mesh, parse_case(text))
+    ax3, ax2 = fig.axes[0], fig.axes[1]
+    floors = [c for c in ax3.collections if np.allclose(c.get_facecolor()[0], FLOOR_COLOUR)]
+    assert len(floors) == 1
+    assert ax3.get_zlim()[0] < floor_z < ax3.get_zlim()[1]
+    assert f"rigid floor at z = {floor_z:g} m, parallel" in ax2.get_title(loc="left")
