@@ -20,7 +20,7 @@ from bemcheck.explore.candidates import screen
 from bemcheck.explore.centred import case_centres
 from bemcheck.explore.choice import choose, set_attenuation, single_control_map
 from bemcheck.explore.design import case_tradeoff
-from bemcheck.explore.layout import POWER_NOTE, layout_text
+from bemcheck.explore.layout import POWER_NOTE, amplifier_note, layout_text
 from bemcheck.explore.page import PAGE_FILE, write_page
 from bemcheck.explore.results import DESIGNS, EXPLORE_FILE, MODELS, Choice, add_case_design, explore_dataset
 from bemcheck.explore.solve import band_meshes, base_sources, solve_candidates
@@ -135,6 +135,23 @@ def _design_lines(tradeoff, centres, frequencies):
     return tuple(out)
 
 
+def _layouts(case, kept, choices):
+    """The text of each chosen layout's case file, by design; each loads (``layout_text`` reads it back)."""
+    taken = {s.name for s in case.sources}
+    names = [n for n in (f"explore_{i + 1}" for i in range(len(taken) + case.explore.controls)) if n not in taken]
+    texts = {}
+    for c in choices:
+        text = layout_text(case, kept.positions[list(c.candidates)], names[: len(c.candidates)])
+        header = (
+            f"# Layout {CHOSEN[c.design]} by bemcheck explore from "
+            f"{Path(case.path).name if case.path else 'a case'}; verify it with bemcheck run.\n"
+            + POWER_NOTE
+            + amplifier_note(case)
+        )
+        texts[c.design] = header + text
+    return texts
+
+
 def explore_case(case, out_dir, cache_dir=None, progress=None):
     """Explore ``case``'s candidates and write the files into ``out_dir``.
 
@@ -183,18 +200,11 @@ def explore_case(case, out_dir, cache_dir=None, progress=None):
             "objective": "minimum total radiated power, strengths optimal in each model",
         }
         ds = add_case_design(explore_dataset(solves, kept, maps, choices, attrs), tradeoff, centres)
+        texts = _layouts(case, kept, choices)  # made (and loaded) before any file is written
         results = folder / EXPLORE_FILE
         write_dataset(ds, results, EXPLORE)
-        taken = {s.name for s in case.sources}
-        names = [n for n in (f"explore_{i + 1}" for i in range(len(taken) + case.explore.controls)) if n not in taken]
-        layouts = {}
-        for c in choices:
-            text = layout_text(case, kept.positions[list(c.candidates)], names[: len(c.candidates)])
-            header = (
-                f"# Layout {CHOSEN[c.design]} by bemcheck explore from "
-                f"{Path(case.path).name if case.path else 'a case'}; verify it with bemcheck run.\n" + POWER_NOTE
-            )
-            layouts[c.design] = folder / LAYOUT_FILES[c.design]
-            atomic_write_bytes(layouts[c.design], (header + text).encode())
+        layouts = {design: folder / LAYOUT_FILES[design] for design in texts}
+        for design, text in texts.items():
+            atomic_write_bytes(layouts[design], text.encode())
         page = write_page(folder / PAGE_FILE, ds, case.explore.grid, _outline(case, meshes), lines)
     return ExploreOutcome(folder, results, layouts, page, lines)

@@ -4,7 +4,9 @@ The case's own text is parsed, its controls that the exploration did not fix
 are replaced by the chosen free-standing points, its ``[explore]`` table is
 left out, its ``[control]`` table becomes ``objective = "power"`` (the
 objective the exploration chose the layout for, so ``bemcheck run`` verifies
-the same strengths; ``POWER_NOTE`` says so in the file), mesh-file paths
+the same strengths; ``POWER_NOTE`` says so in the file), each ``[[amplifier]]``
+keeps only the fixed controls it fed (one left feeding none is left out: the
+chosen controls are new loudspeakers, wired to no channel yet), mesh-file paths
 are made absolute (the new file lives in the output folder), and the result is written back as TOML and read again with
 the case loader before it is returned, so a written layout always loads.
 """
@@ -19,6 +21,26 @@ POWER_NOTE = (
     '# [control] objective is "power": explore chose these controls for minimum radiated power, '
     "whatever the case's objective.\n"
 )
+
+
+def amplifier_note(case):
+    """Comment lines naming the amplifiers the layout leaves out (they fed only replaced controls); "" if none.
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace as N
+    >>> from bemcheck.case.amplifiers import Amplifier
+    >>> case = N(explore=N(fixed=("c2",)), amplifiers=(Amplifier("a", 20.0, 5.0, ("c1",)),))
+    >>> amplifier_note(case).startswith("# [[amplifier]] 'a' is left out")
+    True
+    """
+    fixed = set(case.explore.fixed) if case.explore else set()
+    gone = [a.name for a in case.amplifiers if not fixed.intersection(a.controls)]
+    return "".join(
+        f"# [[amplifier]] '{name}' is left out: it fed only controls explore replaced; "
+        "name the chosen controls in an amplifier's controls to check its channels.\n"
+        for name in gone
+    )
 
 
 def layout_text(case, positions, names):
@@ -52,6 +74,7 @@ def layout_text(case, positions, names):
     fixed = set(case.explore.fixed) if case.explore else set()
     doc["source"] = [s for s in doc["source"] if s.get("role") != "control" or s.get("name") in fixed]
     doc["source"] += [{"name": n, "role": "control", "at": [float(v) for v in x]} for n, x in zip(names, positions)]
+    _rewire_amplifiers(doc, {s["name"] for s in doc["source"]})
     base = Path(case.path).parent if case.path else Path(".")
     for body in doc.get("body", []):
         if body.get("kind") == "file" and "path" in body:
@@ -59,6 +82,17 @@ def layout_text(case, positions, names):
     text = dumps(doc)
     parse_case(text)
     return text
+
+
+def _rewire_amplifiers(doc, kept):
+    """Each amplifier feeds only the sources ``kept``; one left feeding none goes."""
+    amplifiers = []
+    for amp in doc.pop("amplifier", []):
+        fed = [c for c in amp.get("controls", []) if c in kept]
+        if fed:
+            amplifiers.append({**amp, "controls": fed})
+    if amplifiers:
+        doc["amplifier"] = amplifiers
 
 
 def dumps(doc):

@@ -10,6 +10,7 @@ from bemcheck.cli import main
 from bemcheck.explore.candidates import screen
 from bemcheck.explore.solve import band_meshes
 from bemcheck.results.files import read_dataset
+from tests.support.cases import SOURCE_PAIR, case_text
 
 HEAD = """
 [case]
@@ -203,3 +204,53 @@ def test_candidates_around_a_body_and_check_prints_the_table(tmp_path, capsys):
     assert len(kept.positions) > 20 and np.allclose(r, 0.16, rtol=0.02)
     gaps = np.linalg.norm(kept.positions[:, None] - kept.positions[None], axis=2) + np.eye(len(r))
     assert gaps.min() >= 0.07 * (1 - 1e-9)
+
+
+def test_amplifiers_of_replaced_controls_are_rewired_in_the_layout(tmp_path, capsys):
+    """An [[amplifier]] feeding a control explore replaces (not fixed): the exploration runs (it was
+    refused, the written layout naming a control it no longer had) and writes nothing before its
+    layouts load; each amplifier keeps the fixed controls it fed, and one left feeding none is left
+    out with a comment saying so.  No bodies: the free field answers both models."""
+    amplifiers = "".join(
+        f'[[amplifier]]\nname = "{name}"\nrated_voltage_rms = 20.0\nrated_current_rms = 5.0\ncontrols = {fed}\n'
+        for name, fed in (("amp_c", '["c"]'), ("amp_dk", '["d", "k"]'))
+    )
+    sources = SOURCE_PAIR + "".join(
+        f'[[source]]\nname = "{name}"\nrole = "control"\nat = {at}\n'
+        for name, at in (("d", "[0.0, 0.0, -0.3]"), ("k", "[0.0, -0.3, 0.0]"))
+    )
+    case = tmp_path / "case.toml"
+    case.write_text(
+        case_text("explore with amplifiers (invented test case)", "list = [200.0]", sources=sources)
+        + amplifiers
+        + '[explore]\npoints = [[0.0, 0.3, 0.0], [0.0, 0.0, 0.3]]\nfixed = ["k"]\n'
+    )
+    out = tmp_path / "out"
+    assert main(["explore", str(case), "--out", str(out), "--quiet"]) == 0, capsys.readouterr().err
+    for name in ("layout.toml", "layout_free.toml"):
+        text = (out / name).read_text()
+        assert "# [[amplifier]] 'amp_c' is left out" in text
+        layout = load_case(out / name)
+        assert [(a.name, a.controls) for a in layout.amplifiers] == [("amp_dk", ("k",))]
+        assert {s.name for s in layout.controls} == {"k", "explore_1"}
+        assert main(["check", str(out / name)]) == 0
+
+
+def test_a_layout_that_does_not_load_leaves_no_file(tmp_path, capsys, monkeypatch):
+    """The layouts are made and loaded before explore.nc is written: a layout the loader refuses
+    ends with exit 2 and no explore.nc, layout or page (an explore.nc was left before)."""
+    import bemcheck.explore.command as command
+    from bemcheck.errors import CaseError
+
+    def refused(*args):
+        raise CaseError("<case>: amplifier[0].controls[0]: a layout the loader refuses")
+
+    monkeypatch.setattr(command, "layout_text", refused)
+    case = tmp_path / "case.toml"
+    case.write_text(
+        case_text("explore (invented test case)", "list = [200.0]") + "[explore]\npoints = [[0.0, 0.3, 0.0]]\n"
+    )
+    out = tmp_path / "out"
+    assert main(["explore", str(case), "--out", str(out), "--quiet"]) == 2
+    assert "a layout the loader refuses" in capsys.readouterr().err
+    assert sorted(p.name for p in out.iterdir()) == []
