@@ -152,7 +152,11 @@ def section(mouth_radius, throat_radius, length, flare, rim_radius, cap_depth=0.
     nr, nz = _unit_inward(horn, x_rim)
     centre = (float(horn.radius(x_rim) + a * nr), -a)
     if centre[0] <= 0.0:
-        raise ValueError(f"rim_radius {a} m is too large for mouth_radius {mouth_radius} m")
+        # the rim circle, tangent to the mouth plane inside the wall, would reach past the axis
+        raise ValueError(
+            f"rim_radius {a} m is too large for this bell: the rim would reach past its axis "
+            f"(mouth_radius {mouth_radius} m, flare {flare}); expected a smaller rim_radius"
+        )
     sec = Section(horn, a, cap_depth, x_rim, centre, x_rim, centre[0])
     if not sec.recessed:
         return sec

@@ -5,6 +5,7 @@ from pathlib import Path
 from bemcheck.case import load_case
 from bemcheck.cli.common import CASE_HELP, EXIT_OK
 from bemcheck.cli.describe import case_lines
+from bemcheck.mesh.estimate import check_shapes
 from bemcheck.observers import for_observers
 
 HELP = "validate a case file and print what it holds"
@@ -18,6 +19,7 @@ def add_arguments(parser):
 def execute(args, out):
     """Check ``args.case`` and print its description to ``out``; the exit code."""
     case = load_case(args.case)
+    check_shapes(case)
     print(f"{args.case}: valid case '{case.title}'", file=out)
     for line in case_lines(case, for_observers(case.observers.far_field)):
         print(line, file=out)

@@ -5,6 +5,7 @@ from pathlib import Path
 
 from bemcheck.case import load_case
 from bemcheck.cli.common import CASE_HELP, EXIT_OK, MESH_CACHE_HELP
+from bemcheck.mesh.estimate import check_shapes
 
 HELP = "map the attenuation one control achieves at candidate positions and choose K controls"
 
@@ -23,6 +24,7 @@ def execute(args, out):
     from bemcheck.explore.command import explore_case
 
     case = load_case(args.case)
+    check_shapes(case)
     n = len(case.frequencies)
 
     def progress(i, f):

@@ -5,6 +5,7 @@ from pathlib import Path
 from bemcheck.case import load_case
 from bemcheck.cli.common import CASE_HELP, EXIT_OK, MESH_CACHE_HELP, default_out
 from bemcheck.mesh import format_band_table, write_band_meshes
+from bemcheck.mesh.estimate import check_shapes
 from bemcheck.run.runner import prepare_folder
 from bemcheck.run.store import RunLock
 
@@ -25,6 +26,7 @@ def add_arguments(m):
 def execute(args, out):
     """Write the band meshes of ``args.case`` and print their table; the exit code."""
     case = load_case(args.case)
+    check_shapes(case)
     folder = prepare_folder(args.out or default_out(args.case, "meshes"))
     # the same lock as a run: two commands writing one folder would interleave files
     with RunLock(folder, command="mesh"):

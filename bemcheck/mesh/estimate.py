@@ -9,9 +9,10 @@ bounds only make elements smaller, so these are lower bounds: a mesh refused
 on them would certainly not fit.
 """
 
+import importlib
 import math
 
-from bemcheck.errors import GeometryError
+from bemcheck.errors import CaseError, GeometryError
 from bemcheck.memory import available_memory, dense_bytes
 
 # Inscribed facets lose a little area (under 1 % at the sizes bemcheck meshes,
@@ -20,6 +21,42 @@ AREA_ALLOWANCE = 0.98
 # Largest scene refused even where the available memory is unknown: 2 million
 # triangles give a million unknowns, 32 TB of dense matrices.
 MAX_TRIANGLES = 2_000_000
+
+
+def check_shapes(case):
+    """Refuse, before any work, a body its geometry script cannot build (a bell's rim too large for its flare).
+
+    Each script's ``solid_measures`` solves the solid's section from the
+    parameters (milliseconds, no gmsh) and says why one does not fit.
+
+    Raises
+    ------
+    CaseError
+        Naming the case file, the body and the script's reason.
+
+    Examples
+    --------
+    >>> from bemcheck.case import parse_case
+    >>> text = "\\n".join(['[case]', 'title = "t"', '[frequencies]', 'list = [100.0]', '[[body]]', 'name = "b"',
+    ...     'kind = "bell"', 'mouth_radius = 0.46', 'throat_radius = 0.006', 'length = 2.3', 'flare = 0.035',
+    ...     'rim_radius = 0.013', '[[source]]', 'name = "p"', 'role = "primary"', 'at = [0.0, 0.0, 1.0]',
+    ...     'strength = 1e-3'])
+    >>> check_shapes(parse_case(text))
+    Traceback (most recent call last):
+    ...
+    bemcheck.errors.CaseError: <case>: body[0] 'b': rim_radius 0.013 m is too large ...
+    """
+    for i, body in enumerate(case.bodies):
+        if body.shape.SCRIPT is None:
+            continue
+        script = importlib.import_module(f"bemcheck.geometry_scripts.{body.shape.SCRIPT}")
+        try:
+            script.solid_measures(*body.shape.script_args())
+        except ValueError as exc:
+            raise CaseError(
+                f"{case.path or '<case>'}: body[{i}] '{body.name}': {exc} "
+                f"(the {body.kind} cannot be built; nothing was meshed)"
+            ) from None
 
 
 def triangles_lower_bound(area, element_size):

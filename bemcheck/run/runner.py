@@ -14,7 +14,7 @@ from bemcheck.case.shapes import hash_body_files
 from bemcheck.compare import Verdict, verdict_lines
 from bemcheck.errors import BemcheckInputError
 from bemcheck.mesh import mesh_scene, plan_bands
-from bemcheck.mesh.estimate import check_mesh_size
+from bemcheck.mesh.estimate import check_mesh_size, check_shapes
 from bemcheck.mesh.scene import check_file_bodies
 from bemcheck.observers import for_observers
 from bemcheck.prebuild.check import before_build, harmonic_plan
@@ -275,6 +275,8 @@ def run_case(case, out_dir, model="both", report=False, frequencies=None, surfac
     """
     if model not in MODELS:
         raise BemcheckInputError(f"model: expected one of {', '.join(MODELS)}, got {model!r}")
+    if model == "both":
+        check_shapes(case)  # a body its script cannot build, refused before the folder is made
     folder = prepare_folder(out_dir)
     directions = for_observers(case.observers.far_field)
     fingerprint = case_hash(case)

@@ -394,6 +394,23 @@ ROWS = [
         ("{case}", "body[0].radius", "a length from 1e-05 to 1000 m"),
         changes=(('kind = "file"\npath', 'kind = "sphere"\nradius = 1e23\n# path'),),
     ),
+    *(
+        Row(
+            f"bell rim too large for its flare, {command} command",
+            ("{case}", "body[0] 'cab'", "rim_radius 0.013 m is too large for this bell", "nothing was meshed"),
+            changes=(
+                (
+                    'kind = "file"\npath',
+                    'kind = "bell"\nmouth_radius = 0.46\nthroat_radius = 0.006\nlength = 2.3\nflare = 0.035\n'
+                    "rim_radius = 0.013\n# path",
+                ),
+            ),
+            command=command,
+            why="bemcheck check accepted it and the run refused it only when meshing, naming neither file nor key: "
+            "with so slow a flare the rim circle, tangent to the mouth plane inside the wall, crosses the axis",
+        )
+        for command in ("run", "mesh")
+    ),
     Row(
         "observer at a source",
         ("{case}", "observers.points[0].at", "coincides with source 'p'"),
@@ -951,3 +968,18 @@ def test_report_of_a_damaged_results_file(damage, tmp_path, capsys):
     assert "Traceback" not in err
     assert f"bemcheck: error: {results_file}: cannot be read as a results file" in err, err
     assert not (out / "report.html").exists()
+
+
+def test_check_refuses_a_bell_its_script_cannot_build(tmp_path, capsys):
+    """`bemcheck check` answers as the run does (it printed "valid case" for a bell the mesher refuses)."""
+    case = tmp_path / "case.toml"
+    case.write_text(
+        BASE.replace(
+            'kind = "file"\npath',
+            'kind = "bell"\nmouth_radius = 0.46\nthroat_radius = 0.006\nlength = 2.3\nflare = 0.035\n'
+            "rim_radius = 0.013\n# path",
+        )
+    )
+    assert main(["check", str(case)]) == 2
+    err = capsys.readouterr().err
+    assert f"{case}: body[0] 'cab': rim_radius 0.013 m is too large for this bell" in err and "Traceback" not in err
