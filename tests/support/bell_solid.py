@@ -33,7 +33,7 @@ def reference(bell):
     r = lambda x: b * (x + x0) ** -e  # noqa: E731
     r1 = lambda x: -e * r(x) / (x + x0)  # noqa: E731
     r2 = lambda x: e * (e + 1) * r(x) / (x + x0) ** 2  # noqa: E731
-    w = lambda x: math.sqrt(1 + r1(x) ** 2)  # noqa: E731
+    w = lambda x: math.hypot(1.0, r1(x))  # noqa: E731  (no overflow where the wall is steep)
     # rim centre (cr, -a): a from the wall along its normal, and a below z = 0
     x_t = brentq(lambda x: -x - a * r1(x) / w(x) + a, 0.0, L, xtol=1e-15)
     cr = r(x_t) - a / w(x_t)

@@ -73,7 +73,28 @@ def _off_profile(bell, vertices):
     coarse=st.sampled_from([1.0, 1.5]),
 )
 def test_every_band_keeps_the_bell(tmp_path, mouth, throat_fraction, length, flare, rim, cap, top, coarse):
-    bell = Bell(mouth, mouth * throat_fraction, length, flare, rim, cap)
+    _keeps_the_bell(tmp_path, Bell(mouth, mouth * throat_fraction, length, flare, rim, cap), top, coarse)
+
+
+@FUZZ
+@given(
+    mouth=st.floats(0.02, 0.3),
+    throat_fraction=st.floats(0.01, 0.95),
+    length_ratio=st.floats(0.2, 5.0),
+    flare=st.floats(0.02, 20.0),
+    rim_fraction=st.floats(0.005, 0.5),
+    top=st.floats(60.0, 3000.0),
+)
+def test_every_band_keeps_bells_of_any_accepted_proportions(
+    tmp_path, mouth, throat_fraction, length_ratio, flare, rim_fraction, top
+):
+    """Beyond instrument-like bells: the accepted flare range (0.01-20, limits.FLARE) and any
+    throat and rim below the mouth; a bell the script cannot build is refused before meshing."""
+    bell = Bell(mouth, mouth * throat_fraction, mouth * length_ratio, flare, mouth * rim_fraction)
+    _keeps_the_bell(tmp_path, bell, top, 1.0)
+
+
+def _keeps_the_bell(tmp_path, bell, top, coarse):
     size = coarse * MEDIUM.speed_of_sound / top / EPW
     try:
         with warnings.catch_warnings():
