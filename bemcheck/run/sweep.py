@@ -6,6 +6,7 @@ run killed at any point loses at most the tasks in flight, and the resumed
 result is the same bit for bit (each task is a pure function of its inputs).
 """
 
+import contextlib
 import dataclasses
 import hashlib
 import json
@@ -289,6 +290,25 @@ def check_scheduler(address):
         )
 
 
+@contextlib.contextmanager
+def _dask_logs_quiet():
+    """Dask's own stderr handler shows only CRITICAL records while the sweep runs.
+
+    A lost scheduler makes Dask's client log its connection tracebacks at
+    ERROR before the sweep can say, in one line, what happened and how to
+    resume (SchedulerUnavailable); those tracebacks are not for the user.
+    """
+    handlers = logging.getLogger("distributed").handlers
+    levels = [h.level for h in handlers]
+    for h in handlers:
+        h.setLevel(logging.CRITICAL)
+    try:
+        yield
+    finally:
+        for h, level in zip(handlers, levels, strict=True):
+            h.setLevel(level)
+
+
 def _execute_dask(todo, solve, address, finish, parts):
     from dask.distributed import Client, wait
 
@@ -302,7 +322,7 @@ def _execute_dask(todo, solve, address, finish, parts):
             "(or leave out --scheduler) and run the same command to resume"
         )
 
-    with Client(address, timeout=f"{SCHEDULER_TIMEOUT_S:g}s") as client:
+    with _dask_logs_quiet(), Client(address, timeout=f"{SCHEDULER_TIMEOUT_S:g}s") as client:
         futures = {client.submit(solve, t, key=f"bemcheck-{t.key}", pure=False, retries=3): t for t in todo}
         pending, idle_since, told = set(futures), time.monotonic(), False
         while pending:

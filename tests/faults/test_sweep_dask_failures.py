@@ -21,6 +21,8 @@ import json
 import os
 import signal
 import socket
+import subprocess
+import sys
 import threading
 import time
 import warnings
@@ -216,3 +218,29 @@ def test_without_workers_the_sweep_says_it_waits(processes, tmp_path, monkeypatc
     assert not runner.is_alive() and not errors, errors
     assert len(seen) == 1 and "no Dask worker" in seen[0] and "waits for workers" in seen[0], seen
     assert address in seen[0] and (tmp_path / "dask" / "results.nc").is_file()
+
+
+def test_the_command_tells_a_lost_scheduler_in_one_message(processes, tmp_path):
+    """`bemcheck run --scheduler` as a user runs it, its scheduler stopped while the sweep waits for
+    a worker: exit 2 with the one message saying where the finished tasks are and how to resume,
+    and no traceback (Dask's client logged its connection tracebacks on stderr before)."""
+    started, log = processes
+    sched, address = _scheduler(tmp_path, log)
+    started.append(sched)
+    case_file = tmp_path / "case.toml"
+    case_file.write_text(FREE_CASE)
+    out = tmp_path / "out"
+    argv = [sys.executable, "-m", "bemcheck", "run", str(case_file), "--out", str(out), "--no-report"]
+    run = subprocess.Popen(
+        [*argv, "--scheduler", address], cwd=tmp_path, stderr=subprocess.PIPE, text=True, start_new_session=True
+    )
+    started.append(run)
+    deadline = time.monotonic() + HANG_S
+    while not (out / "parts").is_dir() and time.monotonic() < deadline:  # the sweep has begun
+        time.sleep(0.2)
+    time.sleep(3.0)
+    os.killpg(sched.pid, signal.SIGKILL)
+    err = run.communicate(timeout=HANG_S)[1]
+    assert run.returncode == 2, err
+    assert "Traceback" not in err, err
+    assert f"--scheduler {address}: the scheduler was lost mid-sweep" in err and "to resume" in err, err
