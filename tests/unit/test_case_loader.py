@@ -53,6 +53,15 @@ def test_piston_sits_on_the_face_itself():
     assert case.sources[1].radiator == "piston"
 
 
+def test_attenuation_target_and_tolerated_shortfall_are_read_with_their_defaults():
+    """Absent, the defaults 10 dB and 3 dB (common practice, no source, stated in the README); given, as given."""
+    tol = parse_case(GOOD).tolerance
+    assert (tol.attenuation_target_db, tol.attenuation_db) == (10.0, 3.0)
+    text = GOOD.replace("level_db = 1.0", "level_db = 1.0\nattenuation_target_db = 20.0\nattenuation_db = 1.5")
+    tol = parse_case(text).tolerance
+    assert (tol.attenuation_target_db, tol.attenuation_db) == (20.0, 1.5)
+
+
 def test_frequencies_per_octave_span():
     text = GOOD.replace("list = [100.0, 200.0]", "start = 100.0\nstop = 800.0\nper_octave = 3")
     f = parse_case(text).frequencies
@@ -147,6 +156,16 @@ BAD = [
         ["source[1].on", "bell or a box"],
     ),
     ("no source", ('[[source]]\nname = "p"', '[[sourc]]\nname = "p"'), ["source"]),
+    (
+        "attenuation target not positive",
+        ("level_db = 1.0", "level_db = 1.0\nattenuation_target_db = 0.0"),
+        ["tolerance.attenuation_target_db", "a positive number"],
+    ),
+    (
+        "tolerated shortfall beyond 60 dB",
+        ("level_db = 1.0", "level_db = 1.0\nattenuation_db = 75.0"),
+        ["tolerance.attenuation_db", "60"],
+    ),
 ]
 
 
