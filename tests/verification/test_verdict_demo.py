@@ -48,3 +48,17 @@ def test_far_field_error_covers_a_finer_mesh(demo_two_meshes):
     phase = np.abs(np.degrees(np.angle(p6 * np.conj(p10))))
     assert (level[judged] <= coarse["level_error_db"].values[:, :-1][judged]).all()
     assert (phase[judged] <= coarse["phase_error_deg"].values[:, :-1][judged]).all()
+
+
+def test_directional_attenuation_and_impedance_errors_cover_a_finer_mesh(demo_two_meshes):
+    """The attenuation per direction (as designed and re-optimised, where the uncontrolled field
+    is judged) and the transfer impedances at 6 elements per wavelength against 10: within the
+    errors the 6-element run states (for the impedances the largest over the matrix at each
+    frequency, as far-field errors are taken over directions)."""
+    coarse, fine = demo_two_meshes[6], demo_two_meshes[10]
+    judged = coarse["significant"].sel(signal="controlled").values
+    for name in ("directional_attenuation_as_designed_db", "directional_attenuation_reoptimised_db"):
+        gap = np.abs(coarse[name].values - fine[name].values)
+        assert (gap[judged] <= coarse[name.replace("_db", "_error_db")].values[judged]).all(), name
+    gap = np.abs(coarse["z_bem"].values - fine["z_bem"].values)
+    assert (gap <= coarse["z_bem_error"].values.max(axis=(1, 2), keepdims=True)).all()
