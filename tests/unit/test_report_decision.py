@@ -58,8 +58,8 @@ def test_the_decision_has_a_row_per_sector_the_power_and_the_first_before_build_
     v = _verdict()
     rows = decision_rows(v, BEFORE_BUILD)
     assert [r[0] for r in rows[1:]] == [
-        "sector all (0° to 360°)",
-        "sector front (-45° to 45°)",
+        "sector all (0° to 360° in xy)",
+        "sector front (-45° to 45° in xy)",
         "power",
         "before build",
     ]
