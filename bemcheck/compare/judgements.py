@@ -40,13 +40,17 @@ class FieldTrust:
 
     ``trust_limit_hz``: lowest frequency where the field surely departs
     (None: nowhere); ``set_by``: "level" or "phase" (None without a limit);
-    ``worst_departure_db``: the largest level departure in the sector [dB].
+    ``worst_departure_db``: the largest level departure in the sector [dB];
+    ``other_bodies_db``: the largest level change the other bodies make to
+    the field in the sector, |20 log10 |p_bem / p_own_body|| [dB] (None
+    when the sources were not solved with their own bodies alone).
     """
 
     source: str
     trust_limit_hz: float | None
     set_by: str | None
     worst_departure_db: float
+    other_bodies_db: float | None = None
 
 
 @dataclass(frozen=True)

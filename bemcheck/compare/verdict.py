@@ -114,12 +114,14 @@ def _sector(ds, s, sector, freqs):
     status = ds["status"].values[:, :, inside]
     limits, found = ds["trust_limit_hz"].values[s], ds["trust_limit_found"].values[s]
     set_by = ds["trust_limit_set_by"].values[s]
+    other = np.abs(ds["other_bodies_level_db"].values[:, :, inside]) if "other_bodies_level_db" in ds else None
     fields = tuple(
         FieldTrust(
             g,
             float(limits[i]) if found[i] else None,
             str(set_by[i]) or None,
             float(ds["diffraction_max_db"].values[:, s, i].max()),
+            None if other is None or not other.size else float(other[:, i].max()),
         )
         for i, g in enumerate(signals[:-1])
     )

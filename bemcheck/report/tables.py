@@ -90,8 +90,10 @@ def decision_rows(verdict, before_build=None):
     rows = [
         ("judged", "attenuation as designed", "first departure of a monopole field", "other bodies change a field by")
     ]
-    worst_other = max(((d.other_bodies.max_level_db, d.source) for d in verdict.decomposition or ()), default=None)
     for s in verdict.sectors:
+        worst_other = max(
+            ((f.other_bodies_db, f.source) for f in s.fields if f.other_bodies_db is not None), default=None
+        )
         limits = s.trusted_fields()
         first = limits[0] if limits else None
         rows.append(

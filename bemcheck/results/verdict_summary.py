@@ -139,6 +139,7 @@ def _sector_json(s):
                 "trust_limit_hz": f.trust_limit_hz,
                 "set_by": f.set_by,
                 "worst_departure_db": f.worst_departure_db,
+                "other_bodies_max_db": f.other_bodies_db,
             }
             for f in s.fields
         },
@@ -182,7 +183,8 @@ def _sector_of(d):
         from_deg=d["from_deg"],
         to_deg=d["to_deg"],
         fields=tuple(
-            FieldTrust(name, f["trust_limit_hz"], f["set_by"], f["worst_departure_db"])
+            # other_bodies_max_db is absent from summaries written before sectors carried it
+            FieldTrust(name, f["trust_limit_hz"], f["set_by"], f["worst_departure_db"], f.get("other_bodies_max_db"))
             for name, f in d["fields"].items()
         ),
         attenuation_limit_hz=d["attenuation_limit_hz"],

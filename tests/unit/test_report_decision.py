@@ -80,3 +80,26 @@ def test_beside_it_the_attenuation_predicted_as_designed_and_reoptimised_with_th
     labels = [r[0] for r in rows]
     assert labels[1:4] == ["predicted (free field)", "as designed", "re-optimised"]
     assert all("±" in r[1] and "±" in r[4] for r in rows[2:4])
+
+
+def test_the_other_bodies_column_is_the_largest_change_in_each_sector():
+    """Each sector row names the source whose field the other bodies change most within that sector;
+    a sector's value survives the summary.json round trip."""
+    from dataclasses import replace
+
+    from bemcheck.compare.judgements import FieldTrust
+    from bemcheck.results.verdict_summary import verdict_from_summary, verdict_summary
+
+    v = _verdict()
+    changes = {"all": {"p": 3.4, "c": 1.2}, "front": {"p": 0.4, "c": 0.9}}
+    sectors = tuple(
+        replace(s, fields=tuple(replace(f, other_bodies_db=changes[s.sector][f.source]) for f in s.fields))
+        for s in v.sectors
+    )
+    v = replace(v, sectors=sectors)
+    rows = {r[0].split(" (")[0]: r[3] for r in decision_rows(v)[1:]}
+    assert rows["sector all"] == "up to 3.4 dB (p)"
+    assert rows["sector front"] == "up to 0.9 dB (c)"
+    back = verdict_from_summary(verdict_summary(v))
+    assert [f.other_bodies_db for f in back.sectors[1].fields] == [0.4, 0.9]
+    assert FieldTrust("x", None, None, 0.0).other_bodies_db is None
