@@ -4,16 +4,29 @@
 may still edit the text with ``str.replace``.
 """
 
-SOURCE_PAIR = """[[source]]
-name = "p"
-role = "primary"
-at = [0.3, 0.0, 0.0]
-strength = 1e-3
-[[source]]
-name = "c"
-role = "control"
-at = [-0.3, 0.0, 0.0]
-"""
+
+def source(name, role, at, strength=None):
+    """A ``[[source]]`` table: a point source at ``at`` [m], with its strength [m³/s] if given.
+
+    Examples
+    --------
+    >>> print(source("p", "primary", [0.3, 0.0, 0.0], 1e-3), end="")
+    [[source]]
+    name = "p"
+    role = "primary"
+    at = [0.3, 0.0, 0.0]
+    strength = 0.001
+    """
+    text = f'[[source]]\nname = "{name}"\nrole = "{role}"\nat = {[float(c) for c in at]}\n'
+    return text + ("" if strength is None else f"strength = {strength!r}\n")
+
+
+def source_pair(primary_at, control_at):
+    """A primary "p" of strength 1e-3 m³/s at ``primary_at`` and a control "c" at ``control_at`` [m]."""
+    return source("p", "primary", primary_at) + "strength = 1e-3\n" + source("c", "control", control_at)
+
+
+SOURCE_PAIR = source_pair([0.3, 0.0, 0.0], [-0.3, 0.0, 0.0])
 BOX_BODY = """[[body]]
 name = "cab"
 kind = "box"
@@ -22,6 +35,8 @@ size = [0.2, 0.2, 0.2]
 CIRCLE_30 = """[observers]
 far_field = { plane = "xy", step_deg = 30.0 }
 """
+CIRCLE_5 = CIRCLE_30.replace("30.0", "5.0")
+SIXTH_OCTAVES_100_1600 = "start = 100.0\nstop = 1600.0\nper_octave = 6"
 
 
 def case_text(title, frequencies, *, mesh="", bodies="", sources=SOURCE_PAIR, observers=CIRCLE_30):

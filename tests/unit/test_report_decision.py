@@ -13,29 +13,17 @@ from bemcheck.observers import for_observers
 from bemcheck.report.tables import decision_rows, verdict_attenuation_rows
 from bemcheck.results.combine import combine
 from bemcheck.run.runner import free_responses
+from tests.support.cases import CIRCLE_5, SIXTH_OCTAVES_100_1600, case_text, source_pair
 from tests.support.sphere_world import sphere_response
 
-PAIR = """
-[case]
-title = "a pair beside a rigid sphere (invented test case)"
-[frequencies]
-start = 100.0
-stop = 1600.0
-per_octave = 6
-[[source]]
-name = "p"
-role = "primary"
-at = [0.0, 0.0, 0.0]
-strength = 1e-3
-[[source]]
-name = "c"
-role = "control"
-at = [0.0, 0.02, 0.0]
-[observers]
-far_field = { plane = "xy", step_deg = 5.0 }
-[tolerance]
-sectors = [ { name = "all", from_deg = 0.0, to_deg = 360.0 }, { name = "front", from_deg = -45.0, to_deg = 45.0 } ]
-"""
+PAIR = case_text(
+    "a pair beside a rigid sphere (invented test case)",
+    SIXTH_OCTAVES_100_1600,
+    sources=source_pair([0.0, 0.0, 0.0], [0.0, 0.02, 0.0]),
+    observers=CIRCLE_5
+    + '[tolerance]\nsectors = [ { name = "all", from_deg = 0.0, to_deg = 360.0 }, '
+    + '{ name = "front", from_deg = -45.0, to_deg = 45.0 } ]\n',
+)
 BEFORE_BUILD = {
     "go": False,
     "items": [

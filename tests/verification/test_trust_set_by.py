@@ -18,26 +18,15 @@ from bemcheck.case import parse_case
 from bemcheck.observers import for_observers
 from bemcheck.results.combine import combine
 from bemcheck.run.runner import free_responses
+from tests.support.cases import CIRCLE_5, SIXTH_OCTAVES_100_1600, case_text, source
 from tests.support.sphere_world import sphere_response
 
-ONE = """
-[case]
-title = "a monopole beside a rigid sphere, judged field against field (invented test case)"
-[frequencies]
-start = 100.0
-stop = 1600.0
-per_octave = 6
-[[source]]
-name = "p"
-role = "primary"
-at = [0.0, 0.0, 0.0]
-strength = 1e-3
-[observers]
-far_field = {{ plane = "xy", step_deg = 5.0 }}
-[tolerance]
-level_db = {level}
-phase_deg = {phase}
-"""
+ONE = case_text(
+    "a monopole beside a rigid sphere, judged field against field (invented test case)",
+    SIXTH_OCTAVES_100_1600,
+    sources=source("p", "primary", [0.0, 0.0, 0.0], 1e-3),
+    observers=CIRCLE_5 + "[tolerance]\nlevel_db = {level}\nphase_deg = {phase}\n",
+)
 CENTRE, RADIUS = (0.15, 0.0, 0.0), 0.1
 
 
@@ -56,7 +45,7 @@ def _series_departures(case, directions):
 
 @pytest.mark.parametrize(("level", "phase", "by"), [(1.0, 180.0, "level"), (40.0, 15.0, "phase")])
 def test_the_trust_limit_names_what_set_it(level, phase, by):
-    case = parse_case(ONE.format(level=level, phase=phase))
+    case = parse_case(ONE.replace("{level}", str(level)).replace("{phase}", str(phase)))
     d = for_observers(case.observers.far_field)
     exact = [
         sphere_response(f, case.medium, CENTRE, RADIUS, [s.position for s in case.sources], d.unit)
