@@ -173,6 +173,10 @@ class Fields:
 
     def far_field(self, directions, u):
         """F with p ≈ F e^{ikr}/r in ``directions`` (D, 3): (D, M + V) [Pa·m per unit strength]."""
+        return self.far_field_terms(directions).of(u)
+
+    def far_field_terms(self, directions):
+        """The far-field integrals in ``directions`` (D, 3), for several surface solutions of one system."""
         dff, sff = far_field_moments(self.surface, directions, self.k, self.support)
         if self.floor is not None:
             mirrored, phase = mirrored_directions(directions, self.k, self.floor)
@@ -180,7 +184,31 @@ class Fields:
             dff = dff + phase[:, None] * dff_i
             sff = sff + phase[:, None] * sff_i
         incident = halfspace.far_field_matrix(self.frequency, self.medium, self.monopoles, directions, self.floor)
-        f = self.pad(incident) + dff @ u
-        if self.support.size:
-            f -= sff @ self.g
+        velocity = sff @ self.g if self.support.size else None
+        return FarFieldTerms(self.pad(incident), dff, velocity)
+
+
+@dataclass(frozen=True, eq=False)
+class FarFieldTerms:
+    """F = incident + D u − S g in a set of directions, the integrals taken once.
+
+    Attributes
+    ----------
+    incident : (D, M + V) ndarray of complex
+        The sources' own far fields (zero for velocity sources).
+    double : (D, nv) ndarray of complex
+        Far-field integrals of the surface pressure's P1 basis.
+    velocity : (D, M + V) ndarray of complex or None
+        The prescribed normal velocities' term; None without any.
+    """
+
+    incident: np.ndarray
+    double: np.ndarray
+    velocity: np.ndarray | None
+
+    def of(self, u, columns=slice(None)):
+        """(D, len(columns)) far fields of surface pressures ``u`` (nv, len(columns)) of those source columns."""
+        f = self.incident[:, columns] + self.double @ u
+        if self.velocity is not None:
+            f -= self.velocity[:, columns]
         return f

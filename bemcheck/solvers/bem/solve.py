@@ -229,9 +229,10 @@ def solve_frequency(
         # On the surface the trace of the total field is u itself.
         on = np.flatnonzero(at_obs.on_surface)
         field[on] = at_obs.nearest[on] @ u
-        far = flds.far_field(dirs, u)
+        terms = flds.far_field_terms(dirs)
+        far = terms.of(u)
         p_mat = _power_matrix(flds, surface, x_src, u, medium) if power else np.full(impedance.shape, np.nan + 0j)
-        own = _own_far_field(system, flds, dirs, rhs, [c for _, c in alone]) if alone else None
+        own = _own_far_field(system, terms, rhs, [c for _, c in alone]) if alone else None
         t3 = time.perf_counter()
 
         pressure = np.full((len(mesh.vertices), u.shape[1]), np.nan + 0j)
@@ -257,12 +258,11 @@ def solve_frequency(
         )
 
 
-def _own_far_field(system, flds, dirs, rhs, columns):
+def _own_far_field(system, terms, rhs, columns):
     """(D, S) far fields with each listed source's own body alone (see ``solve_frequency``'s ``alone``)."""
-    own = flds.far_field(dirs, np.zeros(rhs.shape, dtype=complex))
+    own = terms.of(np.zeros(rhs.shape, dtype=complex))
     for i, cols in enumerate(columns):
-        u = system.solve_alone(i, rhs)
-        own[:, cols] = flds.far_field(dirs, u)[:, cols]
+        own[:, cols] = terms.of(system.solve_alone(i, rhs[:, cols]), cols)
     return own
 
 
