@@ -222,6 +222,8 @@ def compare(case, directions, models):
     worlds = {"predicted": predicted, "as_designed": designed, "reoptimised": reopt}
     if models.own_body is not None:
         _decomposition(out, fsd, free_far, bem_far, models.own_body)
+        # only its far fields enter (the sectors' mean-square attenuation): no own-body power is solved,
+        # so the free-field power forms stand in and its power attenuation is never read
         worlds["own_body"] = attenuation(models.own_body, free_pm, q_uncontrolled, q_design)
     _sector_attenuations(out, case, directions, worlds)
     return out
