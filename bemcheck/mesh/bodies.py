@@ -14,6 +14,7 @@ from bemcheck.mesh import cache
 from bemcheck.mesh.checks import MeshNotice, check_surface
 from bemcheck.mesh.gmsh_session import session, triangles_by_group
 from bemcheck.mesh.meshfile import read_mesh_file
+from bemcheck.mesh.triangles import edge_lengths
 
 # gmsh's edges run up to about 1.4 times the size asked for (measured on
 # spheres, boxes and bells here), so it is asked for this fraction of the
@@ -75,7 +76,7 @@ class _Attempt:
 
 def _measure(vertices, triangles, exact):
     p = vertices[triangles]
-    longest = float(np.linalg.norm(p[:, [1, 2, 0]] - p, axis=2).max())
+    longest = float(edge_lengths(p).max())
     area = 0.5 * float(np.linalg.norm(np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]), axis=1).sum())
     # divergence theorem; outward gmsh triangles give a positive volume
     volume = float(np.einsum("ij,ij->i", p[:, 0], np.cross(p[:, 1], p[:, 2])).sum()) / 6.0

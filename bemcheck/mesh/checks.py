@@ -12,6 +12,7 @@ from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 
 from bemcheck.errors import GeometryError
+from bemcheck.mesh.triangles import edge_lengths
 
 # A triangle is degenerate when twice its area is below this fraction of its
 # longest edge squared (a height of 1e-10 edges: collinear to round-off).
@@ -88,7 +89,7 @@ def check_surface(vertices, triangles, name, repair=True):
 
 def _check_degenerate(v, t, name):
     p = v[t]
-    lengths = np.linalg.norm(p[:, [1, 2, 0]] - p, axis=2)
+    lengths = edge_lengths(p)
     twice_area = np.linalg.norm(np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]), axis=1)
     repeated = (t[:, 0] == t[:, 1]) | (t[:, 1] == t[:, 2]) | (t[:, 2] == t[:, 0])
     flat = repeated | (twice_area <= DEGENERATE * lengths.max(axis=1) ** 2)

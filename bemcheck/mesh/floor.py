@@ -3,6 +3,7 @@
 import numpy as np
 
 from bemcheck.errors import GeometryError
+from bemcheck.mesh.triangles import edge_lengths
 
 # A body and its mirror image in the floor must stand at least half an
 # element apart, as two bodies must (mesh/scene.py), so a body's surface
@@ -57,7 +58,7 @@ def check_floor_clearance(case, mesh):
                 f"{file}: body[{i}] '{body.name}': its surface reaches {-h:.3g} m below the floor "
                 f"(floor.z = {floor.z:g} m) at {point}; expected every body above the floor"
             )
-        edges = np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max(axis=1)
+        edges = edge_lengths(corners).max(axis=1)
         touching = (np.abs(heights - h) <= 1e-12 * max(1.0, abs(floor.z))).any(axis=1)
         need = FLOOR_MARGIN * float(edges[touching].max())
         if h < need:

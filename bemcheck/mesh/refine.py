@@ -20,6 +20,7 @@ import numpy as np
 from bemcheck.frames import unplace
 from bemcheck.geometry_scripts._sizing import Refinement
 from bemcheck.mesh.distance import nearest_on_surface, winding_number
+from bemcheck.mesh.triangles import edge_lengths
 from bemcheck.settings import NUMERICS
 
 # relative change of a refinement's size below which a mesh is not made again
@@ -88,7 +89,7 @@ def local_refinements(case, body, mesh, previous=()):
         return ()
     points = unplace(monopoles + observers, body.at, body.axis)
     corners = mesh.vertices[mesh.triangles]
-    longest = np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max(axis=1)
+    longest = edge_lengths(corners).max(axis=1)
     distance, which = nearest_on_surface(points, mesh.vertices, mesh.triangles, NUMERICS.refine_below * longest.max())
     local = longest[np.maximum(which, 0)]
     before = {r.centre: r.size for r in previous}

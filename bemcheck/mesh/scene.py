@@ -14,6 +14,7 @@ from bemcheck.mesh.estimate import check_mesh_size
 from bemcheck.mesh.floor import check_floor_clearance
 from bemcheck.mesh.refine import local_refinements
 from bemcheck.mesh.surface import SurfaceMesh
+from bemcheck.mesh.triangles import edge_lengths
 from bemcheck.settings import NUMERICS
 
 # Sources closer to a surface than this fraction of the nearest element's
@@ -139,7 +140,7 @@ def _check_resolution(case, body, bm):
     c = case.medium.speed_of_sound
     top = max(case.frequencies)
     p = bm.vertices[bm.triangles]
-    longest = float(np.linalg.norm(p[:, [1, 2, 0]] - p, axis=2).max())
+    longest = float(edge_lengths(p).max())
     per_wavelength = c / top / longest
     if per_wavelength < REFUSED_BELOW:
         reach = c / (REFUSED_BELOW * longest)
@@ -220,7 +221,7 @@ def _on_surface(point, v, tri):
     there.
     """
     corners = v[tri]
-    longest = np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max(axis=1)
+    longest = edge_lengths(corners).max(axis=1)
     d, which = nearest_on_surface([point], v, tri, reach=NUMERICS.snap_inside * float(longest.max()))
     return bool(which[0] >= 0 and d[0] <= NUMERICS.snap_inside * longest[which[0]])
 
@@ -251,7 +252,7 @@ def _check_pair(a, b, v, ta, tb, h):
         if not found.any():
             continue
         c = v[tri[which[found]]]
-        local = np.maximum(np.linalg.norm(c[:, [1, 2, 0]] - c, axis=2).max(axis=1), longest[pts[found]])
+        local = np.maximum(edge_lengths(c).max(axis=1), longest[pts[found]])
         k = np.argmin(d[found] - 0.5 * local)
         if d[found][k] < 0.5 * local[k] and (worst is None or d[found][k] < worst[0]):
             worst = (float(d[found][k]), float(local[k]))
@@ -277,7 +278,7 @@ def _check_point(label, position, body, v, tri, margin):
     if _inside(p, v, tri)[0]:
         raise GeometryError(f"{label} at {_fmt(p[0])} is inside body '{body}'; expected a point in the air")
     corners = v[tri]
-    longest = float(np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max())
+    longest = float(edge_lengths(corners).max())
     d, which = nearest_on_surface(p, v, tri, reach=longest if margin is None else margin)
     if which[0] < 0:
         return
@@ -288,7 +289,7 @@ def _check_point(label, position, body, v, tri, margin):
             "is larger than that): move it out, or make it a piston on the body's face"
         )
     c = corners[which[0]]
-    need = margin if margin is not None else SOURCE_MARGIN * float(np.linalg.norm(c[[1, 2, 0]] - c, axis=1).max())
+    need = margin if margin is not None else SOURCE_MARGIN * float(edge_lengths(c).max())
     if d[0] < need:
         why = "" if margin is not None else f" ({SOURCE_MARGIN:g} of the local element size)"
         raise GeometryError(

@@ -13,6 +13,7 @@ import numpy as np
 from scipy.sparse import coo_matrix
 
 from bemcheck.errors import GeometryError
+from bemcheck.mesh.triangles import edge_lengths
 
 
 @dataclass(frozen=True, eq=False)
@@ -80,8 +81,7 @@ class SurfaceMesh:
 
     def edge_lengths(self):
         """(nt, 3) lengths of each triangle's edges [m]."""
-        p = self.corners()
-        return np.linalg.norm(p[:, [1, 2, 0]] - p, axis=2)
+        return edge_lengths(self.corners())
 
     @cached_property
     def sizes(self):

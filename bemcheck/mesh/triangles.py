@@ -124,6 +124,18 @@ def point_triangle_distance(points, corners):
     return closest_points(np.asarray(points, dtype=float), corners[:, 0], corners[:, 1], corners[:, 2])[0]
 
 
+def edge_lengths(corners):
+    """Lengths [m] of the edges from corner k to corner k + 1 (mod 3): (..., 3, 3) corners -> (..., 3).
+
+    Examples
+    --------
+    >>> edge_lengths(np.array([[0.0, 0, 0], [3, 0, 0], [0, 4, 0]])).tolist()
+    [3.0, 5.0, 4.0]
+    """
+    corners = np.asarray(corners, dtype=float)
+    return np.linalg.norm(corners[..., [1, 2, 0], :] - corners, axis=-1)
+
+
 def aspect_ratios(edge_lengths, areas):
     """Aspect ratio of each triangle: the longest edge over the shortest altitude, times √3/2.
 
