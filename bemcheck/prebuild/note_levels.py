@@ -143,8 +143,9 @@ def note_strengths(case, spectrum, field_at):
     primary = [i for i, s in enumerate(case.sources) if s.role == "primary"]
     levels = np.asarray(spectrum.spl_at_1m, dtype=float)
     freqs = np.asarray(spectrum.harmonics, dtype=float)
-    mono = volume_velocity_from_spl(freqs, case.medium, levels, spectrum.distance)
-    if case.floor is not None and spectrum.at is not None:
+    if case.floor is None or spectrum.at is None:
+        mono = volume_velocity_from_spl(freqs, case.medium, levels, spectrum.distance)
+    else:
         # over a floor the monopole model hears its image too
         at = [case.sources[i].position for i in primary]
         mono = np.array(
