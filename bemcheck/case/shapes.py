@@ -266,8 +266,8 @@ class Player(Shape):
         """Height of the head's centre above the waist [m]; the neck meets the head at its own radius."""
         return self.torso_height + self.neck_length + math.sqrt(self.head_radius**2 - self.neck_radius**2)
 
-    def ears(self, standoff=0.0):
-        """Left and right ear positions [m], body frame: on the head at ±y, or ``standoff`` outside it.
+    def ears(self):
+        """Left and right ear positions [m], body frame: on the head at ±y.
 
         On the surface the solver takes the surface pressure itself (the
         pressure at a blocked ear canal's entrance).
@@ -277,7 +277,7 @@ class Player(Shape):
         >>> [round(v, 4) for v in Player().ears()[0]]
         [0.0, 0.0875, 0.6781]
         """
-        y = self.head_radius + standoff
+        y = self.head_radius
         return ((0.0, y, self.head_height), (0.0, -y, self.head_height))
 
     def bounding_radius(self):
